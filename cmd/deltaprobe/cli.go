@@ -1,0 +1,283 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strings"
+	"syscall"
+	"time"
+
+	"deltaprobe/report"
+	"deltaprobe/sim"
+)
+
+// Exit statuses.
+const (
+	exitOK          = 0
+	exitFailure     = 1
+	exitUsage       = 2
+	exitInterrupted = 130
+)
+
+const usage = `deltaprobe checks whether the delta-method approximation holds at your n.
+
+usage:
+  deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
+  deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
+  deltaprobe families               the data-generating families and their estimators
+  deltaprobe version
+
+Run "deltaprobe COMMAND -h" for a command's flags.
+`
+
+// run is the whole command, taking its arguments and writers so that tests
+// drive it in-process.
+func run(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		fmt.Fprint(stderr, usage)
+		return exitUsage
+	}
+	switch args[0] {
+	case "run":
+		return cmdRun(args[1:], stdout, stderr)
+	case "predict":
+		return cmdPredict(args[1:], stdout, stderr)
+	case "families":
+		return cmdFamilies(args[1:], stdout, stderr)
+	case "version":
+		fmt.Fprintln(stdout, "deltaprobe", sim.Version)
+		return exitOK
+	case "help", "-h", "-help", "--help":
+		fmt.Fprint(stdout, usage)
+		return exitOK
+	}
+	fmt.Fprintf(stderr, "deltaprobe: unknown command %q; accepted: run, predict, families, version\n", args[0])
+	return exitUsage
+}
+
+// parseInterspersed parses flags that may come before or after the
+// positional arguments: Go's flag package stops at the first
+// non-flag, so parse again after each one.
+func parseInterspersed(fs *flag.FlagSet, args []string) ([]string, error) {
+	var positional []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		rest := fs.Args()
+		if len(rest) == 0 {
+			return positional, nil
+		}
+		if rest[0] == "--" {
+			return append(positional, rest[1:]...), nil
+		}
+		positional = append(positional, rest[0])
+		args = rest[1:]
+	}
+}
+
+func newFlagSet(name, synopsis string, stderr io.Writer) *flag.FlagSet {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	fs.Usage = func() {
+		fmt.Fprintf(stderr, "usage: deltaprobe %s\n", synopsis)
+		fs.PrintDefaults()
+	}
+	return fs
+}
+
+// loadStudy loads one study file named as the only positional argument.
+func loadStudy(cmd string, positional []string, stderr io.Writer) (*sim.Study, int) {
+	if len(positional) != 1 {
+		fmt.Fprintf(stderr, "deltaprobe %s: give exactly one study file (got %d arguments)\n", cmd, len(positional))
+		return nil, exitUsage
+	}
+	s, err := sim.Load(positional[0])
+	if err != nil {
+		fmt.Fprintln(stderr, err)
+		return nil, exitUsage
+	}
+	return s, exitOK
+}
+
+func cmdRun(args []string, stdout, stderr io.Writer) int {
+	fs := newFlagSet("run", "run STUDY.toml [flags]", stderr)
+	out := fs.String("o", "", "output folder (default out/<study name>)")
+	workers := fs.Int("workers", 0, "worker goroutines (default: all cores)")
+	replicates := fs.Int("replicates", 0, "replicates per sample size, overriding the study file")
+	seed := fs.Int64("seed", -1, "seed, overriding the study file")
+	force := fs.Bool("force", false, "write into a non-empty output folder")
+	quiet := fs.Bool("quiet", false, "no progress on stderr")
+	positional, err := parseInterspersed(fs, args)
+	if err != nil {
+		return flagErr(err)
+	}
+	s, code := loadStudy("run", positional, stderr)
+	if s == nil {
+		return code
+	}
+	if *replicates != 0 {
+		if *replicates < sim.MinReplicates || *replicates > sim.MaxReplicates {
+			fmt.Fprintf(stderr, "deltaprobe run: -replicates %d is out of range: accepted are %d to %d\n", *replicates, sim.MinReplicates, sim.MaxReplicates)
+			return exitUsage
+		}
+		s.Replicates = *replicates
+	}
+	if *seed != -1 {
+		if *seed < 0 {
+			fmt.Fprintf(stderr, "deltaprobe run: -seed %d is out of range: accepted are whole numbers ≥ 0\n", *seed)
+			return exitUsage
+		}
+		s.Seed = uint64(*seed)
+	}
+	if *workers < 0 {
+		fmt.Fprintf(stderr, "deltaprobe run: -workers %d is out of range: give 1 or more (0 means all cores)\n", *workers)
+		return exitUsage
+	}
+	dir := *out
+	if dir == "" {
+		dir = filepath.Join("out", strings.TrimSuffix(filepath.Base(s.File), filepath.Ext(s.File)))
+	}
+	if err := checkOutDir(dir, *force); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
+		return exitUsage
+	}
+
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	opt := sim.Options{Workers: *workers}
+	if !*quiet {
+		opt.Progress = progressPrinter(stderr)
+	}
+	res, runErr := sim.Run(ctx, s, opt)
+	if !*quiet {
+		fmt.Fprintln(stderr)
+	}
+	if runErr != nil && !errors.Is(runErr, context.Canceled) {
+		fmt.Fprintf(stderr, "deltaprobe run: %v\n", runErr)
+		return exitFailure
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: creating output folder: %v\n", err)
+		return exitFailure
+	}
+	if err := sim.SaveResult(filepath.Join(dir, "result.json"), res); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
+		return exitFailure
+	}
+	if runErr != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: interrupted; the finished blocks are saved in %s\n", filepath.Join(dir, "result.json"))
+		return exitInterrupted
+	}
+	if err := report.Write(dir, res); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
+		return exitFailure
+	}
+	report.VerdictTable(stdout, res)
+	fmt.Fprintf(stderr, "wrote %s (summary.csv, verdicts.csv, result.json) in %.1fs\n", dir, res.Elapsed)
+	return exitOK
+}
+
+func flagErr(err error) int {
+	if errors.Is(err, flag.ErrHelp) {
+		return exitOK
+	}
+	return exitUsage
+}
+
+// checkOutDir refuses to write into a folder that already holds files,
+// unless forced, so an earlier run is never overwritten by accident.
+func checkOutDir(dir string, force bool) error {
+	entries, err := os.ReadDir(dir)
+	switch {
+	case errors.Is(err, os.ErrNotExist):
+		return nil
+	case err != nil:
+		st, statErr := os.Stat(dir)
+		if statErr == nil && !st.IsDir() {
+			return fmt.Errorf("output path %s exists and is not a folder", dir)
+		}
+		return fmt.Errorf("reading output folder: %w", err)
+	case len(entries) > 0 && !force:
+		return fmt.Errorf("output folder %s is not empty; choose another with -o, or add -force to overwrite", dir)
+	}
+	return nil
+}
+
+// progressPrinter reports progress at most a few times a second.
+func progressPrinter(w io.Writer) func(done, total int64) {
+	var last time.Time
+	start := time.Now()
+	return func(done, total int64) {
+		now := time.Now()
+		if done < total && now.Sub(last) < 250*time.Millisecond {
+			return
+		}
+		last = now
+		fmt.Fprintf(w, "\rsimulating: %5.1f%% of %.3g draws, %s", 100*float64(done)/float64(total), float64(total), now.Sub(start).Round(100*time.Millisecond))
+	}
+}
+
+func cmdPredict(args []string, stdout, stderr io.Writer) int {
+	fs := newFlagSet("predict", "predict STUDY.toml", stderr)
+	positional, err := parseInterspersed(fs, args)
+	if err != nil {
+		return flagErr(err)
+	}
+	s, code := loadStudy("predict", positional, stderr)
+	if s == nil {
+		return code
+	}
+	report.PredictTable(stdout, sim.NewResult(s))
+	return exitOK
+}
+
+func cmdFamilies(args []string, stdout, stderr io.Writer) int {
+	fs := newFlagSet("families", "families", stderr)
+	positional, err := parseInterspersed(fs, args)
+	if err != nil {
+		return flagErr(err)
+	}
+	if len(positional) > 0 {
+		fmt.Fprintf(stderr, "deltaprobe families: takes no arguments (got %q)\n", positional)
+		return exitUsage
+	}
+	for _, f := range sim.Families() {
+		fmt.Fprintf(stdout, "%s — %s\n", f.Name, f.Summary)
+		for _, p := range f.Params {
+			fmt.Fprintf(stdout, "    %-8s %s\n", p.Name, p.Accepts)
+		}
+		fmt.Fprintf(stdout, "    estimates: %s\n", strings.Join(familyParams(f), ", "))
+		fmt.Fprintf(stdout, "    estimator: %s\n\n", f.Estimator)
+	}
+	return exitOK
+}
+
+// familyParams names what a family estimates, building a model at
+// harmless values only to ask it.
+func familyParams(f *sim.Family) []string {
+	values := map[string]float64{}
+	for _, p := range f.Params {
+		values[p.Name] = representative(p)
+	}
+	m, err := f.New(values)
+	if err != nil {
+		return nil
+	}
+	return m.Params()
+}
+
+func representative(p sim.ParamSpec) float64 {
+	for _, v := range []float64{0.5, 1, 2, 0} {
+		if p.Check(v) && (!p.Integer || v == float64(int(v))) {
+			return v
+		}
+	}
+	return 1
+}

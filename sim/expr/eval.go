@@ -1,0 +1,180 @@
+package expr
+
+import (
+	"fmt"
+	"math"
+)
+
+// Evaluator holds the scratch space that evaluating one Program needs: a
+// value per slot and, for ValueGrad, a Dim()-long gradient row per slot, all
+// allocated once. It is not safe for concurrent use; give each goroutine its
+// own.
+type Evaluator struct {
+	prog *Program
+	val  []float64
+	grad []float64 // slot s owns grad[s*dim : (s+1)*dim]
+}
+
+// NewEvaluator allocates the scratch space for evaluating p.
+func (p *Program) NewEvaluator() *Evaluator {
+	return &Evaluator{
+		prog: p,
+		val:  make([]float64, p.slots),
+		grad: make([]float64, p.slots*p.dim),
+	}
+}
+
+func (e *Evaluator) checkLength(what string, got int) {
+	if got != e.prog.dim {
+		panic(fmt.Sprintf("expr: %s has length %d, but %q has %d parameters", what, got, e.prog.src, e.prog.dim))
+	}
+}
+
+// Value returns τ(x) without derivatives. It allocates nothing.
+func (e *Evaluator) Value(x []float64) float64 {
+	e.checkLength("x", len(x))
+	val := e.val
+	for i := range e.prog.code {
+		in := &e.prog.code[i]
+		d := int(in.dst)
+		switch in.op {
+		case opConst:
+			val[d] = in.k
+		case opVar:
+			val[d] = x[in.arg]
+		case opAdd, opSub, opMul, opDiv, opPow:
+			val[d] = applyBinary(in.op, val[d], val[d+1])
+		default:
+			val[d] = applyUnary(in.op, val[d], in.k)
+		}
+	}
+	return val[0]
+}
+
+// ValueGrad returns τ(x) and writes its exact gradient into grad, which must
+// have length Dim(). It allocates nothing: this is the per-replicate path.
+func (e *Evaluator) ValueGrad(x, grad []float64) float64 {
+	e.checkLength("x", len(x))
+	e.checkLength("grad", len(grad))
+	n := e.prog.dim
+	val, gs := e.val, e.grad
+	for i := range e.prog.code {
+		in := &e.prog.code[i]
+		d := int(in.dst)
+		g := gs[d*n : d*n+n]
+		u := val[d]
+		switch in.op {
+		case opConst:
+			val[d] = in.k
+			clear(g)
+		case opVar:
+			val[d] = x[in.arg]
+			clear(g)
+			g[in.arg] = 1
+		case opAdd:
+			val[d] = u + val[d+1]
+			h := gs[d*n+n : d*n+2*n]
+			for j := range g {
+				g[j] += h[j]
+			}
+		case opSub:
+			val[d] = u - val[d+1]
+			h := gs[d*n+n : d*n+2*n]
+			for j := range g {
+				g[j] -= h[j]
+			}
+		case opMul:
+			v := val[d+1]
+			val[d] = u * v
+			combine(g, gs[d*n+n:d*n+2*n], v, u)
+		case opDiv:
+			v := val[d+1]
+			w := u / v
+			du := 1 / v
+			val[d] = w
+			combine(g, gs[d*n+n:d*n+2*n], du, -w*du)
+		case opPow:
+			v := val[d+1]
+			w := math.Pow(u, v)
+			val[d] = w
+			combine(g, gs[d*n+n:d*n+2*n], v*math.Pow(u, v-1), w*math.Log(u))
+		case opNeg:
+			val[d] = -u
+			scale(g, -1)
+		case opAddK:
+			val[d] = u + in.k
+		case opMulK:
+			val[d] = u * in.k
+			scale(g, in.k)
+		case opDivK:
+			val[d] = u / in.k
+			scale(g, 1/in.k)
+		case opRSubK:
+			val[d] = in.k - u
+			scale(g, -1)
+		case opRDivK:
+			w := in.k / u
+			val[d] = w
+			scale(g, -w/u)
+		case opSquare:
+			val[d] = u * u
+			scale(g, 2*u)
+		case opPowK:
+			val[d] = math.Pow(u, in.k)
+			scale(g, powKDeriv(u, in.k))
+		case opLog:
+			val[d] = math.Log(u)
+			scale(g, 1/u)
+		case opExp:
+			w := math.Exp(u)
+			val[d] = w
+			scale(g, w)
+		case opSqrt:
+			w := math.Sqrt(u)
+			val[d] = w
+			scale(g, 0.5/w)
+		case opLog1p:
+			val[d] = math.Log1p(u)
+			scale(g, 1/(1+u))
+		case opExpm1:
+			val[d] = math.Expm1(u)
+			scale(g, math.Exp(u))
+		case opLogit:
+			val[d] = logit(u)
+			scale(g, logitDeriv(u))
+		case opExpit:
+			s, c := expitPair(u)
+			val[d] = s
+			scale(g, s*c)
+		case opTanh:
+			val[d] = math.Tanh(u)
+			scale(g, tanhDeriv(u))
+		case opAtanh:
+			val[d] = math.Atanh(u)
+			scale(g, atanhDeriv(u))
+		case opPhi:
+			val[d] = phi(u)
+			scale(g, normalDensity(u))
+		default:
+			panic(fmt.Sprintf("expr: ValueGrad met opcode %d", in.op))
+		}
+	}
+	copy(grad, gs[:n])
+	return val[0]
+}
+
+// combine sets g = a·g + b·h, the chain rule for a two-operand op with
+// partials a and b.
+func combine(g, h []float64, a, b float64) {
+	h = h[:len(g)]
+	for j := range g {
+		g[j] = a*g[j] + b*h[j]
+	}
+}
+
+// scale sets g = a·g, the chain rule for a one-operand op with derivative a.
+func scale(g []float64, a float64) {
+	for j := range g {
+		g[j] *= a
+	}
+}

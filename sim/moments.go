@@ -1,0 +1,55 @@
+package sim
+
+// Moments holds a count, mean and central sums M2, M3, M4 that can be
+// updated one value at a time and merged pairwise, with the one-pass
+// formulas of Pébay (2008, Sandia report SAND2008-6212, eqs. 2.1–2.4, from
+// memory) that generalise Chan, Golub & LeVeque (1979). Merging in a fixed
+// order gives the same bits whatever the number of workers.
+type Moments struct {
+	N    int64   `json:"n"`
+	Mean float64 `json:"mean"`
+	M2   float64 `json:"m2"`
+	M3   float64 `json:"m3"`
+	M4   float64 `json:"m4"`
+}
+
+// Add folds one value in.
+func (m *Moments) Add(x float64) {
+	n1 := float64(m.N)
+	m.N++
+	n := float64(m.N)
+	delta := x - m.Mean
+	dn := delta / n
+	dn2 := dn * dn
+	term1 := delta * dn * n1
+	m.Mean += dn
+	m.M4 += term1*dn2*(n*n-3*n+3) + 6*dn2*m.M2 - 4*dn*m.M3
+	m.M3 += term1*dn*(n-2) - 3*dn*m.M2
+	m.M2 += term1
+}
+
+// Merge folds another set of moments in, as if its values had been added
+// after this one's.
+func (m *Moments) Merge(o Moments) {
+	if o.N == 0 {
+		return
+	}
+	if m.N == 0 {
+		*m = o
+		return
+	}
+	na, nb := float64(m.N), float64(o.N)
+	n := na + nb
+	delta := o.Mean - m.Mean
+	d2 := delta * delta
+	mean := m.Mean + delta*nb/n
+	m2 := m.M2 + o.M2 + d2*na*nb/n
+	m3 := m.M3 + o.M3 + d2*delta*na*nb*(na-nb)/(n*n) + 3*delta*(na*o.M2-nb*m.M2)/n
+	m4 := m.M4 + o.M4 + d2*d2*na*nb*(na*na-na*nb+nb*nb)/(n*n*n) +
+		6*d2*(na*na*o.M2+nb*nb*m.M2)/(n*n) + 4*delta*(na*o.M3-nb*m.M3)/n
+	m.N += o.N
+	m.Mean, m.M2, m.M3, m.M4 = mean, m2, m3, m4
+}
+
+// Var is the sample variance with divisor N − 1.
+func (m *Moments) Var() float64 { return m.M2 / float64(m.N-1) }

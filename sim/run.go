@@ -1,0 +1,346 @@
+package sim
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"runtime/debug"
+	"sort"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"deltaprobe/sim/expr"
+)
+
+// BlockSize is the number of replicates in one block, the unit of work,
+// seeding and merging. Changing it changes every result.
+const BlockSize = 1000
+
+// Version is the tool version recorded in results.
+var Version = "0.1.0"
+
+// Options control how a study runs; none of them changes its numbers.
+type Options struct {
+	Workers int // goroutines; 0 means GOMAXPROCS
+	// Progress, if set, is called after each block with the draws done
+	// and the draws in all; calls come from worker goroutines, one at a time.
+	Progress func(done, total int64)
+}
+
+// Blocks returns the number of blocks for r replicates.
+func Blocks(r int) int { return (r + BlockSize - 1) / BlockSize }
+
+// blockSeeds derives the two PCG seeds of a block from the study seed,
+// the sample size and the block index by SplitMix64 finalisers (Steele,
+// Lea & Flood 2014), so neighbouring blocks get unrelated streams. The
+// sample size itself, not its place in the grid, enters, so adding a
+// point to the grid changes no other point's numbers.
+func blockSeeds(seed uint64, n, block int) (uint64, uint64) {
+	a := splitMix(seed ^ splitMix(uint64(n)))
+	b := splitMix(a ^ splitMix(uint64(block)+0x9e3779b97f4a7c15))
+	return a, b
+}
+
+func splitMix(x uint64) uint64 {
+	x += 0x9e3779b97f4a7c15
+	x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9
+	x = (x ^ (x >> 27)) * 0x94d049bb133111eb
+	return x ^ (x >> 31)
+}
+
+// NewResult returns an empty result for s: predictions filled in, no
+// blocks yet.
+func NewResult(s *Study) *Result {
+	r := &Result{
+		Layout:    ResultVersion,
+		Tool:      Version,
+		Study:     s.Info(),
+		BlockSize: BlockSize,
+	}
+	for t := range s.Transforms {
+		var preds []Prediction
+		var cells []*Cell
+		for _, n := range s.SampleSizes {
+			preds = append(preds, s.Predict(t, n))
+			cells = append(cells, &Cell{N: n, Delta: newHistogram(), Wald: newHistogram()})
+		}
+		r.Predictions = append(r.Predictions, preds)
+		r.Cells = append(r.Cells, cells)
+	}
+	return r
+}
+
+// Info describes the study for the result file.
+func (s *Study) Info() StudyInfo {
+	info := StudyInfo{
+		File: s.File, SHA256: s.SHA256, Source: string(s.Source),
+		Title: s.Title, Description: s.Description, Seed: s.Seed,
+		Replicates: s.Replicates, Level: s.Level,
+		SampleSizes: append([]int(nil), s.SampleSizes...), Criteria: s.Criteria,
+	}
+	for _, a := range s.Arms {
+		info.Arms = append(info.Arms, ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation})
+	}
+	for _, t := range s.Transforms {
+		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr})
+	}
+	return info
+}
+
+type job struct{ ni, block, count int }
+
+// Run simulates every block of the study and returns the merged result.
+// It stops early, returning ctx.Err() and the blocks finished so far, when
+// ctx is cancelled.
+func Run(ctx context.Context, s *Study, opt Options) (*Result, error) {
+	start := time.Now()
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	res := NewResult(s)
+	res.Workers = workers
+
+	var jobs []job
+	var total int64
+	for ni, n := range s.SampleSizes {
+		for b := 0; b < Blocks(s.Replicates); b++ {
+			count := min(BlockSize, s.Replicates-b*BlockSize)
+			jobs = append(jobs, job{ni, b, count})
+			total += int64(count) * int64(s.drawsPerReplicate(n))
+		}
+	}
+	// Largest sample sizes first, so no worker is left with a long block
+	// at the end.
+	sort.SliceStable(jobs, func(i, j int) bool { return jobs[i].ni > jobs[j].ni })
+
+	var (
+		next     atomic.Int64
+		done     atomic.Int64
+		mu       sync.Mutex // guards res.Cells and the progress callback
+		wg       sync.WaitGroup
+		firstErr error
+		errOnce  sync.Once
+	)
+	fail := func(err error) { errOnce.Do(func() { firstErr = err }) }
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			wk := newWorker(s, res)
+			for {
+				if ctx.Err() != nil {
+					return
+				}
+				i := int(next.Add(1) - 1)
+				if i >= len(jobs) {
+					return
+				}
+				j := jobs[i]
+				if err := wk.safeRun(j); err != nil {
+					fail(err)
+					next.Store(int64(len(jobs)))
+					return
+				}
+				mu.Lock()
+				wk.flush(j)
+				d := done.Add(int64(j.count) * int64(s.drawsPerReplicate(s.SampleSizes[j.ni])))
+				if opt.Progress != nil {
+					opt.Progress(d, total)
+				}
+				mu.Unlock()
+			}
+		}()
+	}
+	wg.Wait()
+	res.Elapsed = time.Since(start).Seconds()
+	for t := range res.Cells {
+		for _, c := range res.Cells[t] {
+			sort.Slice(c.Blocks, func(i, j int) bool { return c.Blocks[i].Block < c.Blocks[j].Block })
+		}
+	}
+	if firstErr != nil {
+		return res, firstErr
+	}
+	if err := ctx.Err(); err != nil {
+		return res, err
+	}
+	res.Complete = true
+	return res, nil
+}
+
+func (s *Study) drawsPerReplicate(n int) int {
+	d := 0
+	for a := range s.Arms {
+		d += s.ArmSize(a, n)
+	}
+	return d
+}
+
+// worker owns every buffer one goroutine needs, so a replicate allocates
+// nothing.
+type worker struct {
+	s      *Study
+	res    *Result
+	pcg    *rand.PCG
+	rng    *rand.Rand
+	z      float64 // normal quantile of the Wald interval
+	theta  []float64
+	grad   []float64
+	covs   [][]float64
+	sizes  []int
+	evals  []*expr.Evaluator
+	accs   []cellAcc
+	useArm [][]bool // [transform][arm]: whether the transform reads the arm
+}
+
+// cellAcc accumulates one transform over one block.
+type cellAcc struct {
+	truth, sdDelta                                  float64
+	undefined, fitFail, zeroSE, covered, below, abv int64
+	mom                                             Moments
+	pluginSum                                       float64
+	delta, wald                                     Histogram
+}
+
+func newWorker(s *Study, res *Result) *worker {
+	w := &worker{s: s, res: res, pcg: rand.NewPCG(0, 0)}
+	w.rng = rand.New(w.pcg)
+	w.z = math.Sqrt2 * math.Erfinv(s.Level)
+	w.theta = make([]float64, s.Dim())
+	w.grad = make([]float64, s.Dim())
+	w.sizes = make([]int, len(s.Arms))
+	for _, a := range s.Arms {
+		k := len(a.Model.Params())
+		w.covs = append(w.covs, make([]float64, k*k))
+	}
+	for _, t := range s.Transforms {
+		w.evals = append(w.evals, t.Program.NewEvaluator())
+		w.accs = append(w.accs, cellAcc{delta: newHistogram(), wald: newHistogram()})
+		use := make([]bool, len(s.Arms))
+		for ai, a := range s.Arms {
+			for i := range a.Model.Params() {
+				if t.Program.Uses(a.Offset + i) {
+					use[ai] = true
+				}
+			}
+		}
+		w.useArm = append(w.useArm, use)
+	}
+	return w
+}
+
+// safeRun turns a panic in a family or transform into an error that names
+// the cell, so one bad replicate fails the run instead of hanging it.
+func (w *worker) safeRun(j job) (err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			err = fmt.Errorf("internal error at n=%d, block %d: %v\n%s", w.s.SampleSizes[j.ni], j.block, p, debug.Stack())
+		}
+	}()
+	w.runBlock(j)
+	return nil
+}
+
+func (w *worker) runBlock(j job) {
+	s := w.s
+	n := s.SampleSizes[j.ni]
+	s1, s2 := blockSeeds(s.Seed, n, j.block)
+	w.pcg.Seed(s1, s2)
+	for a := range s.Arms {
+		w.sizes[a] = s.ArmSize(a, n)
+	}
+	for t := range w.accs {
+		acc := &w.accs[t]
+		p := w.res.Predictions[t][j.ni]
+		*acc = cellAcc{truth: p.Truth, sdDelta: math.Sqrt(p.DeltaVar), delta: acc.delta, wald: acc.wald}
+		acc.delta.reset()
+		acc.wald.reset()
+	}
+	for r := 0; r < j.count; r++ {
+		w.replicate()
+	}
+}
+
+// replicate draws every arm, fits it, and scores every transform.
+func (w *worker) replicate() {
+	s := w.s
+	fitted := true
+	for a, arm := range s.Arms {
+		theta := w.theta[arm.Offset:]
+		if !arm.Model.Fit(w.rng, w.sizes[a], theta) {
+			fitted = false
+			continue
+		}
+		arm.Model.Cov(theta, w.covs[a])
+	}
+	for t := range w.accs {
+		acc := &w.accs[t]
+		if !fitted {
+			acc.undefined++
+			acc.fitFail++
+			continue
+		}
+		v := w.evals[t].ValueGrad(w.theta, w.grad)
+		var pv float64
+		for a, arm := range s.Arms {
+			if !w.useArm[t][a] {
+				continue
+			}
+			k := len(arm.Model.Params())
+			pv += quadForm(w.grad[arm.Offset:arm.Offset+k], w.covs[a]) / float64(w.sizes[a])
+		}
+		acc.add(v, pv, w.z)
+	}
+}
+
+func (acc *cellAcc) add(v, pv, z float64) {
+	if math.IsNaN(v) || math.IsInf(v, 0) || math.IsNaN(pv) || math.IsInf(pv, 0) || pv < 0 {
+		acc.undefined++
+		return
+	}
+	se := math.Sqrt(pv)
+	if se == 0 {
+		acc.zeroSE++
+	}
+	switch lo, hi := v-z*se, v+z*se; {
+	case hi < acc.truth:
+		acc.below++
+	case lo > acc.truth:
+		acc.abv++
+	default:
+		acc.covered++
+	}
+	acc.mom.Add(v)
+	acc.pluginSum += pv
+	dev := v - acc.truth
+	acc.delta.Add(dev / acc.sdDelta)
+	acc.wald.Add(dev / se)
+}
+
+// flush merges the worker's block into the result; the caller holds the
+// result's lock.
+func (w *worker) flush(j job) {
+	for t := range w.accs {
+		acc := &w.accs[t]
+		c := w.res.Cells[t][j.ni]
+		c.Replicates += int64(j.count)
+		c.Undefined += acc.undefined
+		c.FitFailures += acc.fitFail
+		c.ZeroSE += acc.zeroSE
+		c.Covered += acc.covered
+		c.MissBelow += acc.below
+		c.MissAbove += acc.abv
+		c.Delta.Merge(&acc.delta)
+		c.Wald.Merge(&acc.wald)
+		b := BlockStat{Block: j.block, N: acc.mom.N, Mean: acc.mom.Mean, M2: acc.mom.M2, M3: acc.mom.M3, M4: acc.mom.M4}
+		if acc.mom.N > 0 {
+			b.PluginVar = acc.pluginSum / float64(acc.mom.N)
+		}
+		c.Blocks = append(c.Blocks, b)
+		c.mergedCache = nil
+	}
+}

@@ -1,0 +1,685 @@
+package sim
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"regexp"
+	"sort"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+
+	"deltaprobe/sim/expr"
+)
+
+// Limits on what a study may ask for; beyond them a typo is more likely
+// than intent.
+const (
+	MinReplicates  = 100
+	MaxReplicates  = 100_000_000
+	MaxSampleSize  = 10_000_000
+	MaxGridPoints  = 200
+	MaxTransforms  = 64
+	MaxArms        = 16
+	maxAllocation  = 1000.0
+	maxNameLength  = 64
+	defaultLevel   = 0.95
+	defaultRepl    = 10000
+	defaultStdBias = 0.1
+)
+
+// Study is a validated study file, ready to run.
+type Study struct {
+	File        string // the path it was loaded from
+	Source      []byte // the file's bytes, as run
+	SHA256      string // hex digest of Source
+	Title       string
+	Description string
+	Seed        uint64
+	Replicates  int
+	SampleSizes []int
+	Level       float64
+	Arms        []Arm
+	Transforms  []Transform
+	Criteria    Criteria
+}
+
+// Arm is one independent sample of the study; a study with a [model]
+// table has one arm with an empty name.
+type Arm struct {
+	Name       string
+	Family     string
+	Values     map[string]float64 // the family's parameters, as given
+	Allocation float64            // arm size = ceil(n × Allocation)
+	Model      Model
+	Offset     int // index of the arm's first parameter in θ
+}
+
+// Transform is one function of θ whose delta-method interval is checked.
+type Transform struct {
+	Name    string
+	Expr    string
+	Program *expr.Program
+}
+
+// Criteria are the bands inside which the approximation is adequate.
+type Criteria struct {
+	Coverage [2]float64 `json:"coverage"`  // band for the Wald coverage
+	VarRatio [2]float64 `json:"var_ratio"` // band for delta_var / emp_var
+	StdBias  float64    `json:"std_bias"`  // bound on |bias| / sqrt(delta_var)
+}
+
+// DefaultCriteria returns Bradley's (1978) liberal band for the coverage
+// at the given level, [1 − 1.5α, 1 − 0.5α], and the common-practice bands
+// for the variance ratio and standardised bias.
+func DefaultCriteria(level float64) Criteria {
+	alpha := 1 - level
+	return Criteria{
+		Coverage: [2]float64{1 - 1.5*alpha, 1 - 0.5*alpha},
+		VarRatio: [2]float64{0.9, 1.1},
+		StdBias:  defaultStdBias,
+	}
+}
+
+// ParamNames returns the names of θ's entries as transforms use them:
+// the family's names for a one-sample study, "arm.param" otherwise.
+func (s *Study) ParamNames() []string {
+	var names []string
+	for _, a := range s.Arms {
+		for _, p := range a.Model.Params() {
+			if a.Name == "" {
+				names = append(names, p)
+			} else {
+				names = append(names, a.Name+"."+p)
+			}
+		}
+	}
+	return names
+}
+
+// Dim is the length of θ.
+func (s *Study) Dim() int {
+	d := 0
+	for _, a := range s.Arms {
+		d += len(a.Model.Params())
+	}
+	return d
+}
+
+// ArmSize is the number of observations arm a draws at sample size n.
+func (s *Study) ArmSize(a, n int) int {
+	return int(math.Ceil(float64(n) * s.Arms[a].Allocation))
+}
+
+// Load reads, decodes and validates a study file. Every problem found is
+// returned at once, as StudyErrors, each with the file and line.
+func Load(path string) (*Study, error) {
+	src, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("reading study file: %w", err)
+	}
+	return Parse(path, src)
+}
+
+// Parse validates study-file bytes; name is used in messages.
+func Parse(name string, src []byte) (*Study, error) {
+	raw := map[string]any{}
+	if _, err := toml.Decode(string(src), &raw); err != nil {
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			return nil, StudyErrors{{File: name, Line: pe.Position.Line, Col: pe.Position.Col,
+				Msg: "not valid TOML: " + pe.Message}}
+		}
+		return nil, StudyErrors{{File: name, Msg: "not valid TOML: " + err.Error()}}
+	}
+	sum := sha256.Sum256(src)
+	d := &decoder{file: name, lines: scanKeyLines(src)}
+	s := &Study{File: name, Source: src, SHA256: hex.EncodeToString(sum[:])}
+	d.study(raw, s)
+	if len(d.errs) > 0 {
+		return nil, d.errs.sorted()
+	}
+	return s, nil
+}
+
+// decoder walks the generic TOML tree, collecting every problem.
+type decoder struct {
+	file  string
+	lines keyLines
+	errs  StudyErrors
+}
+
+func (d *decoder) fail(path, format string, args ...any) {
+	d.errs = append(d.errs, &StudyError{File: d.file, Line: d.lines.line(path), Msg: fmt.Sprintf(format, args...)})
+}
+
+var topKeys = []string{"title", "description", "seed", "replicates", "sample_sizes", "level", "model", "arm", "transform", "criteria"}
+
+func (d *decoder) study(raw map[string]any, s *Study) {
+	d.unknownKeys("", raw, topKeys)
+	s.Title = d.str(raw, "", "title", strings.TrimSuffix(filepath.Base(s.File), filepath.Ext(s.File)))
+	s.Description = d.str(raw, "", "description", "")
+
+	if _, ok := raw["seed"]; !ok {
+		d.fail("", "seed is missing: give a whole number from 0 to %d that fixes the random streams", int64(math.MaxInt64))
+	} else if v, ok := d.integer(raw, "", "seed", 0, math.MaxInt64); ok {
+		s.Seed = uint64(v)
+	}
+	s.Replicates = defaultRepl
+	if v, ok := d.integer(raw, "", "replicates", MinReplicates, MaxReplicates); ok {
+		s.Replicates = int(v)
+	}
+	s.Level = defaultLevel
+	if v, ok := d.number(raw, "", "level"); ok {
+		if !(v > 0 && v < 1) {
+			d.fail("level", "level = %v is out of range: the nominal level of the Wald intervals must lie strictly between 0 and 1, e.g. 0.95", v)
+		} else {
+			s.Level = v
+		}
+	}
+	s.SampleSizes = d.grid(raw)
+	d.arms(raw, s)
+	d.transforms(raw, s)
+	s.Criteria = d.criteria(raw, s.Level)
+}
+
+func (d *decoder) unknownKeys(table string, m map[string]any, accepted []string) {
+	var keys []string
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		found := false
+		for _, a := range accepted {
+			if k == a {
+				found = true
+				break
+			}
+		}
+		if !found {
+			where := "at the top level"
+			if table != "" {
+				where = "in [" + tableLabel(table) + "]"
+			}
+			d.fail(join(table, k), "unknown key %q %s%s", k, where, didYouMean(k, accepted))
+		}
+	}
+}
+
+func tableLabel(path string) string {
+	if i := strings.IndexByte(path, '['); i >= 0 {
+		return "[" + path[:i] + "]"
+	}
+	return path
+}
+
+func join(table, key string) string {
+	if table == "" {
+		return key
+	}
+	return table + "." + key
+}
+
+func typeName(v any) string {
+	switch v.(type) {
+	case string:
+		return "a string"
+	case int64:
+		return "an integer"
+	case float64:
+		return "a number"
+	case bool:
+		return "a boolean"
+	case []any, []map[string]any:
+		return "an array"
+	case map[string]any:
+		return "a table"
+	}
+	return fmt.Sprintf("a %T", v)
+}
+
+func (d *decoder) str(m map[string]any, table, key, def string) string {
+	v, ok := m[key]
+	if !ok {
+		return def
+	}
+	s, ok := v.(string)
+	if !ok {
+		d.fail(join(table, key), "%s must be a string in quotes, got %s", key, typeName(v))
+		return def
+	}
+	return s
+}
+
+// number accepts a TOML integer or float.
+func (d *decoder) number(m map[string]any, table, key string) (float64, bool) {
+	v, ok := m[key]
+	if !ok {
+		return 0, false
+	}
+	switch x := v.(type) {
+	case int64:
+		return float64(x), true
+	case float64:
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			d.fail(join(table, key), "%s = %v is not a finite number", key, x)
+			return 0, false
+		}
+		return x, true
+	}
+	d.fail(join(table, key), "%s must be a number, got %s", key, typeName(v))
+	return 0, false
+}
+
+// integer accepts a TOML integer (or a float with no fractional part) in [lo, hi].
+func (d *decoder) integer(m map[string]any, table, key string, lo, hi int64) (int64, bool) {
+	v, ok := m[key]
+	if !ok {
+		return 0, false
+	}
+	var n int64
+	switch x := v.(type) {
+	case int64:
+		n = x
+	case float64:
+		if x != math.Trunc(x) || math.Abs(x) > 1<<53 {
+			d.fail(join(table, key), "%s = %v must be a whole number from %d to %d", key, x, lo, hi)
+			return 0, false
+		}
+		n = int64(x)
+	default:
+		d.fail(join(table, key), "%s must be a whole number from %d to %d, got %s", key, lo, hi, typeName(v))
+		return 0, false
+	}
+	if n < lo || n > hi {
+		d.fail(join(table, key), "%s = %d is out of range: accepted are whole numbers from %d to %d", key, n, lo, hi)
+		return 0, false
+	}
+	return n, true
+}
+
+func (d *decoder) grid(raw map[string]any) []int {
+	v, ok := raw["sample_sizes"]
+	if !ok {
+		d.fail("", "sample_sizes is missing: give the grid of sample sizes to check, e.g. sample_sizes = [10, 20, 40, 80]")
+		return nil
+	}
+	list, ok := v.([]any)
+	if !ok {
+		d.fail("sample_sizes", "sample_sizes must be an array of whole numbers, e.g. [10, 20, 40], got %s", typeName(v))
+		return nil
+	}
+	if len(list) == 0 {
+		d.fail("sample_sizes", "sample_sizes is empty: give at least one sample size of 2 or more")
+		return nil
+	}
+	if len(list) > MaxGridPoints {
+		d.fail("sample_sizes", "sample_sizes has %d entries; at most %d are accepted", len(list), MaxGridPoints)
+		return nil
+	}
+	var grid []int
+	for i, e := range list {
+		var n int64
+		switch x := e.(type) {
+		case int64:
+			n = x
+		case float64:
+			if x != math.Trunc(x) {
+				d.fail("sample_sizes", "sample_sizes entry %d is %v: sample sizes must be whole numbers", i+1, x)
+				return nil
+			}
+			n = int64(x)
+		default:
+			d.fail("sample_sizes", "sample_sizes entry %d is %s: sample sizes must be whole numbers", i+1, typeName(e))
+			return nil
+		}
+		if n < 2 || n > MaxSampleSize {
+			d.fail("sample_sizes", "sample_sizes entry %d is %d: accepted are whole numbers from 2 to %d", i+1, n, MaxSampleSize)
+			return nil
+		}
+		if len(grid) > 0 && int(n) <= grid[len(grid)-1] {
+			if int(n) == grid[len(grid)-1] {
+				d.fail("sample_sizes", "sample_sizes lists %d twice: each sample size must appear once", n)
+			} else {
+				d.fail("sample_sizes", "sample_sizes must be in increasing order: %d comes after %d", n, grid[len(grid)-1])
+			}
+			return nil
+		}
+		grid = append(grid, int(n))
+	}
+	return grid
+}
+
+var armNamePattern = regexp.MustCompile(`^[A-Za-z_][A-Za-z0-9_]*$`)
+
+func (d *decoder) arms(raw map[string]any, s *Study) {
+	modelRaw, hasModel := raw["model"]
+	armRaw, hasArms := raw["arm"]
+	switch {
+	case hasModel && hasArms:
+		d.fail("arm", "a study has either one [model] table or several [[arm]] tables, not both")
+		return
+	case !hasModel && !hasArms:
+		d.fail("", "the data-generating model is missing: add a [model] table, or [[arm]] tables for several samples")
+		return
+	case hasModel:
+		m, ok := modelRaw.(map[string]any)
+		if !ok {
+			d.fail("model", "model must be a table ([model]), got %s", typeName(modelRaw))
+			return
+		}
+		if a, ok := d.arm("model", m, false); ok {
+			s.Arms = []Arm{a}
+		}
+	default:
+		list, ok := armRaw.([]map[string]any)
+		if !ok {
+			d.fail("arm", "arm must be an array of tables ([[arm]]), got %s", typeName(armRaw))
+			return
+		}
+		if len(list) > MaxArms {
+			d.fail("arm", "%d arms given; at most %d are accepted", len(list), MaxArms)
+			return
+		}
+		seen := map[string]bool{}
+		for i, m := range list {
+			table := fmt.Sprintf("arm[%d]", i)
+			a, ok := d.arm(table, m, true)
+			if !ok {
+				continue
+			}
+			if seen[a.Name] {
+				d.fail(join(table, "name"), "arm name %q is used twice: each arm needs its own name", a.Name)
+				continue
+			}
+			seen[a.Name] = true
+			s.Arms = append(s.Arms, a)
+		}
+		if len(s.Arms) != len(list) {
+			s.Arms = nil
+		}
+	}
+	off := 0
+	for i := range s.Arms {
+		s.Arms[i].Offset = off
+		off += len(s.Arms[i].Model.Params())
+	}
+}
+
+func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
+	a := Arm{Allocation: 1, Values: map[string]float64{}}
+	ok := true
+	label := "[model]"
+	if named {
+		label = "[[arm]]"
+		name := d.str(m, table, "name", "")
+		switch {
+		case name == "":
+			if _, given := m["name"]; !given {
+				d.fail(table, "this [[arm]] has no name: add name = \"...\" (letters, digits and _, starting with a letter)")
+			}
+			ok = false
+		case !armNamePattern.MatchString(name) || len(name) > maxNameLength:
+			d.fail(join(table, "name"), "arm name %q is not accepted: use letters, digits and _, starting with a letter or _, at most %d characters", name, maxNameLength)
+			ok = false
+		}
+		a.Name = name
+		if v, given := d.number(m, table, "allocation"); given {
+			if !(v > 0 && v <= maxAllocation) {
+				d.fail(join(table, "allocation"), "allocation = %v is out of range: the arm's share of n must be > 0 and at most %v", v, maxAllocation)
+				ok = false
+			} else {
+				a.Allocation = v
+			}
+		}
+	}
+	famRaw, given := m["family"]
+	if !given {
+		d.fail(table, "%s has no family: add family = \"...\"; accepted: %s", label, strings.Join(FamilyNames(), ", "))
+		return a, false
+	}
+	famName, isStr := famRaw.(string)
+	if !isStr {
+		d.fail(join(table, "family"), "family must be a string, got %s; accepted: %s", typeName(famRaw), strings.Join(FamilyNames(), ", "))
+		return a, false
+	}
+	fam, known := LookupFamily(famName)
+	if !known {
+		d.fail(join(table, "family"), "unknown family %q%s", famName, didYouMean(famName, FamilyNames()))
+		return a, false
+	}
+	a.Family = famName
+	accepted := []string{"family"}
+	if named {
+		accepted = append(accepted, "name", "allocation")
+	}
+	var paramNames []string
+	for _, p := range fam.Params {
+		paramNames = append(paramNames, p.Name)
+	}
+	accepted = append(accepted, paramNames...)
+	d.unknownKeysFamily(table, m, accepted, fam)
+	for _, p := range fam.Params {
+		if _, present := m[p.Name]; !present {
+			d.fail(table, "%s family %s needs %s (%s); its parameters are %s", label, fam.Name, p.Name, p.Accepts, strings.Join(paramNames, ", "))
+			ok = false
+			continue
+		}
+		v, good := d.number(m, table, p.Name)
+		if !good {
+			ok = false
+			continue
+		}
+		if (p.Integer && v != math.Trunc(v)) || !p.Check(v) {
+			d.fail(join(table, p.Name), "%s = %v is out of range for the %s family: accepted is %s", p.Name, v, fam.Name, p.Accepts)
+			ok = false
+			continue
+		}
+		a.Values[p.Name] = v
+	}
+	if !ok {
+		return a, false
+	}
+	model, err := fam.New(a.Values)
+	if err != nil {
+		d.fail(table, "%s: %v", label, err)
+		return a, false
+	}
+	a.Model = model
+	return a, true
+}
+
+func (d *decoder) unknownKeysFamily(table string, m map[string]any, accepted []string, fam *Family) {
+	var keys []string
+	for k := range m {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		found := false
+		for _, a := range accepted {
+			if k == a {
+				found = true
+			}
+		}
+		if !found {
+			d.fail(join(table, k), "unknown key %q for the %s family%s", k, fam.Name, didYouMean(k, accepted))
+		}
+	}
+}
+
+func (d *decoder) transforms(raw map[string]any, s *Study) {
+	v, ok := raw["transform"]
+	if !ok {
+		d.fail("", "no transform given: add at least one [[transform]] table with name and expr")
+		return
+	}
+	list, ok := v.([]map[string]any)
+	if !ok {
+		d.fail("transform", "transform must be an array of tables ([[transform]]), got %s", typeName(v))
+		return
+	}
+	if len(list) > MaxTransforms {
+		d.fail("transform", "%d transforms given; at most %d are accepted", len(list), MaxTransforms)
+		return
+	}
+	seen := map[string]bool{}
+	var names []string
+	haveModel := len(s.Arms) > 0
+	if haveModel {
+		names = s.ParamNames()
+	}
+	for i, m := range list {
+		table := fmt.Sprintf("transform[%d]", i)
+		d.unknownKeys(table, m, []string{"name", "expr"})
+		name := d.str(m, table, "name", "")
+		src := d.str(m, table, "expr", "")
+		if name == "" {
+			d.fail(table, "this [[transform]] has no name: add name = \"...\" (used for columns and file names)")
+			continue
+		}
+		if len(name) > maxNameLength || strings.ContainsAny(name, "\n\r\t") {
+			d.fail(join(table, "name"), "transform name %q is not accepted: one line of at most %d characters", name, maxNameLength)
+			continue
+		}
+		if seen[name] {
+			d.fail(join(table, "name"), "transform name %q is used twice: each transform needs its own name", name)
+			continue
+		}
+		seen[name] = true
+		if src == "" {
+			d.fail(table, "transform %q has no expr: add expr = \"...\", e.g. expr = \"log(%s)\"", name, firstOr(names, "mean"))
+			continue
+		}
+		if !haveModel {
+			continue
+		}
+		prog, err := expr.Compile(src, names)
+		if err != nil {
+			d.fail(join(table, "expr"), "transform %q: %v", name, err)
+			continue
+		}
+		t := Transform{Name: name, Expr: src, Program: prog}
+		if err := checkAtTruth(s, t); err != nil {
+			d.fail(join(table, "expr"), "transform %q: %v", name, err)
+			continue
+		}
+		s.Transforms = append(s.Transforms, t)
+	}
+}
+
+func firstOr(names []string, def string) string {
+	if len(names) > 0 {
+		return names[0]
+	}
+	return def
+}
+
+// checkAtTruth refuses a transform whose value, gradient or delta
+// variance is not finite and positive at the true parameters: the
+// delta method has nothing to say there.
+func checkAtTruth(s *Study, t Transform) error {
+	theta := s.Truth()
+	v, grad, _ := t.Program.ValueGradHessian(theta)
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return fmt.Errorf("its value at the true parameters is %v; the transform must be defined (finite) at the truth", v)
+	}
+	for _, g := range grad {
+		if math.IsNaN(g) || math.IsInf(g, 0) {
+			return fmt.Errorf("its gradient at the true parameters is not finite; the delta method needs a differentiable transform at the truth")
+		}
+	}
+	if dv := s.deltaVar(grad, theta, s.SampleSizesOr(2)); !(dv > 0) || math.IsInf(dv, 0) {
+		return fmt.Errorf("its delta-method variance at the true parameters is %v; a transform with zero gradient there (or one of no parameter) needs a higher-order method, which deltaprobe does not offer", dv)
+	}
+	return nil
+}
+
+// SampleSizesOr returns the smallest grid size, or def when the grid is empty.
+func (s *Study) SampleSizesOr(def int) int {
+	if len(s.SampleSizes) > 0 {
+		return s.SampleSizes[0]
+	}
+	return def
+}
+
+func (d *decoder) criteria(raw map[string]any, level float64) Criteria {
+	c := DefaultCriteria(level)
+	v, ok := raw["criteria"]
+	if !ok {
+		return c
+	}
+	m, ok := v.(map[string]any)
+	if !ok {
+		d.fail("criteria", "criteria must be a table ([criteria]), got %s", typeName(v))
+		return c
+	}
+	d.unknownKeys("criteria", m, []string{"coverage", "var_ratio", "std_bias"})
+	if band, ok := d.band(m, "coverage"); ok {
+		switch {
+		case !(band[0] >= 0 && band[1] <= 1):
+			d.fail("criteria.coverage", "coverage band [%v, %v] must lie within [0, 1]", band[0], band[1])
+		case !(band[0] < level && level < band[1]):
+			d.fail("criteria.coverage", "coverage band [%v, %v] must contain the nominal level %v", band[0], band[1], level)
+		default:
+			c.Coverage = band
+		}
+	}
+	if band, ok := d.band(m, "var_ratio"); ok {
+		if !(band[0] > 0 && band[0] < 1 && band[1] > 1) {
+			d.fail("criteria.var_ratio", "var_ratio band [%v, %v] must satisfy 0 < low < 1 < high, e.g. [0.9, 1.1]", band[0], band[1])
+		} else {
+			c.VarRatio = band
+		}
+	}
+	if b, ok := d.number(m, "criteria", "std_bias"); ok {
+		if !(b > 0 && b <= 10) {
+			d.fail("criteria.std_bias", "std_bias = %v is out of range: the bound on |bias|/sd must be > 0 and at most 10, e.g. 0.1", b)
+		} else {
+			c.StdBias = b
+		}
+	}
+	return c
+}
+
+func (d *decoder) band(m map[string]any, key string) ([2]float64, bool) {
+	v, ok := m[key]
+	if !ok {
+		return [2]float64{}, false
+	}
+	list, ok := v.([]any)
+	if !ok || len(list) != 2 {
+		d.fail("criteria."+key, "%s must be a band of two numbers [low, high], e.g. %s", key, bandExample(key))
+		return [2]float64{}, false
+	}
+	var band [2]float64
+	for i, e := range list {
+		switch x := e.(type) {
+		case int64:
+			band[i] = float64(x)
+		case float64:
+			band[i] = x
+		default:
+			d.fail("criteria."+key, "%s must be a band of two numbers [low, high], e.g. %s; entry %d is %s", key, bandExample(key), i+1, typeName(e))
+			return band, false
+		}
+	}
+	if !(band[0] < band[1]) {
+		d.fail("criteria."+key, "%s band [%v, %v] is reversed or empty: give [low, high] with low < high", key, band[0], band[1])
+		return band, false
+	}
+	return band, true
+}
+
+func bandExample(key string) string {
+	if key == "coverage" {
+		return "[0.925, 0.975]"
+	}
+	return "[0.9, 1.1]"
+}
