@@ -586,9 +586,16 @@ func firstOr(names []string, def string) string {
 // delta method has nothing to say there.
 func checkAtTruth(s *Study, t Transform) error {
 	theta := s.Truth()
+	used := false
+	for i := range theta {
+		used = used || t.Program.Uses(i)
+	}
+	if !used {
+		return fmt.Errorf("the expression uses no parameter, so there is nothing to estimate; known names: %s", strings.Join(s.ParamNames(), ", "))
+	}
 	v, grad, _ := t.Program.ValueGradHessian(theta)
 	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return fmt.Errorf("its value at the true parameters is %v; the transform must be defined (finite) at the truth", v)
+		return fmt.Errorf("its value at the true parameters (%s) is %v; the transform must be defined (finite) at the truth", truthText(s, theta), v)
 	}
 	for _, g := range grad {
 		if math.IsNaN(g) || math.IsInf(g, 0) {
@@ -596,9 +603,17 @@ func checkAtTruth(s *Study, t Transform) error {
 		}
 	}
 	if dv := s.deltaVar(grad, theta, s.SampleSizesOr(2)); !(dv > 0) || math.IsInf(dv, 0) {
-		return fmt.Errorf("its delta-method variance at the true parameters is %v; a transform with zero gradient there (or one of no parameter) needs a higher-order method, which deltaprobe does not offer", dv)
+		return fmt.Errorf("its delta-method variance at the true parameters (%s) is %v; where the gradient vanishes the first-order method says nothing, and deltaprobe offers no higher-order one", truthText(s, theta), dv)
 	}
 	return nil
+}
+
+func truthText(s *Study, theta []float64) string {
+	var parts []string
+	for i, name := range s.ParamNames() {
+		parts = append(parts, fmt.Sprintf("%s = %v", name, theta[i]))
+	}
+	return strings.Join(parts, ", ")
 }
 
 // SampleSizesOr returns the smallest grid size, or def when the grid is empty.

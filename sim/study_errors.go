@@ -78,6 +78,7 @@ func didYouMean(word string, accepted []string) string {
 	s := ""
 	if g := suggest(word, accepted); g != "" {
 		s = fmt.Sprintf("; did you mean %q?", g)
+		return s + " accepted: " + strings.Join(accepted, ", ")
 	}
-	return s + " accepted: " + strings.Join(accepted, ", ")
+	return s + "; accepted: " + strings.Join(accepted, ", ")
 }
