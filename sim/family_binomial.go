@@ -19,9 +19,8 @@ func init() {
 	})
 }
 
-// binomialSizeMax keeps n·size trials inside the integers a float64 holds
-// exactly for any realistic n.
-const binomialSizeMax = 1 << 40
+// binomialSizeMax is the largest whole number a float64 holds exactly.
+const binomialSizeMax = 1 << 53
 
 // binomialModel is the binomial family with size fixed, θ = (p).
 type binomialModel struct {

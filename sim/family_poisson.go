@@ -48,7 +48,7 @@ func newPoissonModel(mean float64) (*poissonModel, error) {
 		func(k int) float64 { return mean / float64(k+1) },
 		func(k int) float64 { return float64(k) / mean })
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("sim: poisson mean %g: %w", mean, err)
 	}
 	m.table = t
 	return m, nil

@@ -11,6 +11,9 @@ import (
 // guide. A binomial wider than that is refused (see newBinomialModel).
 const maxTableLen = 1 << 20
 
+// errTableTooWide is wrapped by the families that build tables.
+var errTableTooWide = fmt.Errorf("the distribution needs more than %d inversion-table entries", maxTableLen)
+
 // tableTail is the relative probability mass left outside an inversion
 // table. It is far below 2⁻⁵³ ≈ 1.1·10⁻¹⁶, the spacing of rng.Float64, so
 // a draw by inversion of a 53-bit uniform could not reach the omitted tail
@@ -53,7 +56,7 @@ func newUnimodalTable(mode, min, max int, up, down func(k int) float64) (*cdfTab
 			break
 		}
 		if len(upper) > maxTableLen {
-			return nil, fmt.Errorf("sim: distribution too wide for an inversion table of %d entries", maxTableLen)
+			return nil, errTableTooWide
 		}
 	}
 	for k, w := mode, 1.0; k > min; k-- {
@@ -65,7 +68,7 @@ func newUnimodalTable(mode, min, max int, up, down func(k int) float64) (*cdfTab
 			break
 		}
 		if len(lower)+len(upper) > maxTableLen {
-			return nil, fmt.Errorf("sim: distribution too wide for an inversion table of %d entries", maxTableLen)
+			return nil, errTableTooWide
 		}
 	}
 	n := len(lower) + 1 + len(upper)

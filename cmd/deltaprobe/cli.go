@@ -30,6 +30,7 @@ const usage = `deltaprobe checks whether the delta-method approximation holds at
 usage:
   deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
+  deltaprobe report DIR             rewrite the CSV files, figures and page from DIR/result.json
   deltaprobe families               the data-generating families and their estimators
   deltaprobe version
 
@@ -50,6 +51,8 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return cmdPredict(args[1:], stdout, stderr)
 	case "families":
 		return cmdFamilies(args[1:], stdout, stderr)
+	case "report":
+		return cmdReport(args[1:], stdout, stderr)
 	case "version":
 		fmt.Fprintln(stdout, "deltaprobe", sim.Version)
 		return exitOK
@@ -57,7 +60,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "deltaprobe: unknown command %q; accepted: run, predict, families, version\n", args[0])
+	fmt.Fprintf(stderr, "deltaprobe: unknown command %q; accepted: run, predict, report, families, version\n", args[0])
 	return exitUsage
 }
 
@@ -280,4 +283,29 @@ func representative(p sim.ParamSpec) float64 {
 		}
 	}
 	return 1
+}
+
+func cmdReport(args []string, stdout, stderr io.Writer) int {
+	fs := newFlagSet("report", "report DIR", stderr)
+	positional, err := parseInterspersed(fs, args)
+	if err != nil {
+		return flagErr(err)
+	}
+	if len(positional) != 1 {
+		fmt.Fprintf(stderr, "deltaprobe report: give exactly one output folder holding result.json (got %d arguments)\n", len(positional))
+		return exitUsage
+	}
+	dir := positional[0]
+	res, err := sim.LoadResult(filepath.Join(dir, "result.json"))
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
+		return exitUsage
+	}
+	if err := report.Write(dir, res); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
+		return exitFailure
+	}
+	report.VerdictTable(stdout, res)
+	fmt.Fprintf(stderr, "rewrote the report in %s from result.json\n", dir)
+	return exitOK
 }

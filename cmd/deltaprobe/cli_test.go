@@ -238,3 +238,40 @@ func TestFamiliesGolden(t *testing.T) {
 	}
 	golden(t, "testdata/families.stdout", []byte(stdout))
 }
+
+// report DIR rebuilds byte-identical CSV from result.json alone.
+func TestReportFromSavedResult(t *testing.T) {
+	study := writeStudy(t, smallStudy)
+	out := filepath.Join(t.TempDir(), "out")
+	if code, _, stderr := runCLI(t, "run", study, "-o", out, "-quiet", "-replicates", "1500"); code != exitOK {
+		t.Fatalf("run: exit %d: %s", code, stderr)
+	}
+	before := map[string][]byte{}
+	for _, name := range []string{"summary.csv", "verdicts.csv"} {
+		b, err := os.ReadFile(filepath.Join(out, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		before[name] = b
+		os.Remove(filepath.Join(out, name))
+	}
+	code, stdout, stderr := runCLI(t, "report", out)
+	if code != exitOK {
+		t.Fatalf("report: exit %d: %s", code, stderr)
+	}
+	if !strings.Contains(stdout, "reciprocal") {
+		t.Errorf("report printed no verdict table: %q", stdout)
+	}
+	for name, want := range before {
+		got, err := os.ReadFile(filepath.Join(out, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(got, want) {
+			t.Errorf("%s from result.json differs from the run's", name)
+		}
+	}
+	if code, _, _ := runCLI(t, "report", t.TempDir()); code != exitUsage {
+		t.Errorf("report on a folder without result.json: exit %d, want %d", code, exitUsage)
+	}
+}

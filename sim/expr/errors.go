@@ -27,8 +27,9 @@ func errorAt(pos int, format string, args ...any) *SyntaxError {
 const maxSuggestionDistance = 2
 
 // closestName returns the candidate nearest to name in edit distance, if it
-// is within maxSuggestionDistance; ties go to the earlier candidate so the
-// suggestion follows the caller's parameter order.
+// is within maxSuggestionDistance and leaves at least one byte of name
+// standing (otherwise "x" would be "corrected" to any two-letter name). Ties
+// go to the earlier candidate so the suggestion follows the caller's order.
 func closestName(name string, candidates []string) (string, bool) {
 	best, bestDist := "", maxSuggestionDistance+1
 	for _, c := range candidates {
@@ -36,7 +37,7 @@ func closestName(name string, candidates []string) (string, bool) {
 			best, bestDist = c, d
 		}
 	}
-	return best, bestDist <= maxSuggestionDistance
+	return best, bestDist <= maxSuggestionDistance && bestDist < len(name)
 }
 
 // editDistance is the Levenshtein distance over bytes, which is exact here

@@ -102,11 +102,11 @@ func punctuation(c byte) (tokenKind, bool) {
 
 func unexpectedCharacter(src string, i int) error {
 	r, size := utf8.DecodeRuneInString(src[i:])
-	shown := strconv.QuoteRune(r)
 	if r == utf8.RuneError && size <= 1 {
-		shown = fmt.Sprintf("byte 0x%02x", src[i])
+		return errorAt(i, "unexpected byte 0x%02x, which is not valid UTF-8; expected a number, a name, one of + - * / ^ or a parenthesis", src[i])
 	}
-	if r >= utf8.RuneSelf && r != utf8.RuneError {
+	shown := strconv.QuoteRune(r)
+	if r >= utf8.RuneSelf {
 		return errorAt(i, "unexpected character %s; names use ASCII letters, digits, \"_\" and \".\" only", shown)
 	}
 	return errorAt(i, "unexpected character %s; expected a number, a name, one of + - * / ^ or a parenthesis", shown)

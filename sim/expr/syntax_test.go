@@ -37,8 +37,10 @@ func TestSyntaxErrors(t *testing.T) {
 		{"log(mean, sd)", 9, "log takes exactly one argument; commas are not part of the language"},
 		{"mean, sd", 5, "commas are not part of the language"},
 		{",", 1, "commas are not part of the language"},
-		{"foo(mean)", 1, `unknown function "foo"; known functions: log, exp, sqrt, log1p, expm1, logit, expit, tanh, atanh, Phi`},
+		{"frob(mean)", 1, `unknown function "frob"; known functions: log, exp, sqrt, log1p, expm1, logit, expit, tanh, atanh, Phi`},
 		{"phi(mean)", 1, `unknown function "phi"; did you mean "Phi"?`},
+		{"foo(mean)", 1, `unknown function "foo"; did you mean "log"?`}, // distance 2, the documented reach
+		{"x", 1, `unknown name "x"; known names: mean, sd`},             // "sd" is 2 edits away, but that is every letter of "x"
 		{"men", 1, `unknown name "men"; did you mean "mean"? known names: mean, sd`},
 		{"2*sdd", 3, `unknown name "sdd"; did you mean "sd"?`},
 		{"zzzz", 1, `unknown name "zzzz"; known names: mean, sd`},
@@ -54,7 +56,7 @@ func TestSyntaxErrors(t *testing.T) {
 		{"mean $ sd", 6, "unexpected character '$'"},
 		{".", 1, "unexpected character '.'"},
 		{"μ", 1, "names use ASCII letters"},
-		{"mean\xff", 5, "byte 0xff"},
+		{"mean\xff", 5, "unexpected byte 0xff"},
 	}
 	for _, tt := range tests {
 		_, err := expr.Compile(tt.src, vars)
@@ -145,8 +147,7 @@ func TestLimitsOnHostileInput(t *testing.T) {
 	}
 
 	// A long flat sum is not nested and must work right up to the size cap.
-	flat := "x" + strings.Repeat("+x", 2047) + "+" // 4096 bytes, one short of valid
-	flat = flat[:len(flat)-1] + "x"[:0]            // 4095 bytes
+	flat := "x" + strings.Repeat("+x", 2047)
 	if len(flat) != 4095 {
 		t.Fatalf("test setup: flat has %d bytes", len(flat))
 	}
