@@ -62,18 +62,18 @@ var derivativeCases = []struct {
 }
 
 // The gradient is compared with gonum's central difference (step 6e-6). Its
-// truncation error is about h²/6·|f”'| ≈ 6e-12·|f”'| and its rounding error
-// about ε·|f|/h ≈ 4e-11·|f|; at the points above |f|, |f”'| stay below ~1e3,
+// truncation error is about h²/6·|f⁽³⁾| ≈ 6e-12·|f⁽³⁾| and its rounding error
+// about ε·|f|/h ≈ 4e-11·|f|; at the points above |f|, |f⁽³⁾| stay below ~1e3,
 // so 1e-6·max(1, |g|) leaves room without letting a wrong formula through.
 const gradientTol = 1e-6
 
 // The Hessian is compared with gonum's central Hessian at step 1e-3. A
 // diagonal entry is then a second difference at spacing 2h, off by about
-// (2h)²/12·|f””| ≈ 3e-7·|f””|, plus rounding ε·|f|/h² ≈ 2e-10·|f|. The
+// (2h)²/12·|f⁽⁴⁾| ≈ 3e-7·|f⁽⁴⁾|, plus rounding ε·|f|/h² ≈ 2e-10·|f|. The
 // largest fourth derivative among the points is logit's at p = 0.2
-// (6/p⁴ + 6/(1-p)⁴ ≈ 3.8e3, so ≈ 1.3e-3 against |f”| ≈ 23, a relative
+// (6/p⁴ + 6/(1-p)⁴ ≈ 3.8e3, so ≈ 1.3e-3 against |f⁽²⁾| ≈ 23, a relative
 // 5e-5), hence 1e-4·max(1, |H|). Points such as rate = 0.1 in log(2)/rate,
-// where f”” = 24·ln 2/r⁵ ≈ 1.7e6, stay out of this table for that reason;
+// where f⁽⁴⁾ = 24·ln 2/r⁵ ≈ 1.7e6, stay out of this table for that reason;
 // the closed-form test covers them.
 const (
 	hessianStep = 1e-3
@@ -118,7 +118,7 @@ func TestHessianMatchesFiniteDifferences(t *testing.T) {
 
 // TestHessianMatchesJacobianOfGradient is a tighter second check: the exact
 // gradient differenced once (central, step 6e-6) has truncation error
-// ≈ 6e-12·|f””|, so 1e-7 is ample there.
+// ≈ 6e-12·|f⁽⁴⁾|, so 1e-7 is ample there.
 func TestHessianMatchesJacobianOfGradient(t *testing.T) {
 	for _, tt := range derivativeCases {
 		p := mustCompile(t, tt.src, tt.vars)
