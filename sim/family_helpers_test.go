@@ -109,7 +109,7 @@ func chiSquareCheck(t *testing.T, name string, draws []int, pmf, cdf func(float6
 	}
 }
 
-// meanSD returns the mean of xs and the Monte Carlo standard error of that
+// meanSE returns the mean of xs and the Monte Carlo standard error of that
 // mean, sd/√N.
 func meanSE(xs []float64) (mean, se float64) {
 	n := float64(len(xs))

@@ -191,6 +191,7 @@ type worker struct {
 	theta  []float64
 	grad   []float64
 	covs   [][]float64
+	dims   []int // parameters per arm
 	sizes  []int
 	evals  []*expr.Evaluator
 	accs   []cellAcc
@@ -215,6 +216,7 @@ func newWorker(s *Study, res *Result) *worker {
 	w.sizes = make([]int, len(s.Arms))
 	for _, a := range s.Arms {
 		k := len(a.Model.Params())
+		w.dims = append(w.dims, k)
 		w.covs = append(w.covs, make([]float64, k*k))
 	}
 	for _, t := range s.Transforms {
@@ -290,7 +292,7 @@ func (w *worker) replicate() {
 			if !w.useArm[t][a] {
 				continue
 			}
-			k := len(arm.Model.Params())
+			k := w.dims[a]
 			pv += quadForm(w.grad[arm.Offset:arm.Offset+k], w.covs[a]) / float64(w.sizes[a])
 		}
 		acc.add(v, pv, w.z)

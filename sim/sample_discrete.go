@@ -171,11 +171,12 @@ func (p *ptrsPoisson) logPMF(k float64) float64 {
 }
 
 // stirlingCorrection returns δ(k) = log k! − (k log k − k + ½log(2πk)) for
-// k ≥ 10 from its asymptotic series
-// 1/(12k) − 1/(360k³) + 1/(1260k⁵) − 1/(1680k⁷) (Abramowitz & Stegun
-// 6.1.41), whose first omitted term is below 10⁻¹² at k = 10.
+// k ≥ 10 from its asymptotic series Σ B₂ⱼ/(2j(2j−1)k^(2j−1)) =
+// 1/(12k) − 1/(360k³) + 1/(1260k⁵) − 1/(1680k⁷) + 1/(1188k⁹) (Abramowitz
+// & Stegun 6.1.41), whose first omitted term, −691/(360360k¹¹), is below
+// 2·10⁻¹⁴ at k = 10.
 func stirlingCorrection(k float64) float64 {
 	r := 1 / k
 	r2 := r * r
-	return r * (1.0/12 + r2*(-1.0/360+r2*(1.0/1260-r2/1680)))
+	return r * (1.0/12 + r2*(-1.0/360+r2*(1.0/1260+r2*(-1.0/1680+r2/1188))))
 }

@@ -42,8 +42,33 @@ func (e *Evaluator) Value(x []float64) float64 {
 			val[d] = in.k
 		case opVar:
 			val[d] = x[in.arg]
-		case opAdd, opSub, opMul, opDiv, opPow:
-			val[d] = applyBinary(in.op, val[d], val[d+1])
+		// The arithmetic cases are spelled out because a call per
+		// instruction would cost as much as the arithmetic itself; the
+		// functions go through applyUnary, where the math call dominates.
+		case opAdd:
+			val[d] += val[d+1]
+		case opSub:
+			val[d] -= val[d+1]
+		case opMul:
+			val[d] *= val[d+1]
+		case opDiv:
+			val[d] /= val[d+1]
+		case opPow:
+			val[d] = math.Pow(val[d], val[d+1])
+		case opNeg:
+			val[d] = -val[d]
+		case opAddK:
+			val[d] += in.k
+		case opMulK:
+			val[d] *= in.k
+		case opDivK:
+			val[d] /= in.k
+		case opRSubK:
+			val[d] = in.k - val[d]
+		case opRDivK:
+			val[d] = in.k / val[d]
+		case opSquare:
+			val[d] *= val[d]
 		default:
 			val[d] = applyUnary(in.op, val[d], in.k)
 		}

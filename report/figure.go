@@ -1,0 +1,285 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"image/color"
+	"image/png"
+	"math"
+	"runtime"
+	"strconv"
+	"strings"
+	"sync"
+
+	xfont "golang.org/x/image/font"
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/text"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+
+	"deltaprobe/sim"
+)
+
+// Figure is one rendered PNG of the report.
+type Figure struct {
+	File      string // file name inside the output folder
+	Transform int    // index into Result.Study.Transforms
+	Kind      string // "trends" or "shapes"
+	PNG       []byte
+	Width     int // pixels
+	Height    int // pixels
+	Alt       string
+}
+
+// Figure kinds, as they end the file names.
+const (
+	KindTrends = "trends"
+	KindShapes = "shapes"
+)
+
+// Every figure is drawn on a page 10 inches wide at 160 dots per inch:
+// 1600 pixels, so a figure stays sharp on a high-density screen, and text
+// set at 11 points or more is at least 24 pixels tall. Both figures share
+// the width, so their text appears at the same size when the page scales
+// them to its column.
+const (
+	figDPI   = 160
+	figWidth = 10 * vg.Inch
+)
+
+// Type sizes in points. Nothing in a figure is set smaller than fontSmall.
+const (
+	fontSmall = 11
+	fontLabel = 12
+	fontPanel = 13
+	fontTitle = 16
+)
+
+// The palette. Two data series at most share a panel, so they take the
+// Okabe & Ito (2008) blue and orange: both are told apart by every common
+// kind of colour blindness, and their luminances differ enough (about 0.37
+// against 0.64) to stay apart in greyscale print. Each series also has its
+// own marker (filled circle against triangle) and line (solid against
+// dashed), so nothing rests on colour alone. Reference lines are black,
+// accepted bands a pale grey that any ink shows as a tint.
+var (
+	colSeries1 = color.RGBA{R: 0x00, G: 0x72, B: 0xB2, A: 0xFF} // blue
+	colSeries2 = color.RGBA{R: 0xE6, G: 0x9F, B: 0x00, A: 0xFF} // orange
+	colRef     = color.RGBA{R: 0x00, G: 0x00, B: 0x00, A: 0xFF}
+	colBand    = color.RGBA{R: 0xE4, G: 0xE4, B: 0xE4, A: 0xFF}
+	colMark    = color.RGBA{R: 0x55, G: 0x55, B: 0x55, A: 0xFF} // the smallest adequate n
+	colBars    = color.RGBA{R: 0xC4, G: 0xC4, B: 0xC4, A: 0xFF} // histogram bars
+	colText    = color.RGBA{R: 0x22, G: 0x22, B: 0x22, A: 0xFF}
+	colGrid    = color.RGBA{R: 0xEE, G: 0xEE, B: 0xEE, A: 0xFF}
+)
+
+var (
+	dashed = []vg.Length{vg.Points(7), vg.Points(4)}
+	dotted = []vg.Length{vg.Points(2), vg.Points(3)}
+	dashDt = []vg.Length{vg.Points(8), vg.Points(3), vg.Points(2), vg.Points(3)}
+)
+
+// sans is Liberation Sans, which gonum/plot embeds: the figures look the
+// same on every machine and need no installed fonts.
+var sans = font.Font{Typeface: "Liberation", Variant: "Sans"}
+
+var sansBold = func() font.Font {
+	f := sans
+	f.Weight = xfont.WeightBold
+	return f
+}()
+
+func textStyle(f font.Font, size float64) text.Style {
+	return text.Style{
+		Color:   colText,
+		Font:    font.From(f, font.Length(size)),
+		XAlign:  draw.XLeft,
+		YAlign:  draw.YTop,
+		Handler: plot.DefaultTextHandler,
+	}
+}
+
+// newPanel returns a plot with the report's type and quiet axes.
+func newPanel() *plot.Plot {
+	p := plot.New()
+	for _, ax := range []*plot.Axis{&p.X, &p.Y} {
+		ax.Label.TextStyle.Font = font.From(sans, fontLabel)
+		ax.Label.TextStyle.Color = colText
+		ax.Tick.Label.Font = font.From(sans, fontSmall)
+		ax.Tick.Label.Color = colText
+		ax.LineStyle.Color = colText
+		ax.Tick.LineStyle.Color = colText
+		ax.LineStyle.Width = vg.Points(0.75)
+		ax.Tick.LineStyle.Width = vg.Points(0.75)
+	}
+	p.Title.TextStyle.Font = font.From(sansBold, fontPanel)
+	p.Legend.TextStyle.Font = font.From(sans, fontSmall)
+	return p
+}
+
+// Figures renders every figure of r: for each transform, its trends and
+// its shapes. Figures are independent, so they render in parallel; each is
+// a pure function of r and comes out byte for byte the same every time.
+func Figures(r *sim.Result) ([]Figure, error) {
+	rows := r.Summarize()
+	verdicts := sim.Verdicts(rows)
+	names := make([]string, len(r.Study.Transforms))
+	for i, t := range r.Study.Transforms {
+		names[i] = t.Name
+	}
+	stems := SafeNames(names)
+	figs := make([]Figure, 0, 2*len(names))
+	for t := range names {
+		figs = append(figs,
+			Figure{File: stems[t] + "-" + KindTrends + ".png", Transform: t, Kind: KindTrends},
+			Figure{File: stems[t] + "-" + KindShapes + ".png", Transform: t, Kind: KindShapes})
+	}
+	nn := len(r.Study.SampleSizes)
+	errs := make([]error, len(figs))
+	var wg sync.WaitGroup
+	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
+	for i := range figs {
+		wg.Add(1)
+		sem <- struct{}{}
+		go func() {
+			defer func() { <-sem; wg.Done() }()
+			f := &figs[i]
+			t := f.Transform
+			var v sim.TransformVerdict
+			if t < len(verdicts) {
+				v = verdicts[t]
+			}
+			var err error
+			switch f.Kind {
+			case KindTrends:
+				f.PNG, f.Width, f.Height, err = trendsPNG(r, t, rows[t*nn:(t+1)*nn], v)
+				f.Alt = trendsAlt(r, t, v)
+			case KindShapes:
+				f.PNG, f.Width, f.Height, err = shapesPNG(r, t, rows[t*nn:(t+1)*nn], v)
+				f.Alt = shapesAlt(r, t)
+			}
+			if err != nil {
+				errs[i] = fmt.Errorf("drawing %s: %w", f.File, err)
+			}
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
+	}
+	return figs, nil
+}
+
+// SafeNames turns transform names into file-name stems that every common
+// file system accepts: ASCII letters, digits, '-', '_' and '.' are kept,
+// anything else becomes '_', and a leading '.' (a hidden file) becomes '_'.
+// Two names that would meet, also when letter case is ignored, as it is on
+// some file systems, are kept apart by a suffix "-2", "-3", … on the later.
+func SafeNames(names []string) []string {
+	out := make([]string, len(names))
+	used := map[string]bool{}
+	for i, name := range names {
+		var b strings.Builder
+		for j, c := range name {
+			switch {
+			case c == '.' && j == 0:
+				b.WriteByte('_')
+			case c < 0x80 && (c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c == '-' || c == '_' || c == '.'):
+				b.WriteRune(c)
+			default:
+				b.WriteByte('_')
+			}
+		}
+		stem := b.String()
+		if stem == "" {
+			stem = "transform"
+		}
+		cand := stem
+		for k := 2; used[strings.ToLower(cand)]; k++ {
+			cand = stem + "-" + strconv.Itoa(k)
+		}
+		used[strings.ToLower(cand)] = true
+		out[i] = cand
+	}
+	return out
+}
+
+// encodePNG renders a drawing of the given height onto a figure-wide
+// canvas and encodes it.
+func encodePNG(height vg.Length, drawFn func(dc draw.Canvas)) ([]byte, int, int, error) {
+	img := vgimg.NewWith(vgimg.UseWH(figWidth, height), vgimg.UseDPI(figDPI), vgimg.UseBackgroundColor(color.White))
+	drawFn(draw.New(img))
+	var buf bytes.Buffer
+	if err := png.Encode(&buf, img.Image()); err != nil {
+		return nil, 0, 0, fmt.Errorf("encoding PNG: %w", err)
+	}
+	b := img.Image().Bounds()
+	return buf.Bytes(), b.Dx(), b.Dy(), nil
+}
+
+// drawHeading sets the figure's title and subtitle at the top of dc and
+// returns the canvas left below them.
+func drawHeading(dc draw.Canvas, title, subtitle string) draw.Canvas {
+	const margin = 14
+	x := dc.Min.X + vg.Points(margin)
+	y := dc.Max.Y - vg.Points(margin)
+	ts := textStyle(sansBold, fontTitle)
+	dc.FillText(ts, vg.Point{X: x, Y: y}, title)
+	y -= ts.Height(title) + vg.Points(6)
+	if subtitle != "" {
+		ss := textStyle(sans, fontLabel)
+		dc.FillText(ss, vg.Point{X: x, Y: y}, subtitle)
+		y -= ss.Height(subtitle)
+	}
+	return draw.Crop(dc, 0, 0, 0, y-dc.Max.Y-vg.Points(8))
+}
+
+// figureTitle names the transform and its expression, clipped so that a
+// long one does not run off the figure.
+func figureTitle(info sim.TransformInfo, what string) string {
+	return clip(info.Name, 40) + " = " + clip(info.Expr, 60) + what
+}
+
+// wrapText breaks s into lines no wider than w in style st.
+func wrapText(st text.Style, s string, w vg.Length) []string {
+	var lines []string
+	var cur string
+	for _, word := range strings.Fields(s) {
+		try := word
+		if cur != "" {
+			try = cur + " " + word
+		}
+		if cur != "" && st.Width(try) > w {
+			lines = append(lines, cur)
+			cur = word
+			continue
+		}
+		cur = try
+	}
+	if cur != "" {
+		lines = append(lines, cur)
+	}
+	return lines
+}
+
+// finite reports whether every x is a finite number.
+func finite(xs ...float64) bool {
+	for _, x := range xs {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return false
+		}
+	}
+	return true
+}
+
+// fmtG writes x with 3 significant digits for figure labels.
+func fmtG(x float64) string {
+	if !finite(x) {
+		return "–"
+	}
+	return strconv.FormatFloat(x, 'g', 3, 64)
+}
