@@ -265,6 +265,9 @@ func drawLegendRow(c draw.Canvas, items []legendItem) vg.Length {
 // legendRowHeight is the height drawLegendRow will use for items in a
 // strip of width w.
 func legendRowHeight(items []legendItem, w vg.Length) vg.Length {
+	if len(items) == 0 {
+		return 0
+	}
 	st := textStyle(sans, fontSmall)
 	thumbW, gap, itemGap := vg.Points(24), vg.Points(5), vg.Points(16)
 	lineH := st.Height("Mg") + vg.Points(5)
@@ -306,6 +309,54 @@ func (t sampleSizeTicks) Ticks(lo, hi float64) []plot.Tick {
 			last = l
 		}
 		ticks = append(ticks, plot.Tick{Value: x, Label: lab})
+	}
+	return ticks
+}
+
+// lineOf is a plain line through the points in the given style.
+func lineOf(x, y []float64, style draw.LineStyle) (*plotter.Line, error) {
+	xys := make(plotter.XYs, len(x))
+	for i := range x {
+		xys[i] = plotter.XY{X: x[i], Y: y[i]}
+	}
+	l, err := plotter.NewLine(xys)
+	if err != nil {
+		return nil, err
+	}
+	l.LineStyle = style
+	return l, nil
+}
+
+// stepTicks labels multiples of the smallest step in 1, 2, 5, 10, … that
+// gives at most maxLabels labels, written as integers where they are:
+// the default ticker's "2.50" suggests a precision nobody asked for.
+type stepTicks struct{ maxLabels int }
+
+func (t stepTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) || !finite(lo, hi) {
+		return nil
+	}
+	span := hi - lo
+	var step float64
+	for e := math.Floor(math.Log10(span / float64(t.maxLabels))); ; e++ {
+		for _, m := range []float64{1, 2, 5} {
+			s := m * math.Pow(10, e)
+			if span/s <= float64(t.maxLabels) {
+				step = s
+				break
+			}
+		}
+		if step > 0 {
+			break
+		}
+	}
+	var ticks []plot.Tick
+	for k := math.Ceil(lo / step); k*step <= hi; k++ {
+		v := k * step
+		if math.Abs(v) < step*1e-9 {
+			v = 0
+		}
+		ticks = append(ticks, plot.Tick{Value: v, Label: strconv.FormatFloat(v, 'f', -1, 64)})
 	}
 	return ticks
 }

@@ -8,8 +8,9 @@ import (
 	"deltaprobe/sim"
 )
 
-// Write writes summary.csv and verdicts.csv for r into dir, each
-// atomically.
+// Write writes summary.csv, verdicts.csv, the figures and index.html for
+// r into dir, each file atomically. The page goes last, so a page on disk
+// never points at a figure that is not there yet.
 func Write(dir string, r *sim.Result) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("creating output folder: %w", err)
@@ -27,5 +28,18 @@ func Write(dir string, r *sim.Result) error {
 			return err
 		}
 	}
-	return nil
+	figs, err := Figures(r)
+	if err != nil {
+		return err
+	}
+	for _, f := range figs {
+		if err := sim.WriteFileAtomic(filepath.Join(dir, f.File), f.PNG); err != nil {
+			return err
+		}
+	}
+	page, err := Page(r, figs)
+	if err != nil {
+		return err
+	}
+	return sim.WriteFileAtomic(filepath.Join(dir, PageFile), page)
 }

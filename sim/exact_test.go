@@ -89,7 +89,7 @@ func exactRow(t *testing.T, rows map[exactKey]sim.Row, name string, n int) sim.R
 type exactDist struct{ mean, variance, mu4 float64 }
 
 // exactMomentsFromRaw turns raw moments E X, E X², E X³, E X⁴ into
-// central ones (binomial expansion of E(X − m)²and E(X − m)⁴).
+// central ones (binomial expansion of E(X − m)² and E(X − m)⁴).
 func exactMomentsFromRaw(m1, m2, m3, m4 float64) exactDist {
 	return exactDist{
 		mean:     m1,

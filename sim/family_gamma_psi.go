@@ -62,16 +62,18 @@ func trigamma(x float64) float64 {
 		r2*(5.0/66+r2*(-691.0/2730+r2*7.0/6))))))
 }
 
-// trigammaExcess returns x·ψ1(x) − 1 > 0 for x > 0. For x ≥ psiShift it
-// sums the series x·ψ1(x) − 1 ~ 1/(2x) + Σₖ B₂ₖ/x²ᵏ directly, since the
-// difference itself is ≈ 1/(2x) and would lose digits to cancellation;
-// this is the determinant factor of the gamma family's Fisher information.
+// trigammaExcess returns x·ψ1(x) − 1 > 0 for x > 0, the determinant factor
+// of the gamma family's Fisher information. For x ≥ psiShift it sums the
+// series x·ψ1(x) − 1 ~ 1/(2x) + Σₖ B₂ₖ/x²ᵏ directly, since the difference
+// itself is ≈ 1/(2x) and would lose digits to cancellation. Below, it uses
+// x·ψ1(x) = 1/x + x·ψ1(x+1), which stays finite where ψ1(x) ≈ 1/x²
+// overflows (x < 10⁻¹⁵⁴).
 func trigammaExcess(x float64) float64 {
 	if !(x > 0) {
 		return math.NaN()
 	}
 	if x < psiShift {
-		return x*trigamma(x) - 1
+		return 1/x + x*trigamma(x+1) - 1
 	}
 	r := 1 / x
 	r2 := r * r

@@ -96,18 +96,36 @@ type job struct{ ni, block, count int }
 // It stops early, returning ctx.Err() and the blocks finished so far, when
 // ctx is cancelled.
 func Run(ctx context.Context, s *Study, opt Options) (*Result, error) {
+	res := NewResult(s)
+	err := RunBlocks(ctx, s, res, nil, opt)
+	return res, err
+}
+
+// RunBlocks simulates the blocks of s for which want(sample size index,
+// block) is true (all blocks when want is nil) and adds them to res,
+// which must have been made by NewResult for the same study. Blocks
+// already in res are skipped.
+func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block int) bool, opt Options) error {
 	start := time.Now()
 	workers := opt.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
-	res := NewResult(s)
 	res.Workers = workers
 
 	var jobs []job
 	var total int64
 	for ni, n := range s.SampleSizes {
+		have := map[int]bool{}
+		if len(res.Cells) > 0 {
+			for _, b := range res.Cells[0][ni].Blocks {
+				have[b.Block] = true
+			}
+		}
 		for b := 0; b < Blocks(s.Replicates); b++ {
+			if have[b] || (want != nil && !want(ni, b)) {
+				continue
+			}
 			count := min(BlockSize, s.Replicates-b*BlockSize)
 			jobs = append(jobs, job{ni, b, count})
 			total += int64(count) * int64(s.drawsPerReplicate(n))
@@ -126,7 +144,7 @@ func Run(ctx context.Context, s *Study, opt Options) (*Result, error) {
 		errOnce  sync.Once
 	)
 	fail := func(err error) { errOnce.Do(func() { firstErr = err }) }
-	for w := 0; w < workers; w++ {
+	for w := 0; w < min(workers, len(jobs)); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
@@ -156,20 +174,30 @@ func Run(ctx context.Context, s *Study, opt Options) (*Result, error) {
 		}()
 	}
 	wg.Wait()
-	res.Elapsed = time.Since(start).Seconds()
+	res.Elapsed += time.Since(start).Seconds()
 	for t := range res.Cells {
 		for _, c := range res.Cells[t] {
 			sort.Slice(c.Blocks, func(i, j int) bool { return c.Blocks[i].Block < c.Blocks[j].Block })
 		}
 	}
+	res.Complete = res.missingBlocks(s.Replicates) == 0
 	if firstErr != nil {
-		return res, firstErr
+		return firstErr
 	}
-	if err := ctx.Err(); err != nil {
-		return res, err
+	return ctx.Err()
+}
+
+// missingBlocks counts the blocks of r replicates per sample size that
+// the result does not hold.
+func (res *Result) missingBlocks(r int) int {
+	if len(res.Cells) == 0 {
+		return 0
 	}
-	res.Complete = true
-	return res, nil
+	missing := 0
+	for _, c := range res.Cells[0] {
+		missing += Blocks(r) - len(c.Blocks)
+	}
+	return missing
 }
 
 func (s *Study) drawsPerReplicate(n int) int {

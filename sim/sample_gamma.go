@@ -66,7 +66,7 @@ func (g *gammaGen) std(rng *rand.Rand) float64 {
 }
 
 // gammaShapeMaxIter bounds the safeguarded Newton iteration. Bisection alone
-// would shrink the initial bracket, of log-width at most log 2 + 2, to 10⁻¹⁵
+// would shrink the initial bracket, of log-width at most log 2 + 16, to 10⁻¹⁵
 // in under 60 steps; Newton from Minka's start needs about four.
 const gammaShapeMaxIter = 100
 
@@ -77,67 +77,65 @@ const gammaShapeMaxIter = 100
 // for the shape MLE α̂ (the rate MLE is then α̂/x̄). The left side decreases
 // strictly from +∞ to 0, so the root is unique for every s > 0, and
 // 1/(2α) < log α − ψ(α) < 1/α puts it in (1/(2s), 1/s). The iteration is
-// Newton's method in t = log α, g(t) = log α − ψ(α) − s with
-// g'(t) = −(αψ1(α) − 1), started from the closed-form approximation of
+// Newton's method in t = log α on g(t) = log α − ψ(α) − s, whose slope is
+// g′(t) = −(αψ1(α) − 1), started from the closed-form approximation of
 // Minka (2002), "Estimating a gamma distribution",
 // α₀ = (3 − s + √((s−3)² + 24s))/(12s), and safeguarded by a sign-checked
-// bracket: a step leaving the bracket is replaced by bisection. It reports
-// false only when s is not a finite positive number, when the root is not
-// a finite float64, or after gammaShapeMaxIter steps without convergence.
+// bracket: a step leaving the bracket is replaced by bisection in log α.
+// The state is α itself, updated by α·exp(Δt), so the root keeps full
+// relative precision even where log α is large. It reports false only when
+// s is not a finite positive number, when the root is not a finite
+// float64, or after gammaShapeMaxIter steps without convergence.
 func gammaShapeMLE(s float64) (float64, bool) {
 	if !(s > 0) || math.IsInf(s, 1) {
 		return 0, false
 	}
-	g := func(t float64) float64 { return logMinusDigamma(math.Exp(t)) - s }
+	g := func(a float64) float64 { return logMinusDigamma(a) - s }
 	// Bracket from the bounds, widened in case rounding moved a sign.
-	lo, hi := -math.Log(2*s), -math.Log(s)
-	for i := 0; g(lo) <= 0; i++ {
+	lo, hi := 0.5/s, 1/s
+	for i := 0; !(g(lo) > 0); i++ {
 		if i == 8 {
 			return 0, false
 		}
-		lo -= 1
+		lo /= 2
 	}
-	for i := 0; g(hi) >= 0; i++ {
-		if i == 8 {
+	for i := 0; !(g(hi) < 0); i++ {
+		if i == 8 || math.IsInf(hi, 1) {
 			return 0, false
 		}
-		hi += 1
+		hi *= 2
 	}
-	if math.IsInf(lo, 0) || math.IsInf(hi, 0) || math.IsNaN(lo) || math.IsNaN(hi) {
+	if !(lo > 0) || math.IsInf(hi, 1) {
 		return 0, false
 	}
-	a0 := (3 - s + math.Sqrt((s-3)*(s-3)+24*s)) / (12 * s)
-	t := math.Log(a0)
-	if !(t > lo && t < hi) {
-		t = lo + (hi-lo)/2
+	a := (3 - s + math.Sqrt((s-3)*(s-3)+24*s)) / (12 * s)
+	if !(a > lo && a < hi) {
+		a = lo * math.Sqrt(hi/lo)
 	}
 	for range gammaShapeMaxIter {
-		gt := g(t)
-		if gt == 0 {
-			return finiteShape(t)
+		ga := g(a)
+		if ga == 0 {
+			return a, true
 		}
-		if gt > 0 {
-			lo = t
+		if ga > 0 {
+			lo = a
 		} else {
-			hi = t
+			hi = a
 		}
-		a := math.Exp(t)
-		next := t + gt/trigammaExcess(a)
+		dt := ga / trigammaExcess(a)
+		if math.Abs(dt) <= 1e-15 {
+			// Newton's error is now O(dt²): a·exp(dt) is the root to
+			// rounding (and may equal an end of the bracket).
+			return a * math.Exp(dt), true
+		}
+		next := a * math.Exp(dt)
 		if !(next > lo && next < hi) {
-			next = lo + (hi-lo)/2
+			next = lo * math.Sqrt(hi/lo)
 		}
-		if math.Abs(next-t) <= 1e-14*math.Max(1, math.Abs(t)) || hi-lo <= 4e-16*math.Max(1, math.Abs(t)) {
-			return finiteShape(next)
+		if hi/lo-1 <= 4e-16 {
+			return next, true
 		}
-		t = next
-	}
-	return 0, false
-}
-
-func finiteShape(t float64) (float64, bool) {
-	a := math.Exp(t)
-	if a > 0 && !math.IsInf(a, 1) {
-		return a, true
+		a = next
 	}
 	return 0, false
 }

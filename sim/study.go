@@ -47,7 +47,22 @@ type Study struct {
 	Arms        []Arm
 	Transforms  []Transform
 	Criteria    Criteria
+	Plan        *PlanSpec // nil unless the file has a [plan] table
 }
+
+// PlanSpec is the [plan] table: the range of n to search and the budget
+// of replicates per n.
+type PlanSpec struct {
+	NMin          int     `json:"n_min"`
+	NMax          int     `json:"n_max"`
+	MaxReplicates int     `json:"max_replicates"` // per n
+	Batch         int     `json:"batch"`          // replicates added per look, a multiple of BlockSize
+	Confidence    float64 `json:"confidence"`     // of each decision
+	Window        int     `json:"window"`         // integers above an answer checked; 0 means the default rule
+}
+
+// Looks is the largest number of looks the budget allows at one n.
+func (p *PlanSpec) Looks() int { return (p.MaxReplicates + p.Batch - 1) / p.Batch }
 
 // Arm is one independent sample of the study; a study with a [model]
 // table has one arm with an empty name.
@@ -111,9 +126,15 @@ func (s *Study) Dim() int {
 	return d
 }
 
-// ArmSize is the number of observations arm a draws at sample size n.
+// ArmSize is the number of observations arm a draws at sample size n,
+// ceil(n × allocation). A product that is a whole number but for binary
+// rounding (50 × 1.1 = 55.000000000000007) counts as that whole number.
 func (s *Study) ArmSize(a, n int) int {
-	return int(math.Ceil(float64(n) * s.Arms[a].Allocation))
+	v := float64(n) * s.Arms[a].Allocation
+	if r := math.Round(v); math.Abs(v-r) <= 1e-9*v {
+		return max(int(r), 1)
+	}
+	return max(int(math.Ceil(v)), 1)
 }
 
 // Load reads, decodes and validates a study file. Every problem found is
@@ -158,7 +179,7 @@ func (d *decoder) fail(path, format string, args ...any) {
 	d.errs = append(d.errs, &StudyError{File: d.file, Line: d.lines.line(path), Msg: fmt.Sprintf(format, args...)})
 }
 
-var topKeys = []string{"title", "description", "seed", "replicates", "sample_sizes", "level", "model", "arm", "transform", "criteria"}
+var topKeys = []string{"title", "description", "seed", "replicates", "sample_sizes", "level", "model", "arm", "transform", "criteria", "plan"}
 
 func (d *decoder) study(raw map[string]any, s *Study) {
 	d.unknownKeys("", raw, topKeys)
@@ -182,7 +203,10 @@ func (d *decoder) study(raw map[string]any, s *Study) {
 			s.Level = v
 		}
 	}
-	s.SampleSizes = d.grid(raw)
+	s.Plan = d.plan(raw)
+	if _, given := raw["sample_sizes"]; given || raw["plan"] == nil {
+		s.SampleSizes = d.grid(raw)
+	}
 	d.arms(raw, s)
 	d.transforms(raw, s)
 	s.Criteria = d.criteria(raw, s.Level)
@@ -307,7 +331,7 @@ func (d *decoder) integer(m map[string]any, table, key string, lo, hi int64) (in
 func (d *decoder) grid(raw map[string]any) []int {
 	v, ok := raw["sample_sizes"]
 	if !ok {
-		d.fail("", "sample_sizes is missing: give the grid of sample sizes to check, e.g. sample_sizes = [10, 20, 40, 80]")
+		d.fail("", "sample_sizes is missing: give the grid of sample sizes to check, e.g. sample_sizes = [10, 20, 40, 80], or a [plan] table to search for the smallest adequate n")
 		return nil
 	}
 	list, ok := v.([]any)
@@ -697,4 +721,76 @@ func bandExample(key string) string {
 		return "[0.925, 0.975]"
 	}
 	return "[0.9, 1.1]"
+}
+
+func (d *decoder) plan(raw map[string]any) *PlanSpec {
+	v, ok := raw["plan"]
+	if !ok {
+		return nil
+	}
+	m, ok := v.(map[string]any)
+	if !ok {
+		d.fail("plan", "plan must be a table ([plan]), got %s", typeName(v))
+		return nil
+	}
+	d.unknownKeys("plan", m, []string{"n_min", "n_max", "max_replicates", "batch", "confidence", "window"})
+	p := &PlanSpec{Confidence: 0.95}
+	good := true
+	need := func(key string, lo, hi int64) int {
+		if _, given := m[key]; !given {
+			d.fail("plan", "[plan] needs %s, a whole number from %d to %d", key, lo, hi)
+			good = false
+			return 0
+		}
+		n, ok := d.integer(m, "plan", key, lo, hi)
+		good = good && ok
+		return int(n)
+	}
+	p.NMin = need("n_min", 2, MaxSampleSize)
+	p.NMax = need("n_max", 2, MaxSampleSize)
+	p.MaxReplicates = need("max_replicates", BlockSize, MaxReplicates)
+	if p.MaxReplicates%BlockSize != 0 {
+		d.fail("plan.max_replicates", "max_replicates = %d must be a multiple of the block size %d, so that every look ends on a block", p.MaxReplicates, BlockSize)
+		good = false
+	}
+	if good && p.NMax <= p.NMin {
+		d.fail("plan.n_max", "n_max = %d must be larger than n_min = %d", p.NMax, p.NMin)
+		good = false
+	}
+	if good {
+		// Default: about ten looks, whole blocks each.
+		p.Batch = max(BlockSize, p.MaxReplicates/10/BlockSize*BlockSize)
+	}
+	if _, given := m["batch"]; given {
+		if b, ok := d.integer(m, "plan", "batch", BlockSize, MaxReplicates); ok {
+			if b%BlockSize != 0 {
+				d.fail("plan.batch", "batch = %d must be a multiple of the block size %d, so that every look ends on a block", b, BlockSize)
+				good = false
+			} else if good && int(b) > p.MaxReplicates {
+				d.fail("plan.batch", "batch = %d is larger than max_replicates = %d", b, p.MaxReplicates)
+				good = false
+			} else {
+				p.Batch = int(b)
+			}
+		} else {
+			good = false
+		}
+	}
+	if c, ok := d.number(m, "plan", "confidence"); ok {
+		if !(c >= 0.5 && c < 1) {
+			d.fail("plan.confidence", "confidence = %v is out of range: the confidence of each decision must be at least 0.5 and below 1, e.g. 0.95", c)
+			good = false
+		} else {
+			p.Confidence = c
+		}
+	}
+	if _, given := m["window"]; given {
+		w, ok := d.integer(m, "plan", "window", 1, 1000)
+		p.Window = int(w)
+		good = good && ok
+	}
+	if !good {
+		return nil
+	}
+	return p
 }

@@ -81,18 +81,26 @@ func judge(lo, hi float64, band [2]float64) Check {
 	return c
 }
 
-// Summarize computes every summary row, transform by transform and n by n.
+// Summarize computes every summary row, transform by transform and n by
+// n, deciding each criterion from its Monte Carlo 95% interval.
 func (r *Result) Summarize() []Row {
 	var rows []Row
 	for t, info := range r.Study.Transforms {
 		for ni := range r.Study.SampleSizes {
-			rows = append(rows, r.row(t, ni, info.Name))
+			rows = append(rows, r.row(t, ni, info.Name, mcZ))
 		}
 	}
 	return rows
 }
 
-func (r *Result) row(t, ni int, name string) Row {
+// SummarizeCell computes the row of transform t at sample size index ni,
+// deciding each criterion from a Monte Carlo interval with normal
+// quantile z (the planner widens it to spend its error over looks).
+func (r *Result) SummarizeCell(t, ni int, z float64) Row {
+	return r.row(t, ni, r.Study.Transforms[t].Name, z)
+}
+
+func (r *Result) row(t, ni int, name string, z float64) Row {
 	c := r.Cells[t][ni]
 	p := r.Predictions[t][ni]
 	cm := c.merged()
@@ -153,21 +161,21 @@ func (r *Result) row(t, ni int, name string) Row {
 	row.KSPivot = c.Wald.KSNormal()
 
 	crit := r.Study.Criteria
-	lo, hi := wilson(float64(c.Covered), R)
+	lo, hi := wilson(float64(c.Covered), R, z)
 	row.CoverageRange = [2]float64{lo, hi}
 	row.Checks[0] = judge(lo, hi, crit.Coverage)
 	vlo, vhi := nan, nan
 	if !math.IsNaN(row.EmpVarMCSE) {
 		// The interval for emp_var, inverted: delta_var is exact.
-		vlo = p.DeltaVar / (row.EmpVar + mcZ*row.EmpVarMCSE)
-		if d := row.EmpVar - mcZ*row.EmpVarMCSE; d > 0 {
+		vlo = p.DeltaVar / (row.EmpVar + z*row.EmpVarMCSE)
+		if d := row.EmpVar - z*row.EmpVarMCSE; d > 0 {
 			vhi = p.DeltaVar / d
 		} else {
 			vhi = math.Inf(1)
 		}
 	}
 	row.Checks[1] = judge(vlo, vhi, crit.VarRatio)
-	row.Checks[2] = judge(row.StdBias-mcZ*row.StdBiasMCSE, row.StdBias+mcZ*row.StdBiasMCSE, [2]float64{-crit.StdBias, crit.StdBias})
+	row.Checks[2] = judge(row.StdBias-z*row.StdBiasMCSE, row.StdBias+z*row.StdBiasMCSE, [2]float64{-crit.StdBias, crit.StdBias})
 	row.Verdict = combine(row.Checks[:])
 	return row
 }
@@ -186,18 +194,26 @@ func combine(checks []Check) Verdict {
 	return v
 }
 
-// wilson is the Wilson (1927) score interval for k successes in n trials
-// at the 95% level.
-func wilson(k, n float64) (float64, float64) {
+// wilson is the Wilson (1927) score interval for k successes in n trials,
+// z the normal quantile of its level.
+func wilson(k, n, z float64) (float64, float64) {
 	if n == 0 {
 		return math.NaN(), math.NaN()
 	}
 	p := k / n
-	z2 := mcZ * mcZ
+	z2 := z * z
 	centre := p + z2/(2*n)
-	half := mcZ * math.Sqrt(p*(1-p)/n+z2/(4*n*n))
+	half := z * math.Sqrt(p*(1-p)/n+z2/(4*n*n))
 	den := 1 + z2/n
-	return (centre - half) / den, (centre + half) / den
+	lo, hi := (centre-half)/den, (centre+half)/den
+	// At k = 0 or k = n the bound is 0 or 1 exactly; rounding misses it.
+	if k == 0 {
+		lo = 0
+	}
+	if k == n {
+		hi = 1
+	}
+	return lo, hi
 }
 
 // Status of a transform over the whole grid.

@@ -29,6 +29,8 @@ const usage = `deltaprobe checks whether the delta-method approximation holds at
 
 usage:
   deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
+  deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
+                                    search for the smallest adequate n ([plan] table)
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
   deltaprobe report DIR             rewrite the CSV files, figures and page from DIR/result.json
   deltaprobe families               the data-generating families and their estimators
@@ -49,6 +51,8 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return cmdRun(args[1:], stdout, stderr)
 	case "predict":
 		return cmdPredict(args[1:], stdout, stderr)
+	case "plan":
+		return cmdPlan(args[1:], stdout, stderr)
 	case "families":
 		return cmdFamilies(args[1:], stdout, stderr)
 	case "report":
@@ -60,7 +64,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "deltaprobe: unknown command %q; accepted: run, predict, report, families, version\n", args[0])
+	fmt.Fprintf(stderr, "deltaprobe: unknown command %q; accepted: run, plan, predict, report, families, version\n", args[0])
 	return exitUsage
 }
 
@@ -138,6 +142,10 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 		s.Seed = uint64(*seed)
+	}
+	if len(s.SampleSizes) == 0 {
+		fmt.Fprintf(stderr, "%s: the study has a [plan] but no sample_sizes; use deltaprobe plan, or add sample_sizes to run a grid\n", s.File)
+		return exitUsage
 	}
 	if *workers < 0 {
 		fmt.Fprintf(stderr, "deltaprobe run: -workers %d is out of range: give 1 or more (0 means all cores)\n", *workers)
@@ -307,5 +315,66 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 	}
 	report.VerdictTable(stdout, res)
 	fmt.Fprintf(stderr, "rewrote the report in %s from result.json\n", dir)
+	return exitOK
+}
+
+func cmdPlan(args []string, stdout, stderr io.Writer) int {
+	fs := newFlagSet("plan", "plan STUDY.toml [flags]", stderr)
+	out := fs.String("o", "", "output folder (default out/<study name>-plan)")
+	workers := fs.Int("workers", 0, "worker goroutines (default: all cores)")
+	budget := fs.Int64("budget", 0, "cap on the replicates simulated across the whole plan (0: none)")
+	seed := fs.Int64("seed", -1, "seed, overriding the study file")
+	force := fs.Bool("force", false, "write into a non-empty output folder")
+	quiet := fs.Bool("quiet", false, "no progress on stderr")
+	positional, err := parseInterspersed(fs, args)
+	if err != nil {
+		return flagErr(err)
+	}
+	s, code := loadStudy("plan", positional, stderr)
+	if s == nil {
+		return code
+	}
+	if s.Plan == nil {
+		fmt.Fprintf(stderr, "%s: no [plan] table; add one with n_min, n_max and max_replicates (see the README)\n", s.File)
+		return exitUsage
+	}
+	if *seed != -1 {
+		if *seed < 0 {
+			fmt.Fprintf(stderr, "deltaprobe plan: -seed %d is out of range: accepted are whole numbers ≥ 0\n", *seed)
+			return exitUsage
+		}
+		s.Seed = uint64(*seed)
+	}
+	if *budget < 0 || *workers < 0 {
+		fmt.Fprintln(stderr, "deltaprobe plan: -budget and -workers take whole numbers ≥ 0")
+		return exitUsage
+	}
+	dir := *out
+	if dir == "" {
+		dir = filepath.Join("out", strings.TrimSuffix(filepath.Base(s.File), filepath.Ext(s.File))+"-plan")
+	}
+	if err := checkOutDir(dir, *force); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
+		return exitUsage
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	if !*quiet {
+		fmt.Fprintf(stderr, "planning %d transforms over n in [%d, %d]...\n", len(s.Transforms), s.Plan.NMin, s.Plan.NMax)
+	}
+	plan, err := sim.Plan(ctx, s, *budget, sim.Options{Workers: *workers})
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
+		if errors.Is(err, context.Canceled) {
+			return exitInterrupted
+		}
+		return exitFailure
+	}
+	if err := report.WritePlan(dir, plan); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
+		return exitFailure
+	}
+	report.PlanTable(stdout, s, plan)
+	fmt.Fprintf(stderr, "wrote %s (plan.csv, verdicts.csv)\n", dir)
 	return exitOK
 }

@@ -1,8 +1,6 @@
 package expr
 
-import (
-	"fmt"
-)
+import "fmt"
 
 // instr is one step of a compiled program. Operands live in numbered slots:
 // an instruction reads slot dst (and dst+1 for two-operand ops) and writes

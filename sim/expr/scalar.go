@@ -132,9 +132,10 @@ func powKDeriv2(u, k float64) float64 {
 	return k * (k - 1) * math.Pow(u, k-2)
 }
 
-// applyUnary is the value of a one-operand instruction. Constant folding and
-// Value use it; the derivative paths compute the same value inline through
-// the helpers above.
+// applyUnary is the value of a one-operand instruction. Constant folding uses
+// it for every opcode and Value for the built-in functions; the derivative
+// paths compute the same values inline through the helpers above, and a test
+// checks that all of them agree bit for bit.
 func applyUnary(op opcode, u, k float64) float64 {
 	switch op {
 	case opNeg:

@@ -1,0 +1,476 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"deltaprobe/sim"
+)
+
+// The trends figure sets every criterion against n, panel by panel, on one
+// log axis, so a reader sees where each one enters its band and which one
+// holds the answer back. Bars are the Monte Carlo intervals the verdicts
+// use, so "the bar lies inside the grey band" is exactly "the criterion
+// passes at that n".
+
+const trendsHeight = 10 * vg.Inch
+
+// Two-sided 95% normal quantile, as sim uses for its Monte Carlo intervals.
+const z95 = 1.959963984540054
+
+// panel is one tile of a figure: a plot, the title above it and the
+// legend row under the title.
+type panel struct {
+	title  string
+	note   string // set after the title in regular type
+	plot   *plot.Plot
+	legend []legendItem
+}
+
+// trendAxes holds what every trends panel shares: the x positions and the
+// smallest adequate n.
+type trendAxes struct {
+	ns       []int
+	xmin     float64
+	xmax     float64
+	dodge    float64 // factor by which a second series is shifted right
+	mark     int     // smallest adequate n, 0 if none
+	tickGap  float64
+	criteria sim.Criteria
+	level    float64
+}
+
+func newTrendAxes(r *sim.Result, v sim.TransformVerdict) trendAxes {
+	ns := r.Study.SampleSizes
+	lo, hi := float64(ns[0]), float64(ns[len(ns)-1])
+	span := math.Max(math.Log10(hi/lo), 0.3)
+	return trendAxes{
+		ns:   ns,
+		xmin: lo / math.Pow(10, 0.06*span),
+		xmax: hi * math.Pow(10, 0.06*span),
+		// Two series at one n sit a little apart so their bars do not
+		// hide each other; the shift is a fixed share of the axis.
+		dodge:    math.Pow(10, 0.01*span),
+		mark:     v.SmallestN,
+		tickGap:  0.09 * span,
+		criteria: r.Study.Criteria,
+		level:    r.Study.Level,
+	}
+}
+
+// newTrendPanel is a panel with the shared log n axis.
+func (a trendAxes) newPanel(ylabel string) *plot.Plot {
+	p := newPanel()
+	p.X.Scale = plot.LogScale{}
+	p.X.Tick.Marker = sampleSizeTicks{ns: a.ns, minGap: a.tickGap}
+	p.X.Label.Text = "sample size n (log scale)"
+	p.Y.Label.Text = ylabel
+	return p
+}
+
+// finish fixes the ranges after every plotter is in: x to the shared
+// range, y to the data with a margin, and room at the top for the label
+// of the smallest adequate n.
+func (a trendAxes) finish(p *plot.Plot, yfloor float64) {
+	p.X.Min, p.X.Max = a.xmin, a.xmax
+	lo, hi := p.Y.Min, p.Y.Max
+	if !finite(lo, hi) {
+		lo, hi = 0, 1
+	}
+	if !math.IsNaN(yfloor) {
+		lo = math.Min(lo, yfloor)
+	}
+	if hi-lo < 1e-12 {
+		d := math.Max(math.Abs(hi)*0.05, 0.01)
+		lo, hi = lo-d, hi+d
+	}
+	span := hi - lo
+	top := 0.06
+	if a.mark > 0 {
+		top = 0.2
+	}
+	p.Y.Min, p.Y.Max = lo-0.06*span, hi+top*span
+	if !math.IsNaN(yfloor) && lo >= yfloor {
+		p.Y.Min = math.Max(p.Y.Min, yfloor)
+	}
+	if a.mark > 0 {
+		p.Add(vMark{at: float64(a.mark), label: "n = " + strconv.Itoa(a.mark)})
+	}
+}
+
+func xs(rows []sim.Row, factor float64) []float64 {
+	out := make([]float64, len(rows))
+	for i, r := range rows {
+		out[i] = float64(r.N) * factor
+	}
+	return out
+}
+
+func column(rows []sim.Row, f func(sim.Row) float64) []float64 {
+	out := make([]float64, len(rows))
+	for i, r := range rows {
+		out[i] = f(r)
+	}
+	return out
+}
+
+// addSeries adds s to p and its entry to the legend.
+func addSeries(p *plot.Plot, legend *[]legendItem, s series) error {
+	thumbs, err := s.add(p)
+	if err != nil {
+		return fmt.Errorf("%s: %w", s.label, err)
+	}
+	if thumbs != nil {
+		*legend = append(*legend, legendItem{label: s.label, thumbs: thumbs})
+	}
+	return nil
+}
+
+var (
+	refStyle  = draw.LineStyle{Color: colRef, Width: vg.Points(1.25), Dashes: dashed}
+	noiseLine = draw.LineStyle{Color: colRef, Width: vg.Points(1.25), Dashes: dotted}
+	idealLine = draw.LineStyle{Color: colRef, Width: vg.Points(0.5)}
+)
+
+func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
+	p := a.newPanel("variance ratio")
+	c := a.criteria.VarRatio
+	band := hBand{lo: c[0], hi: c[1], color: colBand}
+	p.Add(band, hLine{at: 1, style: idealLine})
+	legend := []legendItem{}
+	// The bars of the delta ratio are the interval the variance verdict
+	// uses: emp_var's Monte Carlo interval, inverted (delta_var is exact).
+	delta := series{label: "delta-method / simulated variance", x: xs(rows, 1),
+		y:  column(rows, func(r sim.Row) float64 { return r.VarRatio }),
+		lo: column(rows, func(r sim.Row) float64 { return r.Checks[1].Low }),
+		hi: column(rows, func(r sim.Row) float64 { return r.Checks[1].High }),
+	}
+	// The plug-in ratio shares emp_var as its denominator, so it takes the
+	// same relative interval. That leaves out the Monte Carlo error of the
+	// mean plug-in variance itself, an average over every replicate and far
+	// smaller than that of emp_var.
+	scale := func(r sim.Row, end float64) float64 {
+		if !(r.VarRatio > 0) {
+			return math.NaN()
+		}
+		return r.PluginRatio * end / r.VarRatio
+	}
+	plugin := series{label: "mean plug-in / simulated variance", x: xs(rows, a.dodge), style: 1,
+		y:  column(rows, func(r sim.Row) float64 { return r.PluginRatio }),
+		lo: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].Low) }),
+		hi: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].High) }),
+	}
+	for _, s := range []series{delta, plugin} {
+		if err := addSeries(p, &legend, s); err != nil {
+			return panel{}, err
+		}
+	}
+	legend = append(legend, legendItem{label: "accepted " + fmtBand(c), thumbs: []plot.Thumbnailer{band}})
+	a.finish(p, math.NaN())
+	return panel{title: "Variance: delta method against simulation", plot: p, legend: legend}, nil
+}
+
+func (a trendAxes) coveragePanel(rows []sim.Row) (panel, error) {
+	p := a.newPanel("coverage (proportion)")
+	c := a.criteria.Coverage
+	band := hBand{lo: c[0], hi: c[1], color: colBand}
+	nominal := hLine{at: a.level, style: refStyle}
+	p.Add(band, nominal)
+	legend := []legendItem{}
+	cov := series{label: "simulated coverage", x: xs(rows, 1),
+		y:  column(rows, func(r sim.Row) float64 { return r.Coverage }),
+		lo: column(rows, func(r sim.Row) float64 { return r.CoverageRange[0] }),
+		hi: column(rows, func(r sim.Row) float64 { return r.CoverageRange[1] }),
+	}
+	if err := addSeries(p, &legend, cov); err != nil {
+		return panel{}, err
+	}
+	legend = append(legend,
+		legendItem{label: "nominal " + fmtG(a.level), thumbs: []plot.Thumbnailer{nominal}},
+		legendItem{label: "accepted " + fmtBand(c), thumbs: []plot.Thumbnailer{band}})
+	a.finish(p, math.NaN())
+	return panel{title: "Coverage of the Wald interval", plot: p, legend: legend}, nil
+}
+
+// missBars is the normal-approximation 95% interval of a share p of R
+// replicates, the same form as sim's coverage MCSE. The miss rates are
+// diagnostic: they enter no verdict, so no sharper interval is needed.
+func missBars(rows []sim.Row, share func(sim.Row) float64) (lo, hi []float64) {
+	for _, r := range rows {
+		p, n := share(r), float64(r.Replicates)
+		h := math.NaN()
+		if n > 0 {
+			h = z95 * math.Sqrt(p*(1-p)/n)
+		}
+		lo, hi = append(lo, math.Max(p-h, 0)), append(hi, p+h)
+	}
+	return lo, hi
+}
+
+func (a trendAxes) missPanel(rows []sim.Row) (panel, error) {
+	p := a.newPanel("miss rate (proportion)")
+	nominal := hLine{at: (1 - a.level) / 2, style: refStyle}
+	p.Add(nominal)
+	legend := []legendItem{}
+	below := func(r sim.Row) float64 { return r.MissBelow }
+	above := func(r sim.Row) float64 { return r.MissAbove }
+	blo, bhi := missBars(rows, below)
+	alo, ahi := missBars(rows, above)
+	for _, s := range []series{
+		{label: "interval below the truth", x: xs(rows, 1), y: column(rows, below), lo: blo, hi: bhi},
+		{label: "interval above the truth", x: xs(rows, a.dodge), y: column(rows, above), lo: alo, hi: ahi, style: 1},
+	} {
+		if err := addSeries(p, &legend, s); err != nil {
+			return panel{}, err
+		}
+	}
+	legend = append(legend, legendItem{label: "nominal " + fmtG((1-a.level)/2) + " each", thumbs: []plot.Thumbnailer{nominal}})
+	a.finish(p, 0)
+	return panel{title: "One-sided misses", plot: p, legend: legend}, nil
+}
+
+func (a trendAxes) biasPanel(rows []sim.Row) (panel, error) {
+	p := a.newPanel("bias / delta-method sd")
+	b := a.criteria.StdBias
+	band := hBand{lo: -b, hi: b, color: colBand}
+	p.Add(band, hLine{at: 0, style: idealLine})
+	legend := []legendItem{}
+	sim2 := series{label: "simulated bias", x: xs(rows, 1),
+		y:  column(rows, func(r sim.Row) float64 { return r.StdBias }),
+		lo: column(rows, func(r sim.Row) float64 { return r.Checks[2].Low }),
+		hi: column(rows, func(r sim.Row) float64 { return r.Checks[2].High }),
+	}
+	pred := series{label: "second-order prediction", x: xs(rows, a.dodge), style: 1,
+		y: column(rows, func(r sim.Row) float64 { return r.Bias2nd / math.Sqrt(r.DeltaVar) }),
+	}
+	for _, s := range []series{sim2, pred} {
+		if err := addSeries(p, &legend, s); err != nil {
+			return panel{}, err
+		}
+	}
+	legend = append(legend, legendItem{label: "accepted ±" + fmtG(b), thumbs: []plot.Thumbnailer{band}})
+	a.finish(p, math.NaN())
+	return panel{title: "Bias, in delta-method standard deviations", plot: p, legend: legend}, nil
+}
+
+// ksNoise is the 95% point of the Kolmogorov distribution over √R
+// (Kolmogorov 1933; the asymptotic constant 1.358): a pivot that is
+// exactly N(0, 1) reaches this distance by chance one time in twenty. The
+// binned KS distance errs low by about 0.002, so the line is a guide.
+const ksNoise = 1.3581
+
+func (a trendAxes) ksPanel(r *sim.Result, t int, rows []sim.Row) (panel, error) {
+	p := a.newPanel("KS distance from N(0, 1)")
+	legend := []legendItem{}
+	noise := make([]float64, len(rows))
+	for i := range rows {
+		h := r.Cells[t][i].Wald
+		noise[i] = math.NaN()
+		if tot := h.Total(); tot > 0 {
+			noise[i] = ksNoise / math.Sqrt(float64(tot))
+		}
+	}
+	ks := series{label: "Wald pivot against N(0, 1)", x: xs(rows, 1), y: column(rows, func(r sim.Row) float64 { return r.KSPivot })}
+	if err := addSeries(p, &legend, ks); err != nil {
+		return panel{}, err
+	}
+	th, err := noiseSeries(p, xs(rows, 1), noise)
+	if err != nil {
+		return panel{}, err
+	}
+	if th != nil {
+		legend = append(legend, legendItem{label: "Monte Carlo noise (95%)", thumbs: th})
+	}
+	a.finish(p, 0)
+	return panel{title: "Normality of the Wald pivot", plot: p, legend: legend}, nil
+}
+
+// trendsPNG draws the trends figure of transform t.
+func trendsPNG(r *sim.Result, t int, rows []sim.Row, v sim.TransformVerdict) ([]byte, int, int, error) {
+	a := newTrendAxes(r, v)
+	var panels []panel
+	for _, mk := range []func() (panel, error){
+		func() (panel, error) { return a.variancePanel(rows) },
+		func() (panel, error) { return a.coveragePanel(rows) },
+		func() (panel, error) { return a.biasPanel(rows) },
+		func() (panel, error) { return a.missPanel(rows) },
+		func() (panel, error) { return a.ksPanel(r, t, rows) },
+	} {
+		pn, err := mk()
+		if err != nil {
+			return nil, 0, 0, err
+		}
+		panels = append(panels, pn)
+	}
+	info := r.Study.Transforms[t]
+	title := figureTitle(info, "")
+	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
+		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
+	key := trendsKey(rows, v)
+	png, w, h, err := encodePNG(trendsHeight, func(dc draw.Canvas) {
+		rest := drawHeading(dc, title, sub)
+		drawPanels(rest, panels, 3, 2, func(c draw.Canvas) { drawKey(c, "How to read this figure", key) })
+	})
+	return png, w, h, err
+}
+
+// noiseSeries draws the Monte Carlo noise level as a dotted black line.
+func noiseSeries(p *plot.Plot, x, y []float64) ([]plot.Thumbnailer, error) {
+	var px, py []float64
+	for i := range x {
+		if finite(y[i]) {
+			px, py = append(px, x[i]), append(py, y[i])
+		}
+	}
+	if len(px) == 0 {
+		return nil, nil
+	}
+	l, err := lineOf(px, py, noiseLine)
+	if err != nil {
+		return nil, err
+	}
+	p.Add(l)
+	return []plot.Thumbnailer{l}, nil
+}
+
+// drawPanels lays panels out in a rows×cols grid with aligned data areas.
+// A slot past the last panel, if any, is handed to extra.
+func drawPanels(dc draw.Canvas, panels []panel, rows, cols int, extra func(draw.Canvas)) {
+	tiles := draw.Tiles{
+		Rows: rows, Cols: cols,
+		PadTop: vg.Points(4), PadBottom: vg.Points(8),
+		PadLeft: vg.Points(8), PadRight: vg.Points(16),
+		PadX: vg.Points(30), PadY: vg.Points(18),
+	}
+	grid := make([][]*plot.Plot, rows)
+	for j := range grid {
+		grid[j] = make([]*plot.Plot, cols)
+		for i := range grid[j] {
+			if k := j*cols + i; k < len(panels) {
+				grid[j][i] = panels[k].plot
+			}
+		}
+	}
+	canvases := plot.Align(grid, tiles, dc)
+	// One strip height for all, so data areas stay aligned across a row;
+	// the legend wraps within the width over the data area.
+	titleH := textStyle(sansBold, fontPanel).Height("Mg") + vg.Points(6)
+	legendH := vg.Length(0)
+	for k, pn := range panels {
+		c := canvases[k/cols][k%cols]
+		legendH = max(legendH, legendRowHeight(pn.legend, c.Max.X-pn.plot.DataCanvas(c).Min.X))
+	}
+	strip := titleH + legendH + vg.Points(4)
+	for j := range grid {
+		for i := range grid[j] {
+			k := j*cols + i
+			c := canvases[j][i]
+			if k >= len(panels) {
+				if extra != nil {
+					extra(tiles.At(dc, i, j))
+				}
+				continue
+			}
+			pn := panels[k]
+			// The title and legend sit over the data area's left edge.
+			left := pn.plot.DataCanvas(c).Min.X
+			ts := textStyle(sansBold, fontPanel)
+			c.FillText(ts, vg.Point{X: left, Y: c.Max.Y}, pn.title)
+			if pn.note != "" {
+				// Share the title's baseline: drop the smaller type by the
+				// difference of the ascents.
+				ns := textStyle(sans, fontSmall)
+				y := c.Max.Y - (ts.FontExtents().Ascent - ns.FontExtents().Ascent)
+				c.FillText(ns, vg.Point{X: left + ts.Width(pn.title) + vg.Points(6), Y: y}, pn.note)
+			}
+			legendArea := draw.Canvas{Canvas: c.Canvas, Rectangle: vg.Rectangle{
+				Min: vg.Point{X: left, Y: c.Max.Y - strip}, Max: vg.Point{X: c.Max.X, Y: c.Max.Y - titleH},
+			}}
+			drawLegendRow(legendArea, pn.legend)
+			pn.plot.Draw(draw.Crop(c, 0, 0, 0, -strip))
+		}
+	}
+}
+
+// drawKey sets a heading and paragraphs of text in c.
+func drawKey(c draw.Canvas, heading string, paras []string) {
+	c = draw.Crop(c, vg.Points(12), 0, 0, 0)
+	hs := textStyle(sansBold, fontPanel)
+	c.FillText(hs, vg.Point{X: c.Min.X, Y: c.Max.Y}, heading)
+	y := c.Max.Y - hs.Height(heading) - vg.Points(8)
+	st := textStyle(sans, fontSmall)
+	lineH := st.Height("Mg") + vg.Points(2)
+	for _, para := range paras {
+		for _, line := range wrapText(st, para, c.Max.X-c.Min.X) {
+			if y-lineH < c.Min.Y {
+				return
+			}
+			c.FillText(st, vg.Point{X: c.Min.X, Y: y}, line)
+			y -= lineH
+		}
+		y -= vg.Points(5)
+	}
+}
+
+// trendsKey explains the figure in words and lists the verdicts by n, so
+// the PNG can be read on its own, away from the page.
+func trendsKey(rows []sim.Row, v sim.TransformVerdict) []string {
+	paras := []string{
+		"Bars are the Monte Carlo 95% intervals the verdict uses (Wilson intervals for the coverage). " +
+			"A criterion passes at n when its bar lies inside the grey band, fails when the bar lies wholly outside it, and is unclear otherwise.",
+		"Only variance, coverage and bias decide the verdict; the one-sided misses and the KS distance help to see why.",
+	}
+	if v.SmallestN > 0 {
+		paras = append(paras, fmt.Sprintf("The dash-dot line marks n = %d, the smallest n from which every criterion passes at that n and every larger n of the grid.", v.SmallestN))
+	}
+	paras = append(paras, "Verdict by n: "+verdictRuns(rows)+".")
+	return paras
+}
+
+// verdictRuns condenses the verdicts by n into runs, "5–10 fail; 20–160 pass".
+func verdictRuns(rows []sim.Row) string {
+	var parts []string
+	for i := 0; i < len(rows); {
+		j := i
+		for j+1 < len(rows) && rows[j+1].Verdict == rows[i].Verdict {
+			j++
+		}
+		span := strconv.Itoa(rows[i].N)
+		if j > i {
+			span += "–" + strconv.Itoa(rows[j].N)
+		}
+		parts = append(parts, span+" "+string(rows[i].Verdict))
+		i = j + 1
+	}
+	return strings.Join(parts, "; ")
+}
+
+// verdictPhrase is the one-line answer for a figure's subtitle.
+func verdictPhrase(v sim.TransformVerdict) string {
+	switch v.Status {
+	case sim.Adequate:
+		if v.Limiting == "none" || v.Limiting == "" {
+			return fmt.Sprintf("Adequate at every n of the grid (from n = %d).", v.SmallestN)
+		}
+		return fmt.Sprintf("Adequate from n = %d; %s sets it.", v.SmallestN, v.Limiting)
+	case sim.NotReached:
+		return fmt.Sprintf("Not adequate within the grid; %s fails at the largest n.", v.Limiting)
+	case sim.StatusUncl:
+		return fmt.Sprintf("Undecided: %s is unclear at the largest n.", v.Limiting)
+	}
+	return ""
+}
+
+func fmtBand(b [2]float64) string { return fmtG(b[0]) + "–" + fmtG(b[1]) }
+
+func trendsAlt(r *sim.Result, t int, v sim.TransformVerdict) string {
+	info := r.Study.Transforms[t]
+	return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, standardised bias, one-sided miss rates and KS distance, each with its accepted band. %s",
+		info.Name, verdictPhrase(v))
+}

@@ -1,0 +1,289 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"html/template"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+
+	"deltaprobe/sim"
+)
+
+// PageFile is the name of the HTML report inside the output folder.
+const PageFile = "index.html"
+
+// The page is one static file beside its figures: no scripts, no styles
+// or fonts from elsewhere, nothing fetched. Its markup is well-formed XML
+// as well as HTML, so a plain XML parser can check it.
+
+type pageData struct {
+	Title       string
+	Description string
+	Glance      []keyValue
+	Criteria    []string
+	Verdicts    []verdictLine
+	Warnings    []string
+	Sections    []transformSection
+	Tables      []summaryTable
+	Source      string
+	SourceName  string
+	Provenance  []keyValue
+	Incomplete  bool
+}
+
+type keyValue struct{ Key, Value string }
+
+type verdictLine struct {
+	Name, Expr, Anchor string
+	Smallest           string
+	Status             string
+	StatusClass        string
+	Limiting           string
+	PerCriterion       [3]string
+	Why                string
+}
+
+type transformSection struct {
+	Name, Expr, Anchor string
+	Figures            []figureRef
+}
+
+type figureRef struct {
+	File, Alt, Caption string
+	Width, Height      int
+}
+
+type summaryTable struct {
+	Caption string
+	Columns []string
+	Rows    [][]summaryCell
+}
+
+type summaryCell struct {
+	Text, Class string
+}
+
+// The summary is split into three tables, each under a dozen columns, so
+// each fits a printed page and a reader finds a quantity among its kin.
+// Together they hold every column of summary.csv, under the same names.
+var summaryGroups = []struct {
+	caption string
+	columns []string
+}{
+	{"Estimate and bias", []string{"transform", "n", "replicates", "undefined", "truth", "mean", "bias", "bias_mcse", "rel_bias", "std_bias", "bias_2nd", "verdict"}},
+	{"Variance", []string{"transform", "n", "emp_var", "emp_var_mcse", "delta_var", "var_ratio", "var_ratio_mcse", "plugin_var", "plugin_ratio", "robust_se"}},
+	{"Intervals and shape", []string{"transform", "n", "coverage", "coverage_mcse", "miss_below", "miss_above", "skewness", "ex_kurtosis", "ks_pivot", "verdict"}},
+}
+
+var pageTemplate = template.Must(template.New("page").Parse(pageHTML))
+
+// Page renders index.html for r, with figs (from Figures) as the images
+// it shows; they are referenced by file name, beside the page.
+func Page(r *sim.Result, figs []Figure) ([]byte, error) {
+	d := buildPage(r, figs)
+	var buf bytes.Buffer
+	if err := pageTemplate.Execute(&buf, d); err != nil {
+		return nil, fmt.Errorf("rendering %s: %w", PageFile, err)
+	}
+	return buf.Bytes(), nil
+}
+
+func buildPage(r *sim.Result, figs []Figure) pageData {
+	rows := r.Summarize()
+	vs := sim.Verdicts(rows)
+	st := r.Study
+	names := make([]string, len(st.Transforms))
+	for i, t := range st.Transforms {
+		names[i] = t.Name
+	}
+	stems := SafeNames(names)
+	d := pageData{
+		Title:       st.Title,
+		Description: st.Description,
+		Warnings:    r.Warnings(rows),
+		Source:      st.Source,
+		SourceName:  st.File,
+		Incomplete:  !r.Complete,
+	}
+	if d.Title == "" {
+		d.Title = st.File
+	}
+	d.Glance = []keyValue{
+		{"Model", describeModel(st.Arms)},
+		{"Sample sizes", joinInts(st.SampleSizes)},
+		{"Replicates", fmt.Sprintf("%d per sample size", st.Replicates)},
+		{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(st.Level))},
+	}
+	c := st.Criteria
+	d.Criteria = []string{
+		fmt.Sprintf("Coverage: its Wilson 95%% interval lies inside %s–%s.", fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
+		fmt.Sprintf("Variance: the Monte Carlo 95%% interval of delta_var / emp_var lies inside %s–%s.", fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
+		fmt.Sprintf("Bias: the Monte Carlo 95%% interval of bias / delta-method sd lies inside ±%s.", fmtG(c.StdBias)),
+	}
+	nn := len(st.SampleSizes)
+	for t, info := range st.Transforms {
+		var v sim.TransformVerdict
+		if t < len(vs) {
+			v = vs[t]
+		}
+		trows := rows[t*nn : (t+1)*nn]
+		line := verdictLine{
+			Name: info.Name, Expr: info.Expr, Anchor: "t-" + stems[t],
+			Smallest:    dash(formatN(v.SmallestN)),
+			Status:      statusText(v.Status),
+			StatusClass: string(v.Status),
+			Limiting:    dash(v.Limiting),
+			Why:         explain(trows, v, c),
+		}
+		for k := range line.PerCriterion {
+			line.PerCriterion[k] = dash(formatN(v.PerCriterion[k]))
+		}
+		d.Verdicts = append(d.Verdicts, line)
+		sec := transformSection{Name: info.Name, Expr: info.Expr, Anchor: line.Anchor}
+		for _, f := range figs {
+			if f.Transform != t {
+				continue
+			}
+			sec.Figures = append(sec.Figures, figureRef{File: f.File, Alt: f.Alt, Caption: figureCaption(f.Kind), Width: f.Width, Height: f.Height})
+		}
+		d.Sections = append(d.Sections, sec)
+	}
+	d.Tables = summaryTables(rows)
+	d.Provenance = []keyValue{
+		{"Tool", "deltaprobe " + r.Tool},
+		{"Study file", st.File},
+		{"Study file SHA-256", st.SHA256},
+		{"Seed", strconv.FormatUint(st.Seed, 10)},
+		{"Replicates per sample size", strconv.Itoa(st.Replicates)},
+		{"Block size", strconv.Itoa(r.BlockSize)},
+		{"Workers", strconv.Itoa(r.Workers)},
+		{"Elapsed", fmt.Sprintf("%.2f s", r.Elapsed)},
+		{"Run complete", yesNo(r.Complete)},
+		{"Result layout", strconv.Itoa(r.Layout)},
+	}
+	return d
+}
+
+func figureCaption(kind string) string {
+	switch kind {
+	case KindTrends:
+		return "Each criterion against n. Grey bands are the study's accepted bands; bars are the Monte Carlo 95% intervals the verdicts use; the dash-dot line marks the smallest adequate n. One-sided misses and the KS distance of the Wald pivot are there to show why, and decide nothing."
+	case KindShapes:
+		return "The standardised estimate, (estimate − truth) / delta-method sd, at each n: as a histogram under the N(0, 1) density, and as quantiles against N(0, 1) quantiles. A shift shows bias, a spread unlike the curve a wrong variance, a bend in the quantiles skewness or heavy tails. Undefined replicates are left out."
+	}
+	return ""
+}
+
+func statusText(s sim.Status) string {
+	switch s {
+	case sim.Adequate:
+		return "adequate"
+	case sim.NotReached:
+		return "not reached"
+	case sim.StatusUncl:
+		return "unclear"
+	}
+	return string(s)
+}
+
+func yesNo(b bool) string {
+	if b {
+		return "yes"
+	}
+	return "no: only the blocks that finished are counted"
+}
+
+func joinInts(xs []int) string {
+	parts := make([]string, len(xs))
+	for i, x := range xs {
+		parts[i] = strconv.Itoa(x)
+	}
+	return strings.Join(parts, ", ")
+}
+
+// describeModel writes the arms as "normal (mean = 14, sd = 3.5)", with
+// parameters in name order so the page does not depend on map order.
+func describeModel(arms []sim.ArmInfo) string {
+	var parts []string
+	for _, a := range arms {
+		keys := make([]string, 0, len(a.Values))
+		for k := range a.Values {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		vals := make([]string, len(keys))
+		for i, k := range keys {
+			vals[i] = k + " = " + strconv.FormatFloat(a.Values[k], 'g', -1, 64)
+		}
+		s := a.Family + " (" + strings.Join(vals, ", ") + ")"
+		if a.Name != "" {
+			s = a.Name + ": " + s
+			if a.Allocation != 1 {
+				s += fmt.Sprintf(", allocation %g", a.Allocation)
+			}
+		}
+		parts = append(parts, s)
+	}
+	return strings.Join(parts, "; ")
+}
+
+func summaryTables(rows []sim.Row) []summaryTable {
+	var out []summaryTable
+	for _, g := range summaryGroups {
+		tb := summaryTable{Caption: g.caption, Columns: g.columns}
+		for _, r := range rows {
+			cells := make([]summaryCell, len(g.columns))
+			for i, col := range g.columns {
+				cells[i] = summaryCellFor(r, col)
+			}
+			tb.Rows = append(tb.Rows, cells)
+		}
+		out = append(out, tb)
+	}
+	return out
+}
+
+// summaryCellFor formats one value of summary.csv for reading: four
+// significant digits (summary.csv keeps eight), a dash where the value
+// does not exist.
+func summaryCellFor(r sim.Row, col string) summaryCell {
+	num := func(x float64) summaryCell {
+		switch {
+		case math.IsNaN(x):
+			return summaryCell{Text: "–", Class: "num"}
+		case math.IsInf(x, 1):
+			return summaryCell{Text: "∞", Class: "num"}
+		case math.IsInf(x, -1):
+			return summaryCell{Text: "−∞", Class: "num"}
+		}
+		return summaryCell{Text: strings.Replace(strconv.FormatFloat(x, 'g', 4, 64), "-", "−", 1), Class: "num"}
+	}
+	switch col {
+	case "transform":
+		return summaryCell{Text: r.Transform, Class: "name"}
+	case "n":
+		return summaryCell{Text: strconv.Itoa(r.N), Class: "num"}
+	case "replicates":
+		return summaryCell{Text: strconv.FormatInt(r.Replicates, 10), Class: "num"}
+	case "undefined":
+		return summaryCell{Text: strconv.FormatInt(r.Undefined, 10), Class: "num"}
+	case "verdict":
+		return summaryCell{Text: string(r.Verdict), Class: "v-" + string(r.Verdict)}
+	}
+	values := map[string]float64{
+		"truth": r.Truth, "mean": r.Mean, "bias": r.Bias, "bias_mcse": r.BiasMCSE,
+		"rel_bias": r.RelBias, "std_bias": r.StdBias, "bias_2nd": r.Bias2nd, "emp_var": r.EmpVar,
+		"emp_var_mcse": r.EmpVarMCSE, "delta_var": r.DeltaVar, "var_ratio": r.VarRatio,
+		"var_ratio_mcse": r.VarRatioMCSE, "plugin_var": r.PluginVar, "plugin_ratio": r.PluginRatio,
+		"coverage": r.Coverage, "coverage_mcse": r.CoverageMCSE, "miss_below": r.MissBelow,
+		"miss_above": r.MissAbove, "robust_se": r.RobustSE, "skewness": r.Skewness,
+		"ex_kurtosis": r.ExKurtosis, "ks_pivot": r.KSPivot,
+	}
+	if x, ok := values[col]; ok {
+		return num(x)
+	}
+	return summaryCell{Text: "?"}
+}

@@ -1,0 +1,125 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+
+	"deltaprobe/sim"
+)
+
+// explain answers, for one transform, "from what n is the delta method
+// adequate here, and why not before?" in a sentence or two built from the
+// rows: the n the verdict names, and what each criterion that held it
+// back showed at the n just below, with its Monte Carlo interval and band.
+func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
+	if len(rows) == 0 {
+		return ""
+	}
+	first, last := rows[0], rows[len(rows)-1]
+	switch v.Status {
+	case sim.Adequate:
+		idx := -1
+		for i, r := range rows {
+			if r.N == v.SmallestN {
+				idx = i
+				break
+			}
+		}
+		if idx <= 0 {
+			return fmt.Sprintf("Adequate from n = %d, the smallest n studied: coverage, variance and bias pass at every n of the grid. Smaller samples were not checked.", first.N)
+		}
+		prev := rows[idx-1]
+		s := fmt.Sprintf("Adequate from n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, strings.Join(problems(prev, crit), "; and "))
+		var passedEarlier []string
+		for _, r := range rows[:idx-1] {
+			if r.Verdict == sim.Pass {
+				passedEarlier = append(passedEarlier, strconv.Itoa(r.N))
+			}
+		}
+		if len(passedEarlier) > 0 {
+			s += fmt.Sprintf(" (n = %s passes too, but adequacy needs every larger n of the grid to pass as well.)", strings.Join(passedEarlier, ", "))
+		}
+		return s
+	case sim.NotReached:
+		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, strings.Join(problems(last, crit), "; and "))
+	case sim.StatusUncl:
+		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, strings.Join(problems(last, crit), "; and "))
+	}
+	return ""
+}
+
+// problems describes every criterion that does not pass at row r.
+func problems(r sim.Row, crit sim.Criteria) []string {
+	var out []string
+	for c, ch := range r.Checks {
+		if ch.Verdict == sim.Pass {
+			continue
+		}
+		out = append(out, describeCheck(c, r, ch))
+	}
+	if len(out) == 0 {
+		// Cannot happen for a row whose verdict is not pass; say so
+		// rather than print an empty clause.
+		out = append(out, "every criterion passes")
+	}
+	return out
+}
+
+// describeCheck says what criterion c showed at row r: its value, where
+// its interval lies against the band, and what that means.
+func describeCheck(c int, r sim.Row, ch sim.Check) string {
+	iv := fmt.Sprintf("Monte Carlo 95%% interval %s–%s", fmt3(ch.Low), fmt3(ch.High))
+	band := fmt.Sprintf("band %s–%s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
+	side := "straddles"
+	switch {
+	case ch.Verdict == sim.Fail && ch.High < ch.Band[0]:
+		side = "below"
+	case ch.Verdict == sim.Fail && ch.Low > ch.Band[1]:
+		side = "above"
+	}
+	switch c {
+	case 0:
+		switch side {
+		case "below":
+			return fmt.Sprintf("coverage is below its band: %s (%s; %s)", fmt3(r.Coverage), iv, band)
+		case "above":
+			return fmt.Sprintf("coverage is above its band, the interval too wide: %s (%s; %s)", fmt3(r.Coverage), iv, band)
+		}
+		return fmt.Sprintf("coverage is %s, its %s reaching over an edge of the %s", fmt3(r.Coverage), iv, band)
+	case 1:
+		switch side {
+		case "below":
+			return fmt.Sprintf("the delta-method variance is too small: %s of the simulated variance (%s; %s)", fmt3(r.VarRatio), iv, band)
+		case "above":
+			return fmt.Sprintf("the delta-method variance is too large: %s times the simulated variance (%s; %s)", fmt3(r.VarRatio), iv, band)
+		}
+		return fmt.Sprintf("the variance ratio is %s, its %s reaching over an edge of the %s", fmt3(r.VarRatio), iv, band)
+	case 2:
+		bound := fmt3(ch.Band[1])
+		iv2 := fmt.Sprintf("Monte Carlo 95%% interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
+		if side != "straddles" {
+			return fmt.Sprintf("the bias is %s delta-method sd, beyond ±%s (%s)", fmt3(r.StdBias), bound, iv2)
+		}
+		return fmt.Sprintf("the bias is %s delta-method sd, its %s reaching past ±%s", fmt3(r.StdBias), iv2, bound)
+	}
+	return sim.CriterionNames[c] + " does not pass"
+}
+
+// fmt3 writes x to three decimals, as the page's sentences quote values.
+func fmt3(x float64) string {
+	switch {
+	case math.IsNaN(x):
+		return "not available"
+	case math.IsInf(x, 1):
+		return "∞"
+	case math.IsInf(x, -1):
+		return "−∞"
+	}
+	s := strconv.FormatFloat(x, 'f', 3, 64)
+	if s == "-0.000" {
+		s = "0.000"
+	}
+	return strings.Replace(s, "-", "−", 1)
+}

@@ -1,0 +1,158 @@
+package report
+
+// pageHTML is the template of index.html. It is written as well-formed
+// XML (void elements closed, no named entities) so that tests can parse
+// it with encoding/xml; html/template escapes every value put into it.
+const pageHTML = `<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8" />
+<meta name="viewport" content="width=device-width, initial-scale=1" />
+<meta name="generator" content="deltaprobe" />
+<title>{{.Title}} – deltaprobe report</title>
+<style>
+:root { color-scheme: light; }
+html { -webkit-text-size-adjust: 100%; text-size-adjust: 100%; }
+body {
+  margin: 0 auto; padding: 1rem 1.25rem 3rem; max-width: 64rem;
+  font-family: system-ui, -apple-system, "Segoe UI", Roboto, "Liberation Sans", "DejaVu Sans", sans-serif;
+  font-size: 1rem; line-height: 1.5; color: #1a1a1a; background: #fff;
+}
+h1 { font-size: 1.6rem; line-height: 1.25; margin: 1rem 0 0.25rem; }
+h2 { font-size: 1.25rem; margin: 2.25rem 0 0.5rem; padding-bottom: 0.2rem; border-bottom: 1px solid #bbb; }
+h3 { font-size: 1.05rem; margin: 1.75rem 0 0.5rem; }
+p, ul, dl { margin: 0.5rem 0; }
+code, pre, .expr { font-family: ui-monospace, "Liberation Mono", "DejaVu Sans Mono", monospace; font-size: 0.92em; }
+a { color: #0b4f8a; }
+.lede { color: #444; }
+nav { font-size: 0.92rem; color: #444; margin: 0.75rem 0 0; }
+nav a { margin-right: 0.9rem; white-space: nowrap; }
+.scroll { overflow-x: auto; -webkit-overflow-scrolling: touch; margin: 0.5rem 0; }
+table { border-collapse: collapse; font-size: 0.9rem; }
+caption { text-align: left; font-weight: 600; padding: 0.25rem 0; }
+th, td { padding: 0.3rem 0.6rem; border-bottom: 1px solid #ddd; vertical-align: top; text-align: left; }
+th { font-weight: 600; border-bottom: 1px solid #888; }
+thead th { white-space: nowrap; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.name { overflow-wrap: anywhere; min-width: 6rem; }
+.summary td, .summary th { font-size: 0.85rem; padding: 0.2rem 0.5rem; }
+.status { font-weight: 600; }
+.not_reached, .v-fail { color: #8a2c00; }
+.unclear, .v-unclear { color: #6b4e00; }
+.why li { margin: 0.4rem 0; }
+.scope { border-left: 3px solid #888; padding: 0.4rem 0 0.4rem 0.9rem; margin: 1.25rem 0; }
+.scope p { margin: 0.3rem 0; }
+.warn li { margin: 0.25rem 0; }
+figure { margin: 1rem 0 1.75rem; }
+figure img { display: block; max-width: 100%; height: auto; border: 1px solid #e4e4e4; }
+figcaption { font-size: 0.9rem; color: #444; margin-top: 0.4rem; max-width: 48rem; }
+dl.kv { display: grid; grid-template-columns: max-content 1fr; gap: 0.2rem 1rem; }
+dl.kv dt { font-weight: 600; }
+dl.kv dd { margin: 0; overflow-wrap: anywhere; }
+pre { overflow-x: auto; background: #f6f6f6; border: 1px solid #e4e4e4; padding: 0.75rem; line-height: 1.4; }
+footer { margin-top: 2.5rem; font-size: 0.85rem; color: #555; }
+@media (max-width: 36rem) {
+  body { padding: 0.75rem 0.75rem 2rem; }
+  h1 { font-size: 1.35rem; }
+  dl.kv { grid-template-columns: 1fr; }
+  dl.kv dd { margin-bottom: 0.4rem; }
+}
+@media print {
+  @page { margin: 1.5cm; }
+  body { max-width: none; padding: 0; font-size: 10pt; color: #000; background: #fff; }
+  nav { display: none; }
+  a { color: #000; text-decoration: none; }
+  .scroll { overflow: visible; }
+  table { font-size: 8pt; }
+  .summary td, .summary th { font-size: 7.5pt; padding: 0.1rem 0.3rem; }
+  tr, figure, .scope, dl.kv { break-inside: avoid; page-break-inside: avoid; }
+  thead { display: table-header-group; }
+  h2, h3 { break-after: avoid; page-break-after: avoid; }
+  figure img { border: none; max-height: 24cm; width: auto; }
+  pre { background: #fff; white-space: pre-wrap; overflow-wrap: anywhere; }
+}
+</style>
+</head>
+<body>
+<header>
+<h1>{{.Title}}</h1>
+{{if .Description}}<p class="lede">{{.Description}}</p>
+{{end}}<p class="lede">Is the delta-method normal approximation adequate at each sample size of this study? A Monte Carlo check by deltaprobe.</p>
+<nav><a href="#verdicts">Verdicts</a> <a href="#scope">Scope</a> <a href="#warnings">Warnings</a> <a href="#figures">Figures</a> <a href="#summary">Summary</a> <a href="#study">Study file</a> <a href="#provenance">Provenance</a></nav>
+</header>
+<main>
+<section id="verdicts">
+<h2>Verdicts</h2>
+{{if .Incomplete}}<p><strong>This run is incomplete: the numbers use only the blocks that finished.</strong></p>
+{{end}}<div class="scroll">
+<table class="verdicts">
+<thead><tr><th scope="col">transform</th><th scope="col">expression</th><th scope="col">adequate from n</th><th scope="col">status</th><th scope="col">limiting criterion</th><th scope="col">coverage alone</th><th scope="col">variance alone</th><th scope="col">bias alone</th></tr></thead>
+<tbody>
+{{range .Verdicts}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="expr">{{.Expr}}</td><td class="num">{{.Smallest}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td><td class="num">{{index .PerCriterion 0}}</td><td class="num">{{index .PerCriterion 1}}</td><td class="num">{{index .PerCriterion 2}}</td></tr>
+{{end}}</tbody>
+</table>
+</div>
+<p>“Adequate from n” is the smallest n of the grid at which all three criteria pass, there and at every larger n. The last three columns give the same for each criterion alone; a dash means that criterion does not reach it within the grid. A criterion passes at n when its Monte Carlo 95% interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
+<ul>
+{{range .Criteria}}<li>{{.}}</li>
+{{end}}</ul>
+<ul class="why">
+{{range .Verdicts}}<li><strong>{{.Name}}</strong>: {{.Why}}</li>
+{{end}}</ul>
+</section>
+<section id="scope" class="scope">
+<p><strong>What this check does and does not show.</strong> It checks the delta-method approximation only under the model this study states: the family and parameter values below, these sample sizes, this estimator and these transforms. Data that depart from that model – another distribution, other parameter values, dependence, missing values, another estimator – may behave differently. Every number here is a Monte Carlo estimate and carries Monte Carlo error.</p>
+<p>It does not replace review by a qualified statistician, the applicable regulatory or sponsor guidance, or the study’s own pre-specified analysis plan. Do not base a sample-size decision on it alone.</p>
+</section>
+<section id="glance">
+<h2>The study</h2>
+<dl class="kv">
+{{range .Glance}}<dt>{{.Key}}</dt><dd>{{.Value}}</dd>
+{{end}}</dl>
+</section>
+<section id="warnings">
+<h2>Warnings</h2>
+{{if .Warnings}}<ul class="warn">
+{{range .Warnings}}<li>{{.}}</li>
+{{end}}</ul>
+{{else}}<p>None.</p>
+{{end}}</section>
+<section id="figures">
+<h2>Figures</h2>
+{{range .Sections}}<h3 id="{{.Anchor}}">{{.Name}} <span class="expr">= {{.Expr}}</span></h3>
+{{range .Figures}}<figure>
+<a href="{{.File}}"><img src="{{.File}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Alt}}" /></a>
+<figcaption>{{.Caption}}</figcaption>
+</figure>
+{{end}}{{end}}</section>
+<section id="summary">
+<h2>Summary</h2>
+<p>Every column of <a href="summary.csv">summary.csv</a>, under the same names, to four significant digits (the file has eight). The verdicts per transform are in <a href="verdicts.csv">verdicts.csv</a>.</p>
+{{range .Tables}}<div class="scroll">
+<table class="summary">
+<caption>{{.Caption}}</caption>
+<thead><tr>{{range .Columns}}<th scope="col">{{.}}</th>{{end}}</tr></thead>
+<tbody>
+{{range .Rows}}<tr>{{range .}}<td class="{{.Class}}">{{.Text}}</td>{{end}}</tr>
+{{end}}</tbody>
+</table>
+</div>
+{{end}}</section>
+<section id="study">
+<h2>Study file as run</h2>
+<p><code>{{.SourceName}}</code></p>
+<pre>{{.Source}}</pre>
+</section>
+<section id="provenance">
+<h2>Provenance</h2>
+<dl class="kv">
+{{range .Provenance}}<dt>{{.Key}}</dt><dd>{{.Value}}</dd>
+{{end}}</dl>
+</section>
+</main>
+<footer>
+<p>Written by deltaprobe. The same study file and seed give the same numbers; result.json in this folder holds the full state of the run.</p>
+</footer>
+</body>
+</html>
+`

@@ -1,0 +1,86 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+
+	"deltaprobe/sim"
+)
+
+// PlanColumns is the header of plan.csv (contract: names and order).
+var PlanColumns = []string{"transform", "step", "n", "replicates", "coverage", "coverage_mcse", "var_ratio", "var_ratio_mcse", "std_bias", "std_bias_mcse", "verdict"}
+
+// PlanCSV renders plan.csv: every evaluation, per transform, in
+// evaluation order.
+func PlanCSV(p *sim.PlanResult) []byte {
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write(PlanColumns)
+	for _, st := range p.Steps {
+		r := st.Row
+		w.Write([]string{
+			st.Transform, strconv.Itoa(st.Step), strconv.Itoa(st.N), strconv.FormatInt(st.Replicates, 10),
+			formatFloat(r.Coverage), formatFloat(r.CoverageMCSE), formatFloat(r.VarRatio), formatFloat(r.VarRatioMCSE),
+			formatFloat(r.StdBias), formatFloat(r.StdBiasMCSE), string(r.Verdict),
+		})
+	}
+	w.Flush()
+	return buf.Bytes()
+}
+
+// WritePlan writes plan.csv and verdicts.csv into dir, each atomically.
+func WritePlan(dir string, p *sim.PlanResult) error {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("creating output folder: %w", err)
+	}
+	if err := sim.WriteFileAtomic(filepath.Join(dir, "plan.csv"), PlanCSV(p)); err != nil {
+		return err
+	}
+	return sim.WriteFileAtomic(filepath.Join(dir, "verdicts.csv"), VerdictsCSV(p.Verdicts))
+}
+
+// PlanTable prints, per transform, the answer, what limits it, the
+// replicates its decisions used and any oscillation found.
+func PlanTable(w io.Writer, s *sim.Study, p *sim.PlanResult) {
+	used := map[string]int64{}
+	evals := map[string]int{}
+	for _, st := range p.Steps {
+		used[st.Transform] += st.Replicates
+		evals[st.Transform]++
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimiting\tn checked\treplicates\twindow")
+	for i, v := range p.Verdicts {
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%d\t+%d\n", clip(v.Transform, 24), dash(formatN(v.SmallestN)), v.Status, dash(v.Limiting),
+			evals[v.Transform], used[v.Transform], p.Window[i])
+	}
+	tw.Flush()
+	fmt.Fprintf(w, "searched n in [%d, %d], at most %d replicates per n in batches of %d\n",
+		s.Plan.NMin, s.Plan.NMax, s.Plan.MaxReplicates, s.Plan.Batch)
+	fmt.Fprintf(w, "each decision at confidence %v; %s\n", s.Plan.Confidence, p.Method)
+	fmt.Fprintf(w, "replicates simulated in all: %d (window: integers above the answer that were also checked)\n", p.Total)
+	for i, v := range p.Verdicts {
+		if len(p.Oscillations[i]) > 0 {
+			var ns []string
+			for _, n := range p.Oscillations[i] {
+				ns = append(ns, strconv.Itoa(n))
+			}
+			fmt.Fprintf(w, "  %s: not monotone in n — n = %s failed above an earlier passing n; largest such n: %d\n",
+				v.Transform, strings.Join(ns, ", "), p.LargestFail[i])
+		}
+		if len(p.Undecided[i]) > 0 {
+			fmt.Fprintf(w, "  %s: %d n above the answer stayed undecided within the budget (they neither passed nor failed)\n",
+				v.Transform, len(p.Undecided[i]))
+		}
+	}
+	if p.Exhausted {
+		fmt.Fprintln(w, "  the -budget cap was reached: decisions marked unclear could not be made within it")
+	}
+}

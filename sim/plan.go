@@ -1,0 +1,289 @@
+package sim
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+)
+
+// PlanStep is one evaluation of one transform at one n: the last look
+// taken there, and its verdict.
+type PlanStep struct {
+	Transform  string
+	Step       int // evaluation order within the transform, from 1
+	N          int
+	Replicates int64
+	Looks      int  // looks taken at this n
+	Row        Row  // measures and checks at the last look
+	Budget     bool // stopped because the budget ran out
+}
+
+// PlanResult is the outcome of a plan.
+type PlanResult struct {
+	Steps    []PlanStep
+	Verdicts []TransformVerdict
+	// Per transform, in study order:
+	Window       []int         // integers above the answer that were checked
+	LargestFail  []int         // largest n found failing above any candidate; 0 if none
+	Oscillations [][]int       // failing n found above a candidate, in order
+	Undecided    [][]int       // unclear n above the answer
+	Spent        map[int]int64 // replicates simulated per n
+	Total        int64
+	Method       string // how the error was spent over looks
+	Z            float64
+	Exhausted    bool // the -budget cap was reached
+}
+
+// planner searches, for each transform, the smallest n from which this n
+// and every larger n checked pass.
+type planner struct {
+	ctx    context.Context
+	s      *Study
+	spec   PlanSpec
+	opt    Options
+	budget int64 // 0 means no cap
+	z      float64
+	cache  map[int]*Result // per n: a one-point result, grown by batches
+	out    *PlanResult
+	evals  map[[2]int]PlanStep // (transform, n) → its evaluation
+	steps  []int               // next step number per transform
+}
+
+// Plan runs the sequential search of s.Plan. budget caps the replicates
+// simulated across the whole plan (0: no cap).
+//
+// Each criterion at each n is decided from a Monte Carlo interval that is
+// widened for repeated looks: the error 1 − confidence is split equally
+// (Bonferroni) over the largest number of looks max_replicates allows, so
+// every decision holds its confidence however many batches it took.
+func Plan(ctx context.Context, s *Study, budget int64, opt Options) (*PlanResult, error) {
+	if s.Plan == nil {
+		return nil, fmt.Errorf("%s has no [plan] table", s.File)
+	}
+	spec := *s.Plan
+	looks := spec.Looks()
+	alpha := (1 - spec.Confidence) / float64(looks)
+	z := normalQuantile(1 - alpha/2)
+	p := &planner{
+		ctx: ctx, s: s, spec: spec, opt: opt, budget: budget, z: z,
+		cache: map[int]*Result{}, evals: map[[2]int]PlanStep{},
+		steps: make([]int, len(s.Transforms)),
+		out: &PlanResult{
+			Spent: map[int]int64{}, Z: z,
+			Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
+		},
+	}
+	for t := range s.Transforms {
+		if err := p.search(t); err != nil {
+			return p.out, err
+		}
+	}
+	return p.out, nil
+}
+
+func normalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }
+
+// window is how many integers above a candidate are checked: 10% of it,
+// at least 3 and at most 25 unless the study says otherwise. Coverage of
+// discrete data oscillates in n (Brown, Cai & DasGupta 2001), so a pass
+// at one n says little about the next; the window bounds what the plan
+// can vouch for, and is reported.
+func (p *planner) window(c int) int {
+	if p.spec.Window > 0 {
+		return p.spec.Window
+	}
+	return min(25, max(3, int(math.Ceil(0.1*float64(c)))))
+}
+
+func (p *planner) search(t int) error {
+	lo, hi := p.spec.NMin, p.spec.NMax
+	largestFail := 0
+	var osc []int
+	window := 0
+	// bracket returns the smallest passing n found by doubling from
+	// start, and the last non-passing n before it (0 if none).
+	bracket := func(start int) (pass, fail int, err error) {
+		n := start
+		for {
+			v, err := p.eval(t, n)
+			if err != nil {
+				return 0, 0, err
+			}
+			if v == Pass {
+				return n, fail, nil
+			}
+			fail = n
+			if n >= hi {
+				return 0, fail, nil
+			}
+			n = min(hi, 2*n)
+		}
+	}
+	pass, fail, err := bracket(lo)
+	if err != nil {
+		return err
+	}
+	for {
+		if pass == 0 {
+			p.finish(t, 0, window, largestFail, osc)
+			return nil
+		}
+		// Bisect on integers between the last failure and the pass.
+		for fail > 0 && pass-fail > 1 {
+			mid := fail + (pass-fail)/2
+			v, err := p.eval(t, mid)
+			if err != nil {
+				return err
+			}
+			if v == Pass {
+				pass = mid
+			} else {
+				fail = mid
+			}
+		}
+		// Confirm: no integer in the window above may fail, and no n
+		// already evaluated above may either. An undecided n there is
+		// reported but does not move the answer: near the threshold the
+		// budget cannot decide, and that is not evidence of a failure.
+		window = p.window(pass)
+		top := min(hi, pass+window)
+		worst := 0
+		for m := pass + 1; m <= top; m++ {
+			v, err := p.eval(t, m)
+			if err != nil {
+				return err
+			}
+			if v == Fail {
+				worst = m
+			}
+		}
+		for key, st := range p.evals {
+			if key[0] == t && st.N > pass && st.Row.Verdict == Fail && st.N > worst {
+				worst = st.N
+			}
+		}
+		if worst == 0 {
+			p.finish(t, pass, window, largestFail, osc)
+			return nil
+		}
+		osc = append(osc, worst)
+		largestFail = max(largestFail, worst)
+		if worst >= hi {
+			p.finish(t, 0, window, largestFail, osc)
+			return nil
+		}
+		// Search again above the failure.
+		if pass, fail, err = bracket(worst + 1); err != nil {
+			return err
+		}
+		if fail == 0 {
+			fail = worst
+		}
+	}
+}
+
+// eval decides transform t at n, adding batches until its verdict is
+// decided or the replicates per n (or the plan's budget) are spent.
+func (p *planner) eval(t, n int) (Verdict, error) {
+	if st, ok := p.evals[[2]int{t, n}]; ok {
+		return st.Row.Verdict, nil
+	}
+	res := p.cache[n]
+	if res == nil {
+		one := *p.s
+		one.SampleSizes = []int{n}
+		one.Replicates = 0
+		res = NewResult(&one)
+		p.cache[n] = res
+	}
+	looks := p.spec.Looks()
+	var st PlanStep
+	for k := 1; k <= looks; k++ {
+		reps := min(k*p.spec.Batch, p.spec.MaxReplicates)
+		have := res.Cells[0][0].Replicates
+		if int64(reps) < have {
+			// Other transforms already simulated more here; a look at a
+			// count already held is one of the looks the split covers.
+			continue
+		}
+		budgetHit := false
+		if int64(reps) > have {
+			if p.budget > 0 && p.out.Total+int64(reps)-have > p.budget {
+				budgetHit = true
+			} else {
+				if err := p.grow(res, n, reps); err != nil {
+					return "", err
+				}
+			}
+		}
+		row := res.SummarizeCell(t, 0, p.z)
+		st = PlanStep{Transform: p.s.Transforms[t].Name, N: n, Replicates: res.Cells[t][0].Replicates, Looks: k, Row: row, Budget: budgetHit}
+		if budgetHit {
+			p.out.Exhausted = true
+			if row.Replicates == 0 {
+				st.Row.Verdict = Unclear
+			}
+			break
+		}
+		if row.Verdict != Unclear {
+			break
+		}
+	}
+	p.steps[t]++
+	st.Step = p.steps[t]
+	p.evals[[2]int{t, n}] = st
+	p.out.Steps = append(p.out.Steps, st)
+	return st.Row.Verdict, nil
+}
+
+// grow simulates res up to reps replicates at n.
+func (p *planner) grow(res *Result, n, reps int) error {
+	one := *p.s
+	one.SampleSizes = []int{n}
+	one.Replicates = reps
+	before := res.Cells[0][0].Replicates
+	if err := RunBlocks(p.ctx, &one, res, nil, p.opt); err != nil {
+		return err
+	}
+	res.Study.Replicates = reps
+	added := res.Cells[0][0].Replicates - before
+	p.out.Spent[n] += added
+	p.out.Total += added
+	return nil
+}
+
+// finish records the verdict of transform t: answer is the smallest
+// adequate n, or 0.
+func (p *planner) finish(t, answer, window, largestFail int, osc []int) {
+	var rows []Row
+	var ns []int
+	for key, st := range p.evals {
+		if key[0] == t {
+			ns = append(ns, st.N)
+		}
+	}
+	sort.Ints(ns)
+	for _, n := range ns {
+		rows = append(rows, p.evals[[2]int{t, n}].Row)
+	}
+	tv := verdictFor(rows)
+	// verdictFor sees only the evaluated points; the search's own answer
+	// (which respects the window) takes precedence.
+	if answer > 0 {
+		tv.Status, tv.SmallestN = Adequate, answer
+	} else if tv.Status == Adequate {
+		tv.Status, tv.SmallestN = StatusUncl, 0
+	}
+	var undecided []int
+	for _, n := range ns {
+		if st := p.evals[[2]int{t, n}]; answer > 0 && n > answer && st.Row.Verdict == Unclear {
+			undecided = append(undecided, n)
+		}
+	}
+	p.out.Undecided = append(p.out.Undecided, undecided)
+	p.out.Verdicts = append(p.out.Verdicts, tv)
+	p.out.Window = append(p.out.Window, window)
+	p.out.LargestFail = append(p.out.LargestFail, largestFail)
+	p.out.Oscillations = append(p.out.Oscillations, osc)
+}
