@@ -146,7 +146,7 @@ func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
 	legend := []legendItem{}
 	// The bars of the delta ratio are the interval the variance verdict
 	// uses: emp_var's Monte Carlo interval, inverted (delta_var is exact).
-	delta := series{label: "delta-method / simulated variance", x: xs(rows, 1),
+	delta := series{label: "delta-method / simulated", x: xs(rows, 1),
 		y:  column(rows, func(r sim.Row) float64 { return r.VarRatio }),
 		lo: column(rows, func(r sim.Row) float64 { return r.Checks[1].Low }),
 		hi: column(rows, func(r sim.Row) float64 { return r.Checks[1].High }),
@@ -161,7 +161,7 @@ func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
 		}
 		return r.PluginRatio * end / r.VarRatio
 	}
-	plugin := series{label: "mean plug-in / simulated variance", x: xs(rows, a.dodge), style: 1,
+	plugin := series{label: "mean plug-in / simulated", x: xs(rows, a.dodge), style: 1,
 		y:  column(rows, func(r sim.Row) float64 { return r.PluginRatio }),
 		lo: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].Low) }),
 		hi: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].High) }),
@@ -223,8 +223,8 @@ func (a trendAxes) missPanel(rows []sim.Row) (panel, error) {
 	blo, bhi := missBars(rows, below)
 	alo, ahi := missBars(rows, above)
 	for _, s := range []series{
-		{label: "interval below the truth", x: xs(rows, 1), y: column(rows, below), lo: blo, hi: bhi},
-		{label: "interval above the truth", x: xs(rows, a.dodge), y: column(rows, above), lo: alo, hi: ahi, style: 1},
+		{label: "below the truth", x: xs(rows, 1), y: column(rows, below), lo: blo, hi: bhi},
+		{label: "above the truth", x: xs(rows, a.dodge), y: column(rows, above), lo: alo, hi: ahi, style: 1},
 	} {
 		if err := addSeries(p, &legend, s); err != nil {
 			return panel{}, err
@@ -232,7 +232,7 @@ func (a trendAxes) missPanel(rows []sim.Row) (panel, error) {
 	}
 	legend = append(legend, legendItem{label: "nominal " + fmtG((1-a.level)/2) + " each", thumbs: []plot.Thumbnailer{nominal}})
 	a.finish(p, 0)
-	return panel{title: "One-sided misses", plot: p, legend: legend}, nil
+	return panel{title: "One-sided misses of the interval", plot: p, legend: legend}, nil
 }
 
 func (a trendAxes) biasPanel(rows []sim.Row) (panel, error) {
@@ -266,7 +266,7 @@ func (a trendAxes) biasPanel(rows []sim.Row) (panel, error) {
 const ksNoise = 1.3581
 
 func (a trendAxes) ksPanel(r *sim.Result, t int, rows []sim.Row) (panel, error) {
-	p := a.newPanel("KS distance from N(0, 1)")
+	p := a.newPanel("KS distance")
 	legend := []legendItem{}
 	noise := make([]float64, len(rows))
 	for i := range rows {
@@ -358,16 +358,16 @@ func drawPanels(dc draw.Canvas, panels []panel, rows, cols int, extra func(draw.
 		}
 	}
 	canvases := plot.Align(grid, tiles, dc)
-	// One strip height for all, so data areas stay aligned across a row;
-	// the legend wraps within the width over the data area.
+	// One strip height across a row, so the data areas of a row stay
+	// aligned; the legend wraps within the width over the data area.
 	titleH := textStyle(sansBold, fontPanel).Height("Mg") + vg.Points(6)
-	legendH := vg.Length(0)
+	strips := make([]vg.Length, rows)
 	for k, pn := range panels {
 		c := canvases[k/cols][k%cols]
-		legendH = max(legendH, legendRowHeight(pn.legend, c.Max.X-pn.plot.DataCanvas(c).Min.X))
+		strips[k/cols] = max(strips[k/cols], legendRowHeight(pn.legend, c.Max.X-pn.plot.DataCanvas(c).Min.X))
 	}
-	strip := titleH + legendH + vg.Points(4)
 	for j := range grid {
+		strip := titleH + strips[j] + vg.Points(4)
 		for i := range grid[j] {
 			k := j*cols + i
 			c := canvases[j][i]

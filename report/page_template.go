@@ -34,7 +34,8 @@ th, td { padding: 0.3rem 0.6rem; border-bottom: 1px solid #ddd; vertical-align: 
 th { font-weight: 600; border-bottom: 1px solid #888; }
 thead th { white-space: nowrap; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
-td.name { overflow-wrap: anywhere; min-width: 6rem; }
+td.name { overflow-wrap: break-word; max-width: 22rem; }
+.note { font-size: 0.92rem; color: #333; }
 .summary td, .summary th { font-size: 0.85rem; padding: 0.2rem 0.5rem; }
 .status { font-weight: 600; }
 .not_reached, .v-fail { color: #8a2c00; }
@@ -86,18 +87,18 @@ footer { margin-top: 2.5rem; font-size: 0.85rem; color: #555; }
 {{if .Incomplete}}<p><strong>This run is incomplete: the numbers use only the blocks that finished.</strong></p>
 {{end}}<div class="scroll">
 <table class="verdicts">
-<thead><tr><th scope="col">transform</th><th scope="col">expression</th><th scope="col">adequate from n</th><th scope="col">status</th><th scope="col">limiting criterion</th><th scope="col">coverage alone</th><th scope="col">variance alone</th><th scope="col">bias alone</th></tr></thead>
+<thead><tr><th scope="col">transform</th><th scope="col">adequate from n</th><th scope="col">status</th><th scope="col">limiting criterion</th><th scope="col">coverage alone</th><th scope="col">variance alone</th><th scope="col">bias alone</th><th scope="col">expression</th></tr></thead>
 <tbody>
-{{range .Verdicts}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="expr">{{.Expr}}</td><td class="num">{{.Smallest}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td><td class="num">{{index .PerCriterion 0}}</td><td class="num">{{index .PerCriterion 1}}</td><td class="num">{{index .PerCriterion 2}}</td></tr>
+{{range .Verdicts}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="num">{{.Smallest}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td><td class="num">{{index .PerCriterion 0}}</td><td class="num">{{index .PerCriterion 1}}</td><td class="num">{{index .PerCriterion 2}}</td><td class="expr">{{.Expr}}</td></tr>
 {{end}}</tbody>
 </table>
 </div>
-<p>“Adequate from n” is the smallest n of the grid at which all three criteria pass, there and at every larger n. The last three columns give the same for each criterion alone; a dash means that criterion does not reach it within the grid. A criterion passes at n when its Monte Carlo 95% interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
-<ul>
-{{range .Criteria}}<li>{{.}}</li>
-{{end}}</ul>
 <ul class="why">
 {{range .Verdicts}}<li><strong>{{.Name}}</strong>: {{.Why}}</li>
+{{end}}</ul>
+<p class="note">“Adequate from n” is the smallest n of the grid at which all three criteria pass, there and at every larger n. The last three columns give the same for each criterion alone; a dash means that criterion does not reach it within the grid. A criterion passes at n when its Monte Carlo 95% interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
+<ul class="note">
+{{range .Criteria}}<li>{{.}}</li>
 {{end}}</ul>
 </section>
 <section id="scope" class="scope">

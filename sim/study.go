@@ -128,10 +128,11 @@ func (s *Study) Dim() int {
 
 // ArmSize is the number of observations arm a draws at sample size n,
 // ceil(n × allocation). A product that is a whole number but for binary
-// rounding (50 × 1.1 = 55.000000000000007) counts as that whole number.
+// rounding (50 × 1.1 = 55.000000000000007, two units in the last place
+// off) counts as that whole number.
 func (s *Study) ArmSize(a, n int) int {
 	v := float64(n) * s.Arms[a].Allocation
-	if r := math.Round(v); math.Abs(v-r) <= 1e-9*v {
+	if r := math.Round(v); math.Abs(v-r) <= 2*(math.Nextafter(r, math.Inf(1))-r) {
 		return max(int(r), 1)
 	}
 	return max(int(math.Ceil(v)), 1)
