@@ -4,6 +4,7 @@ import (
 	"image/color"
 	"math"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -336,27 +337,60 @@ func (t stepTicks) Ticks(lo, hi float64) []plot.Tick {
 	if !(hi > lo) || !finite(lo, hi) {
 		return nil
 	}
-	span := hi - lo
+	count := func(step float64) int { return int(math.Floor(hi/step) - math.Ceil(lo/step) + 1) }
+	e := int(math.Floor(math.Log10((hi - lo) / float64(t.maxLabels))))
 	var step float64
-	for e := math.Floor(math.Log10(span / float64(t.maxLabels))); ; e++ {
+	var decimals int
+	for step == 0 {
 		for _, m := range []float64{1, 2, 5} {
-			s := m * math.Pow(10, e)
-			if span/s <= float64(t.maxLabels) {
-				step = s
+			s := m * math.Pow10(e)
+			if count(s) <= t.maxLabels {
+				step, decimals = s, max(0, -e)
 				break
 			}
 		}
-		if step > 0 {
-			break
-		}
+		e++
 	}
 	var ticks []plot.Tick
 	for k := math.Ceil(lo / step); k*step <= hi; k++ {
+		// k·step, not a running sum, and labels rounded to the step's
+		// decimals: no 0.15000000000000002.
 		v := k * step
-		if math.Abs(v) < step*1e-9 {
-			v = 0
+		lab := strconv.FormatFloat(v, 'f', decimals, 64)
+		if lab == "-0" || strings.Trim(lab, "-0.") == "" {
+			lab = "0"
 		}
-		ticks = append(ticks, plot.Tick{Value: v, Label: strconv.FormatFloat(v, 'f', -1, 64)})
+		ticks = append(ticks, plot.Tick{Value: v, Label: lab})
+	}
+	return ticks
+}
+
+// decadeTicks labels powers of ten on a log axis, every k-th decade so
+// that at most maxLabels are labelled, with unlabelled ticks between.
+type decadeTicks struct{ maxLabels int }
+
+func (t decadeTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(lo > 0 && hi > lo) || !finite(lo, hi) {
+		return nil
+	}
+	e0, e1 := int(math.Floor(math.Log10(lo))), int(math.Ceil(math.Log10(hi)))
+	every := max(1, (e1-e0+t.maxLabels-1)/t.maxLabels)
+	var ticks []plot.Tick
+	for e := e0; e <= e1; e++ {
+		v := math.Pow10(e)
+		if e%every == 0 && v >= lo && v <= hi {
+			ticks = append(ticks, plot.Tick{Value: v, Label: strconv.FormatFloat(v, 'g', -1, 64)})
+		} else if v >= lo && v <= hi {
+			ticks = append(ticks, plot.Tick{Value: v})
+		}
+		if every == 1 && e1-e0 <= 2 {
+			// Over a decade or two, 2 and 5 are labelled too.
+			for _, m := range []float64{2, 5} {
+				if w := m * v; w >= lo && w <= hi {
+					ticks = append(ticks, plot.Tick{Value: w, Label: strconv.FormatFloat(w, 'g', -1, 64)})
+				}
+			}
+		}
 	}
 	return ticks
 }

@@ -61,8 +61,10 @@ func shapeIndices(ns []int, smallest int) []int {
 }
 
 // shapeRange is the half-width L of the common histogram axis [−L, L]: it
-// holds the central 99.8% of every drawn n, at least ±4 and at most the
-// histogram's own range.
+// holds the central 99.8% of every drawn n, but at least ±4 and at most
+// ±6, so the body of a heavy-tailed estimate is not squeezed into a few
+// bins; the share beyond is printed over the panel, and the quantile
+// panel shows the tail.
 func shapeRange(hs []*sim.Histogram) float64 {
 	l := 4.0
 	for _, h := range hs {
@@ -77,8 +79,10 @@ func shapeRange(hs []*sim.Histogram) float64 {
 			l = math.Max(l, math.Ceil(q))
 		}
 	}
-	return math.Min(l, sim.PivotRange)
+	return math.Min(l, maxShapeRange)
 }
+
+const maxShapeRange = 6.0
 
 // shapeBinWidth coarsens the fine pivot bins so that a central bin holds
 // about 200 replicates or more: fewer make a histogram of noise.

@@ -71,7 +71,36 @@ func (a trendAxes) newPanel(ylabel string) *plot.Plot {
 	p.X.Tick.Marker = sampleSizeTicks{ns: a.ns, minGap: a.tickGap}
 	p.X.Label.Text = "sample size n (log scale)"
 	p.Y.Label.Text = ylabel
+	p.Y.Tick.Marker = stepTicks{maxLabels: 5}
 	return p
+}
+
+// useLogY puts p's y axis on a log scale when the positive values vs
+// span more than a factor of four: a heavy tail can push a variance ratio
+// to 10⁶ at small n, and a linear axis would then flatten every other
+// point onto the band. A ratio is read as well on a log axis, where 1/2
+// and 2 lie equally far from 1. A value at or below zero keeps the
+// axis linear.
+func useLogY(p *plot.Plot, vs ...[]float64) bool {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range vs {
+		for _, x := range v {
+			if math.IsNaN(x) || math.IsInf(x, 1) {
+				continue
+			}
+			if x <= 0 {
+				return false
+			}
+			lo, hi = math.Min(lo, x), math.Max(hi, x)
+		}
+	}
+	if !(hi/lo > 4) {
+		return false
+	}
+	p.Y.Scale = plot.LogScale{}
+	p.Y.Tick.Marker = decadeTicks{maxLabels: 6}
+	p.Y.Label.Text += " (log scale)"
+	return true
 }
 
 // finish fixes the ranges after every plotter is in: x to the shared
@@ -83,6 +112,18 @@ func (a trendAxes) finish(p *plot.Plot, yfloor float64) {
 	if !finite(lo, hi) {
 		lo, hi = 0, 1
 	}
+	top := 0.06
+	if a.mark > 0 {
+		top = 0.2
+	}
+	if _, isLog := p.Y.Scale.(plot.LogScale); isLog {
+		f := hi / lo
+		p.Y.Min, p.Y.Max = lo/math.Pow(f, 0.06), hi*math.Pow(f, top)
+		if a.mark > 0 {
+			p.Add(vMark{at: float64(a.mark), label: "n = " + strconv.Itoa(a.mark)})
+		}
+		return
+	}
 	if !math.IsNaN(yfloor) {
 		lo = math.Min(lo, yfloor)
 	}
@@ -91,10 +132,6 @@ func (a trendAxes) finish(p *plot.Plot, yfloor float64) {
 		lo, hi = lo-d, hi+d
 	}
 	span := hi - lo
-	top := 0.06
-	if a.mark > 0 {
-		top = 0.2
-	}
 	p.Y.Min, p.Y.Max = lo-0.06*span, hi+top*span
 	if !math.IsNaN(yfloor) && lo >= yfloor {
 		p.Y.Min = math.Max(p.Y.Min, yfloor)
@@ -166,6 +203,7 @@ func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
 		lo: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].Low) }),
 		hi: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].High) }),
 	}
+	useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, c[:])
 	for _, s := range []series{delta, plugin} {
 		if err := addSeries(p, &legend, s); err != nil {
 			return panel{}, err
@@ -339,61 +377,99 @@ func noiseSeries(p *plot.Plot, x, y []float64) ([]plot.Thumbnailer, error) {
 	return []plot.Thumbnailer{l}, nil
 }
 
-// drawPanels lays panels out in a rows×cols grid with aligned data areas.
-// A slot past the last panel, if any, is handed to extra.
+// drawPanels lays panels out in a rows×cols grid, each under its title
+// and legend, with every data area of a row the same height at the same
+// place, and every data area of a column the same width at the same place,
+// so that n lines up down a column. (plot.Align aligns the data areas but
+// leaves the canvases' tops uneven, with no room kept for a strip above
+// each.) A slot past the last panel, if any, is handed to extra.
 func drawPanels(dc draw.Canvas, panels []panel, rows, cols int, extra func(draw.Canvas)) {
-	tiles := draw.Tiles{
-		Rows: rows, Cols: cols,
-		PadTop: vg.Points(4), PadBottom: vg.Points(8),
-		PadLeft: vg.Points(8), PadRight: vg.Points(16),
-		PadX: vg.Points(30), PadY: vg.Points(18),
-	}
-	grid := make([][]*plot.Plot, rows)
-	for j := range grid {
-		grid[j] = make([]*plot.Plot, cols)
-		for i := range grid[j] {
-			if k := j*cols + i; k < len(panels) {
-				grid[j][i] = panels[k].plot
-			}
-		}
-	}
-	canvases := plot.Align(grid, tiles, dc)
-	// One strip height across a row, so the data areas of a row stay
-	// aligned; the legend wraps within the width over the data area.
+	const (
+		padOuter = 8
+		gapX     = 30
+		gapY     = 16
+	)
 	titleH := textStyle(sansBold, fontPanel).Height("Mg") + vg.Points(6)
-	strips := make([]vg.Length, rows)
+
+	// Measure what each plot needs around its data area (axes, tick
+	// labels) on a trial canvas the size of a tile; it does not depend on
+	// the canvas size.
+	tileW := (dc.Max.X - dc.Min.X) / vg.Length(cols)
+	tileH := (dc.Max.Y - dc.Min.Y) / vg.Length(rows)
+	type pads struct{ l, r, b, t vg.Length }
+	own := make([]pads, len(panels))
+	colL, colR := make([]vg.Length, cols), make([]vg.Length, cols)
+	rowB, rowT := make([]vg.Length, rows), make([]vg.Length, rows)
 	for k, pn := range panels {
-		c := canvases[k/cols][k%cols]
-		strips[k/cols] = max(strips[k/cols], legendRowHeight(pn.legend, c.Max.X-pn.plot.DataCanvas(c).Min.X))
+		c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{Max: vg.Point{X: tileW, Y: tileH}}}
+		d := pn.plot.DataCanvas(c)
+		own[k] = pads{l: d.Min.X - c.Min.X, r: c.Max.X - d.Max.X, b: d.Min.Y - c.Min.Y, t: c.Max.Y - d.Max.Y}
+		i, j := k%cols, k/cols
+		colL[i], colR[i] = max(colL[i], own[k].l), max(colR[i], own[k].r)
+		rowB[j], rowT[j] = max(rowB[j], own[k].b), max(rowT[j], own[k].t)
 	}
-	for j := range grid {
-		strip := titleH + strips[j] + vg.Points(4)
-		for i := range grid[j] {
+	// Legends wrap within the width over their data area.
+	var sumX, sumY vg.Length
+	for i := range cols {
+		sumX += colL[i] + colR[i]
+	}
+	dataW := (dc.Max.X - dc.Min.X - 2*vg.Points(padOuter) - sumX - vg.Length(cols-1)*vg.Points(gapX)) / vg.Length(cols)
+	legendH := vg.Length(0)
+	for k, pn := range panels {
+		legendH = max(legendH, legendRowHeight(pn.legend, dataW+colR[k%cols]))
+	}
+	strip := titleH + legendH + vg.Points(6)
+	for j := range rows {
+		sumY += strip + rowT[j] + rowB[j]
+	}
+	dataH := (dc.Max.Y - dc.Min.Y - 2*vg.Points(padOuter) - sumY - vg.Length(rows-1)*vg.Points(gapY)) / vg.Length(rows)
+
+	left := make([]vg.Length, cols) // data area's left edge, per column
+	x := dc.Min.X + vg.Points(padOuter)
+	for i := range cols {
+		left[i] = x + colL[i]
+		x = left[i] + dataW + colR[i] + vg.Points(gapX)
+	}
+	blockTop := make([]vg.Length, rows) // top of the strip, per row
+	y := dc.Max.Y - vg.Points(padOuter)
+	for j := range rows {
+		blockTop[j] = y
+		y -= strip + rowT[j] + dataH + rowB[j] + vg.Points(gapY)
+	}
+
+	for j := range rows {
+		for i := range cols {
 			k := j*cols + i
-			c := canvases[j][i]
+			top := blockTop[j]
+			dataTop := top - strip - rowT[j]
 			if k >= len(panels) {
 				if extra != nil {
-					extra(tiles.At(dc, i, j))
+					extra(draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
+						Min: vg.Point{X: left[i] - colL[i], Y: dataTop - dataH - rowB[j]},
+						Max: vg.Point{X: left[i] + dataW + colR[i], Y: top},
+					}})
 				}
 				continue
 			}
-			pn := panels[k]
-			// The title and legend sit over the data area's left edge.
-			left := pn.plot.DataCanvas(c).Min.X
+			pn, o := panels[k], own[k]
+			c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
+				Min: vg.Point{X: left[i] - o.l, Y: dataTop - dataH - o.b},
+				Max: vg.Point{X: left[i] + dataW + o.r, Y: dataTop + o.t},
+			}}
 			ts := textStyle(sansBold, fontPanel)
-			c.FillText(ts, vg.Point{X: left, Y: c.Max.Y}, pn.title)
+			c.FillText(ts, vg.Point{X: left[i], Y: top}, pn.title)
 			if pn.note != "" {
 				// Share the title's baseline: drop the smaller type by the
 				// difference of the ascents.
 				ns := textStyle(sans, fontSmall)
-				y := c.Max.Y - (ts.FontExtents().Ascent - ns.FontExtents().Ascent)
-				c.FillText(ns, vg.Point{X: left + ts.Width(pn.title) + vg.Points(6), Y: y}, pn.note)
+				ny := top - (ts.FontExtents().Ascent - ns.FontExtents().Ascent)
+				c.FillText(ns, vg.Point{X: left[i] + ts.Width(pn.title) + vg.Points(6), Y: ny}, pn.note)
 			}
-			legendArea := draw.Canvas{Canvas: c.Canvas, Rectangle: vg.Rectangle{
-				Min: vg.Point{X: left, Y: c.Max.Y - strip}, Max: vg.Point{X: c.Max.X, Y: c.Max.Y - titleH},
+			legendArea := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
+				Min: vg.Point{X: left[i], Y: top - strip}, Max: vg.Point{X: left[i] + dataW + colR[i], Y: top - titleH},
 			}}
 			drawLegendRow(legendArea, pn.legend)
-			pn.plot.Draw(draw.Crop(c, 0, 0, 0, -strip))
+			pn.plot.Draw(c)
 		}
 	}
 }

@@ -26,12 +26,12 @@ func TestGammaPolygammaKnownValues(t *testing.T) {
 		name      string
 		got, want float64
 	}{
-		{"ψ1(1) = π²/6", trigamma(1), math.Pi * math.Pi / 6},   // exact, ζ(2)
-		{"ψ1(1/2) = π²/2", trigamma(0.5), math.Pi * math.Pi / 2}, // exact (DLMF 5.15.3, from memory)
-		{"ψ1(2) = π²/6 − 1", trigamma(2), math.Pi*math.Pi/6 - 1}, // exact, recurrence
-		{"ψ2(1) = −2ζ(3)", tetragamma(1), -2 * apery},            // exact
-		{"ψ2(1/2) = −14ζ(3)", tetragamma(0.5), -14 * apery},      // exact (from memory)
-		{"log 1 − ψ(1) = γ", logMinusDigamma(1), eulerGamma},     // exact, ψ(1) = −γ
+		{"ψ1(1) = π²/6", trigamma(1), math.Pi * math.Pi / 6},                      // exact, ζ(2)
+		{"ψ1(1/2) = π²/2", trigamma(0.5), math.Pi * math.Pi / 2},                  // exact (DLMF 5.15.3, from memory)
+		{"ψ1(2) = π²/6 − 1", trigamma(2), math.Pi*math.Pi/6 - 1},                  // exact, recurrence
+		{"ψ2(1) = −2ζ(3)", tetragamma(1), -2 * apery},                             // exact
+		{"ψ2(1/2) = −14ζ(3)", tetragamma(0.5), -14 * apery},                       // exact (from memory)
+		{"log 1 − ψ(1) = γ", logMinusDigamma(1), eulerGamma},                      // exact, ψ(1) = −γ
 		{"log ½ − ψ(½) = γ + log 2", logMinusDigamma(0.5), eulerGamma + math.Ln2}, // exact, ψ(½) = −γ − 2 log 2
 	}
 	for _, c := range cases {

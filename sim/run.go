@@ -28,6 +28,11 @@ type Options struct {
 	// Progress, if set, is called after each block with the draws done
 	// and the draws in all; calls come from worker goroutines, one at a time.
 	Progress func(done, total int64)
+	// Checkpoint, if set, is called with the result's lock held after a
+	// block is merged, at most once per CheckpointEvery, so the caller can
+	// save the state a hard kill would otherwise lose.
+	Checkpoint      func(*Result) error
+	CheckpointEvery time.Duration
 }
 
 // Blocks returns the number of blocks for r replicates.
@@ -135,6 +140,7 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 	// at the end.
 	sort.SliceStable(jobs, func(i, j int) bool { return jobs[i].ni > jobs[j].ni })
 
+	lastCheckpoint := time.Now()
 	var (
 		next     atomic.Int64
 		done     atomic.Int64
@@ -169,22 +175,34 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 				if opt.Progress != nil {
 					opt.Progress(d, total)
 				}
+				if opt.Checkpoint != nil && time.Since(lastCheckpoint) >= opt.CheckpointEvery {
+					lastCheckpoint = time.Now()
+					sortBlocks(res)
+					if err := opt.Checkpoint(res); err != nil {
+						fail(fmt.Errorf("saving the state: %w", err))
+						next.Store(int64(len(jobs)))
+					}
+				}
 				mu.Unlock()
 			}
 		}()
 	}
 	wg.Wait()
 	res.Elapsed += time.Since(start).Seconds()
-	for t := range res.Cells {
-		for _, c := range res.Cells[t] {
-			sort.Slice(c.Blocks, func(i, j int) bool { return c.Blocks[i].Block < c.Blocks[j].Block })
-		}
-	}
+	sortBlocks(res)
 	res.Complete = res.missingBlocks(s.Replicates) == 0
 	if firstErr != nil {
 		return firstErr
 	}
 	return ctx.Err()
+}
+
+func sortBlocks(res *Result) {
+	for t := range res.Cells {
+		for _, c := range res.Cells[t] {
+			sort.Slice(c.Blocks, func(i, j int) bool { return c.Blocks[i].Block < c.Blocks[j].Block })
+		}
+	}
 }
 
 // missingBlocks counts the blocks of r replicates per sample size that

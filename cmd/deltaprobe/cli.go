@@ -9,6 +9,7 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"syscall"
 	"time"
@@ -28,7 +29,8 @@ const (
 const usage = `deltaprobe checks whether the delta-method approximation holds at your n.
 
 usage:
-  deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
+  deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet] [-dry-run]
+  deltaprobe run -resume DIR        continue an interrupted run
   deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
                                     search for the smallest adequate n ([plan] table)
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
@@ -113,86 +115,208 @@ func loadStudy(cmd string, positional []string, stderr io.Writer) (*sim.Study, i
 	return s, exitOK
 }
 
+// Limits above which run refuses a study unless -force is given.
+const (
+	maxEstimatedTime = time.Hour
+	checkpointEvery  = 5 * time.Second
+)
+
 func cmdRun(args []string, stdout, stderr io.Writer) int {
-	fs := newFlagSet("run", "run STUDY.toml [flags]", stderr)
+	fs := newFlagSet("run", "run STUDY.toml [flags] | run -resume DIR [flags]", stderr)
 	out := fs.String("o", "", "output folder (default out/<study name>)")
 	workers := fs.Int("workers", 0, "worker goroutines (default: all cores)")
 	replicates := fs.Int("replicates", 0, "replicates per sample size, overriding the study file")
 	seed := fs.Int64("seed", -1, "seed, overriding the study file")
-	force := fs.Bool("force", false, "write into a non-empty output folder")
+	force := fs.Bool("force", false, "write into a non-empty output folder; run past the time and memory limits")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
+	resume := fs.String("resume", "", "continue the interrupted run saved in this folder")
+	dryRun := fs.Bool("dry-run", false, "print the work estimate and stop")
+	every := fs.Duration("checkpoint", checkpointEvery, "save the state this often while running")
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
 		return flagErr(err)
-	}
-	s, code := loadStudy("run", positional, stderr)
-	if s == nil {
-		return code
-	}
-	if *replicates != 0 {
-		if *replicates < sim.MinReplicates || *replicates > sim.MaxReplicates {
-			fmt.Fprintf(stderr, "deltaprobe run: -replicates %d is out of range: accepted are %d to %d\n", *replicates, sim.MinReplicates, sim.MaxReplicates)
-			return exitUsage
-		}
-		s.Replicates = *replicates
-	}
-	if *seed != -1 {
-		if *seed < 0 {
-			fmt.Fprintf(stderr, "deltaprobe run: -seed %d is out of range: accepted are whole numbers ≥ 0\n", *seed)
-			return exitUsage
-		}
-		s.Seed = uint64(*seed)
-	}
-	if len(s.SampleSizes) == 0 {
-		fmt.Fprintf(stderr, "%s: the study has a [plan] but no sample_sizes; use deltaprobe plan, or add sample_sizes to run a grid\n", s.File)
-		return exitUsage
 	}
 	if *workers < 0 {
 		fmt.Fprintf(stderr, "deltaprobe run: -workers %d is out of range: give 1 or more (0 means all cores)\n", *workers)
 		return exitUsage
 	}
-	dir := *out
-	if dir == "" {
-		dir = filepath.Join("out", strings.TrimSuffix(filepath.Base(s.File), filepath.Ext(s.File)))
+	var (
+		s   *sim.Study
+		res *sim.Result
+		dir string
+	)
+	if *resume != "" {
+		var code int
+		if s, res, code = loadForResume(*resume, positional, *replicates != 0 || *seed != -1 || *out != "", stderr); s == nil {
+			return code
+		}
+		dir = *resume
+		removeStaleTemps(dir)
+	} else {
+		var code int
+		if s, code = loadStudy("run", positional, stderr); s == nil {
+			return code
+		}
+		if code := applyOverrides(s, *replicates, *seed, stderr); code != exitOK {
+			return code
+		}
+		if len(s.SampleSizes) == 0 {
+			fmt.Fprintf(stderr, "%s: the study has a [plan] but no sample_sizes; use deltaprobe plan, or add sample_sizes to run a grid\n", s.File)
+			return exitUsage
+		}
+		dir = *out
+		if dir == "" {
+			dir = filepath.Join("out", strings.TrimSuffix(filepath.Base(s.File), filepath.Ext(s.File)))
+		}
+		if err := checkOutDir(dir, *force); err != nil {
+			fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
+			return exitUsage
+		}
+		res = sim.NewResult(s)
 	}
-	if err := checkOutDir(dir, *force); err != nil {
-		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
+
+	est := sim.EstimateWork(s, *workers, 50*time.Millisecond)
+	if *dryRun || !*quiet {
+		printEstimate(stderr, est, *workers)
+	}
+	if *dryRun {
+		return exitOK
+	}
+	if limit := halfMemory(); !*force && (est.Time > maxEstimatedTime || (limit > 0 && est.MemoryBytes > limit)) {
+		fmt.Fprintf(stderr, "deltaprobe run: the estimate exceeds the limits (%s, half the memory); reduce replicates or sample sizes, or add -force\n", maxEstimatedTime)
 		return exitUsage
 	}
 
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
-	defer stop()
-	opt := sim.Options{Workers: *workers}
-	if !*quiet {
-		opt.Progress = progressPrinter(stderr)
-	}
-	res, runErr := sim.Run(ctx, s, opt)
-	if !*quiet {
-		fmt.Fprintln(stderr)
-	}
-	if runErr != nil && !errors.Is(runErr, context.Canceled) {
-		fmt.Fprintf(stderr, "deltaprobe run: %v\n", runErr)
-		return exitFailure
-	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: creating output folder: %v\n", err)
 		return exitFailure
 	}
-	if err := sim.SaveResult(filepath.Join(dir, "result.json"), res); err != nil {
+	resultPath := filepath.Join(dir, "result.json")
+	if err := sim.SaveResult(resultPath, res); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
 		return exitFailure
 	}
-	if runErr != nil {
-		fmt.Fprintf(stderr, "deltaprobe run: interrupted; the finished blocks are saved in %s\n", filepath.Join(dir, "result.json"))
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	opt := sim.Options{
+		Workers:         *workers,
+		Checkpoint:      func(r *sim.Result) error { return sim.SaveResult(resultPath, r) },
+		CheckpointEvery: *every,
+	}
+	if !*quiet {
+		opt.Progress = progressPrinter(stderr)
+	}
+	runErr := sim.RunBlocks(ctx, s, res, nil, opt)
+	if !*quiet {
+		fmt.Fprintln(stderr)
+	}
+	if err := sim.SaveResult(resultPath, res); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
+		return exitFailure
+	}
+	switch {
+	case errors.Is(runErr, context.Canceled):
+		fmt.Fprintf(stderr, "deltaprobe run: interrupted; the finished blocks are saved in %s; continue with: deltaprobe run -resume %s\n", resultPath, dir)
 		return exitInterrupted
+	case runErr != nil:
+		fmt.Fprintf(stderr, "deltaprobe run: %v\n", runErr)
+		return exitFailure
 	}
 	if err := report.Write(dir, res); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
 		return exitFailure
 	}
 	report.VerdictTable(stdout, res)
-	fmt.Fprintf(stderr, "wrote %s (summary.csv, verdicts.csv, result.json) in %.1fs\n", dir, res.Elapsed)
+	fmt.Fprintf(stderr, "wrote %s (summary.csv, verdicts.csv, result.json, figures, index.html) in %.1fs\n", dir, res.Elapsed)
 	return exitOK
+}
+
+func applyOverrides(s *sim.Study, replicates int, seed int64, stderr io.Writer) int {
+	if replicates != 0 {
+		if replicates < sim.MinReplicates || replicates > sim.MaxReplicates {
+			fmt.Fprintf(stderr, "deltaprobe run: -replicates %d is out of range: accepted are %d to %d\n", replicates, sim.MinReplicates, sim.MaxReplicates)
+			return exitUsage
+		}
+		s.Replicates = replicates
+	}
+	if seed != -1 {
+		if seed < 0 {
+			fmt.Fprintf(stderr, "deltaprobe run: -seed %d is out of range: accepted are whole numbers ≥ 0\n", seed)
+			return exitUsage
+		}
+		s.Seed = uint64(seed)
+	}
+	return exitOK
+}
+
+// loadForResume reads DIR/result.json and the study it was run from; a
+// study file named beside -resume must be the same file.
+func loadForResume(dir string, positional []string, overrides bool, stderr io.Writer) (*sim.Study, *sim.Result, int) {
+	if overrides {
+		fmt.Fprintln(stderr, "deltaprobe run: -resume continues a run as it was started; it takes no -o, -replicates or -seed")
+		return nil, nil, exitUsage
+	}
+	if len(positional) > 1 {
+		fmt.Fprintf(stderr, "deltaprobe run: -resume takes at most one study file (got %d arguments)\n", len(positional))
+		return nil, nil, exitUsage
+	}
+	res, err := sim.LoadResult(filepath.Join(dir, "result.json"))
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: cannot resume: %v\n", err)
+		return nil, nil, exitUsage
+	}
+	s, err := sim.ResumeStudy(res)
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: %v\n", dir, err)
+		return nil, nil, exitUsage
+	}
+	if len(positional) == 1 {
+		given, err := sim.Load(positional[0])
+		if err != nil {
+			fmt.Fprintln(stderr, err)
+			return nil, nil, exitUsage
+		}
+		if given.SHA256 != s.SHA256 {
+			fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: %s has changed since the run started (SHA-256 %.12s…, the run's %.12s…)\n", dir, positional[0], given.SHA256, s.SHA256)
+			return nil, nil, exitUsage
+		}
+	}
+	if res.Complete {
+		fmt.Fprintf(stderr, "deltaprobe run: %s is already complete; rewriting its report\n", dir)
+	}
+	return s, res, exitOK
+}
+
+// removeStaleTemps deletes temporary files a hard kill left behind.
+func removeStaleTemps(dir string) {
+	matches, _ := filepath.Glob(filepath.Join(dir, ".*.tmp*"))
+	for _, m := range matches {
+		os.Remove(m)
+	}
+}
+
+func printEstimate(w io.Writer, e sim.Estimate, workers int) {
+	if workers == 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	fmt.Fprintf(w, "work: %d replicates, %.3g draws; about %.1f ns a draw here, so about %s with %d workers; memory about %.1f MiB\n",
+		e.Replicates, float64(e.Draws), e.PerDrawNS, e.Time.Round(100*time.Millisecond), workers, float64(e.MemoryBytes)/(1<<20))
+}
+
+// halfMemory is half the machine's memory as /proc/meminfo reports it, or
+// 0 where that cannot be read.
+func halfMemory() int64 {
+	b, err := os.ReadFile("/proc/meminfo")
+	if err != nil {
+		return 0
+	}
+	for _, line := range strings.Split(string(b), "\n") {
+		var kb int64
+		if _, err := fmt.Sscanf(line, "MemTotal: %d kB", &kb); err == nil {
+			return kb * 1024 / 2
+		}
+	}
+	return 0
 }
 
 func flagErr(err error) int {

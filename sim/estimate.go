@@ -1,0 +1,64 @@
+package sim
+
+import (
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"time"
+)
+
+// Estimate is the work a study asks for, and what it should cost here.
+type Estimate struct {
+	Draws       int64         // observations drawn in all
+	Replicates  int64         // replicates in all
+	PerDrawNS   float64       // measured nanoseconds per draw, fit and score included
+	Time        time.Duration // expected wall time with the given workers
+	MemoryBytes int64         // peak memory of the accumulators, roughly
+}
+
+// EstimateWork counts the draws of s and times a short calibration run
+// (about calibrate long) at the largest sample size, so the estimate
+// includes fitting and scoring as well as drawing.
+func EstimateWork(s *Study, workers int, calibrate time.Duration) Estimate {
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	var e Estimate
+	for _, n := range s.SampleSizes {
+		e.Draws += int64(s.Replicates) * int64(s.drawsPerReplicate(n))
+		e.Replicates += int64(s.Replicates)
+	}
+	// Per worker: two pivot histograms per transform; per result: the same
+	// per cell plus a few words per block.
+	cells := int64(len(s.Transforms) * len(s.SampleSizes))
+	hist := int64(2 * PivotBins * 8)
+	e.MemoryBytes = int64(workers)*int64(len(s.Transforms))*hist + cells*(hist+int64(Blocks(s.Replicates))*64)
+
+	if len(s.SampleSizes) == 0 {
+		return e
+	}
+	n := s.SampleSizes[len(s.SampleSizes)-1]
+	one := *s
+	one.SampleSizes = []int{n}
+	w := newWorker(&one, NewResult(&one))
+	// The calibration's numbers are thrown away; any stream will do.
+	w.pcg.Seed(rand.Uint64(), rand.Uint64())
+	for a := range s.Arms {
+		w.sizes[a] = s.ArmSize(a, n)
+	}
+	for t := range w.accs {
+		p := w.res.Predictions[t][0]
+		w.accs[t].truth, w.accs[t].sdDelta = p.Truth, math.Sqrt(p.DeltaVar)
+	}
+	start := time.Now()
+	reps := 0
+	for time.Since(start) < calibrate || reps == 0 {
+		for i := 0; i < 16; i++ {
+			w.replicate()
+		}
+		reps += 16
+	}
+	e.PerDrawNS = float64(time.Since(start).Nanoseconds()) / (float64(reps) * float64(s.drawsPerReplicate(n)))
+	e.Time = time.Duration(e.PerDrawNS * float64(e.Draws) / float64(workers))
+	return e
+}
