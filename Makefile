@@ -21,7 +21,8 @@ examples: build
 
 FUZZTIME ?= 20s
 fuzz:
-	$(GO) test ./sim/expr -run='^$$' -fuzz=FuzzCompile -fuzztime=$(FUZZTIME)
+	$(GO) test ./sim/expr -run='^$$' -fuzz=FuzzCompile -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
+	$(GO) test ./sim -run='^$$' -fuzz=FuzzParse -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 
 bench:
 	$(GO) test ./... -run='^$$' -bench=. -benchmem

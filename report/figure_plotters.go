@@ -337,7 +337,11 @@ func (t stepTicks) Ticks(lo, hi float64) []plot.Tick {
 	if !(hi > lo) || !finite(lo, hi) {
 		return nil
 	}
-	count := func(step float64) int { return int(math.Floor(hi/step) - math.Ceil(lo/step) + 1) }
+	// A hair of slack so that 0.3/0.05 = 5.999… still counts 0.3 in.
+	const slack = 1e-9
+	first := func(step float64) float64 { return math.Ceil(lo/step - slack) }
+	last := func(step float64) float64 { return math.Floor(hi/step + slack) }
+	count := func(step float64) int { return int(last(step) - first(step) + 1) }
 	e := int(math.Floor(math.Log10((hi - lo) / float64(t.maxLabels))))
 	var step float64
 	var decimals int
@@ -352,7 +356,7 @@ func (t stepTicks) Ticks(lo, hi float64) []plot.Tick {
 		e++
 	}
 	var ticks []plot.Tick
-	for k := math.Ceil(lo / step); k*step <= hi; k++ {
+	for k, end := first(step), last(step); k <= end; k++ {
 		// k·step, not a running sum, and labels rounded to the step's
 		// decimals: no 0.15000000000000002.
 		v := k * step

@@ -400,12 +400,21 @@ func drawPanels(dc draw.Canvas, panels []panel, rows, cols int, extra func(draw.
 	own := make([]pads, len(panels))
 	colL, colR := make([]vg.Length, cols), make([]vg.Length, cols)
 	rowB, rowT := make([]vg.Length, rows), make([]vg.Length, rows)
+	// The y-axis labels are set here, not by gonum/plot: on a log axis it
+	// places the label's box by the linear midpoint of the range, near the
+	// top, and pads the plot for it.
+	ylabels := make([]string, len(panels))
+	ls := textStyle(sans, fontLabel)
+	ls.Rotation = math.Pi / 2
+	ls.XAlign, ls.YAlign = draw.XCenter, draw.YCenter
+	labelW := ls.Height("Mg") + vg.Points(8)
 	for k, pn := range panels {
+		ylabels[k], pn.plot.Y.Label.Text = pn.plot.Y.Label.Text, ""
 		c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{Max: vg.Point{X: tileW, Y: tileH}}}
 		d := pn.plot.DataCanvas(c)
 		own[k] = pads{l: d.Min.X - c.Min.X, r: c.Max.X - d.Max.X, b: d.Min.Y - c.Min.Y, t: c.Max.Y - d.Max.Y}
 		i, j := k%cols, k/cols
-		colL[i], colR[i] = max(colL[i], own[k].l), max(colR[i], own[k].r)
+		colL[i], colR[i] = max(colL[i], own[k].l+labelW), max(colR[i], own[k].r)
 		rowB[j], rowT[j] = max(rowB[j], own[k].b), max(rowT[j], own[k].t)
 	}
 	// Legends wrap within the width over their data area.
@@ -470,6 +479,9 @@ func drawPanels(dc draw.Canvas, panels []panel, rows, cols int, extra func(draw.
 			}}
 			drawLegendRow(legendArea, pn.legend)
 			pn.plot.Draw(c)
+			if ylabels[k] != "" {
+				c.FillText(ls, vg.Point{X: left[i] - colL[i] + labelW/2, Y: dataTop - dataH/2}, ylabels[k])
+			}
 		}
 	}
 }

@@ -26,6 +26,7 @@ const (
 	MaxGridPoints  = 200
 	MaxTransforms  = 64
 	MaxArms        = 16
+	MaxStudyBytes  = 1 << 20
 	maxAllocation  = 1000.0
 	maxNameLength  = 64
 	defaultLevel   = 0.95
@@ -150,6 +151,9 @@ func Load(path string) (*Study, error) {
 
 // Parse validates study-file bytes; name is used in messages.
 func Parse(name string, src []byte) (*Study, error) {
+	if len(src) > MaxStudyBytes {
+		return nil, StudyErrors{{File: name, Msg: fmt.Sprintf("the file is %d bytes; a study file may have at most %d", len(src), MaxStudyBytes)}}
+	}
 	raw := map[string]any{}
 	if _, err := toml.Decode(string(src), &raw); err != nil {
 		var pe toml.ParseError
