@@ -259,7 +259,7 @@ func summaryCellFor(r sim.Row, col string) summaryCell {
 		case math.IsInf(x, -1):
 			return summaryCell{Text: "−∞", Class: "num"}
 		}
-		return summaryCell{Text: strings.Replace(strconv.FormatFloat(x, 'g', 4, 64), "-", "−", 1), Class: "num"}
+		return summaryCell{Text: strings.ReplaceAll(strconv.FormatFloat(x, 'g', 4, 64), "-", "−"), Class: "num"}
 	}
 	switch col {
 	case "transform":

@@ -68,41 +68,48 @@ func problems(r sim.Row, crit sim.Criteria) []string {
 }
 
 // describeCheck says what criterion c showed at row r: its value, where
-// its interval lies against the band, and what that means.
+// its Monte Carlo interval lies against the band, and what that means.
 func describeCheck(c int, r sim.Row, ch sim.Check) string {
-	iv := fmt.Sprintf("Monte Carlo 95%% interval %s–%s", fmt3(ch.Low), fmt3(ch.High))
-	band := fmt.Sprintf("band %s–%s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
-	side := "straddles"
-	switch {
-	case ch.Verdict == sim.Fail && ch.High < ch.Band[0]:
-		side = "below"
-	case ch.Verdict == sim.Fail && ch.Low > ch.Band[1]:
-		side = "above"
+	iv := fmt.Sprintf("Monte Carlo 95%% interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
+	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
+	below := ch.Verdict == sim.Fail && ch.High < ch.Band[0]
+	above := ch.Verdict == sim.Fail && ch.Low > ch.Band[1]
+	// An unclear check's interval crosses one edge of the band, or both.
+	var edges []string
+	for _, e := range ch.Band {
+		if ch.Low < e && e < ch.High {
+			edges = append(edges, fmt3(e))
+		}
+	}
+	crosses := iv + " crosses the band's edge at " + strings.Join(edges, " and ")
+	if len(edges) == 0 {
+		crosses = iv + ", " + band // a NaN interval: say what is known
 	}
 	switch c {
 	case 0:
-		switch side {
-		case "below":
-			return fmt.Sprintf("coverage is below its band: %s (%s; %s)", fmt3(r.Coverage), iv, band)
-		case "above":
-			return fmt.Sprintf("coverage is above its band, the interval too wide: %s (%s; %s)", fmt3(r.Coverage), iv, band)
+		v := fmt3(r.Coverage)
+		switch {
+		case below:
+			return fmt.Sprintf("coverage is below its band: %s (%s; %s)", v, iv, band)
+		case above:
+			return fmt.Sprintf("coverage is above its band, the interval too wide: %s (%s; %s)", v, iv, band)
 		}
-		return fmt.Sprintf("coverage is %s, its %s reaching over an edge of the %s", fmt3(r.Coverage), iv, band)
+		return fmt.Sprintf("coverage is not clearly inside its band: %s (%s)", v, crosses)
 	case 1:
-		switch side {
-		case "below":
-			return fmt.Sprintf("the delta-method variance is too small: %s of the simulated variance (%s; %s)", fmt3(r.VarRatio), iv, band)
-		case "above":
-			return fmt.Sprintf("the delta-method variance is too large: %s times the simulated variance (%s; %s)", fmt3(r.VarRatio), iv, band)
+		v := fmt3(r.VarRatio)
+		switch {
+		case below:
+			return fmt.Sprintf("the delta-method variance is too small: %s of the simulated variance (%s; %s)", v, iv, band)
+		case above:
+			return fmt.Sprintf("the delta-method variance is too large: %s times the simulated variance (%s; %s)", v, iv, band)
 		}
-		return fmt.Sprintf("the variance ratio is %s, its %s reaching over an edge of the %s", fmt3(r.VarRatio), iv, band)
+		return fmt.Sprintf("the variance ratio is not clearly inside its band: %s (%s)", v, crosses)
 	case 2:
-		bound := fmt3(ch.Band[1])
-		iv2 := fmt.Sprintf("Monte Carlo 95%% interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
-		if side != "straddles" {
-			return fmt.Sprintf("the bias is %s delta-method sd, beyond ±%s (%s)", fmt3(r.StdBias), bound, iv2)
+		v, bound := fmt3(r.StdBias), fmt3(ch.Band[1])
+		if below || above {
+			return fmt.Sprintf("the bias is %s delta-method sd, beyond ±%s (%s)", v, bound, iv)
 		}
-		return fmt.Sprintf("the bias is %s delta-method sd, its %s reaching past ±%s", fmt3(r.StdBias), iv2, bound)
+		return fmt.Sprintf("the bias is not clearly within ±%s delta-method sd: %s (%s)", bound, v, crosses)
 	}
 	return sim.CriterionNames[c] + " does not pass"
 }

@@ -26,6 +26,8 @@ type Result struct {
 	Workers     int            `json:"workers"`
 	Elapsed     float64        `json:"elapsed_seconds"`
 	Complete    bool           `json:"complete"`
+	Shard       *Shard         `json:"shard,omitempty"`   // set on a shard's partial state
+	MissingNote string         `json:"missing,omitempty"` // what a partial merge lacks
 }
 
 // StudyInfo is what the report needs to know of the study that was run.

@@ -117,6 +117,9 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 		workers = runtime.GOMAXPROCS(0)
 	}
 	res.Workers = workers
+	if want == nil && res.Shard != nil {
+		want = res.Shard.Want(s)
+	}
 
 	var jobs []job
 	var total int64
@@ -190,11 +193,32 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 	wg.Wait()
 	res.Elapsed += time.Since(start).Seconds()
 	sortBlocks(res)
-	res.Complete = res.missingBlocks(s.Replicates) == 0
+	if res.Shard != nil {
+		res.Complete = res.shardComplete(s)
+	} else {
+		res.Complete = res.missingBlocks(s.Replicates) == 0
+	}
 	if firstErr != nil {
 		return firstErr
 	}
 	return ctx.Err()
+}
+
+// shardComplete reports whether res holds every block of its shard.
+func (res *Result) shardComplete(s *Study) bool {
+	want := res.Shard.Want(s)
+	for ni := range s.SampleSizes {
+		have := map[int]bool{}
+		for _, b := range res.Cells[0][ni].Blocks {
+			have[b.Block] = true
+		}
+		for b := 0; b < Blocks(s.Replicates); b++ {
+			if want(ni, b) && !have[b] {
+				return false
+			}
+		}
+	}
+	return true
 }
 
 func sortBlocks(res *Result) {

@@ -317,7 +317,11 @@ func smallestPassing(vs []Verdict) (int, Verdict) {
 func (r *Result) Warnings(rows []Row) []string {
 	var w []string
 	if !r.Complete {
-		w = append(w, "the run is incomplete: these numbers use only the blocks that finished")
+		msg := "the run is incomplete: these numbers use only the blocks that finished"
+		if r.MissingNote != "" {
+			msg = "partial merge: these numbers use only the blocks present; " + r.MissingNote
+		}
+		w = append(w, msg)
 	}
 	for _, row := range rows {
 		at := fmt.Sprintf("%s at n=%d", row.Transform, row.N)

@@ -31,6 +31,8 @@ const usage = `deltaprobe checks whether the delta-method approximation holds at
 usage:
   deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet] [-dry-run]
   deltaprobe run -resume DIR        continue an interrupted run
+  deltaprobe run STUDY.toml -shard K/N -o DIR   run one shard of a job array (-shard auto reads the index)
+  deltaprobe merge -o DIR [-partial] PART...    merge shards' result.json files (or their folders)
   deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
                                     search for the smallest adequate n ([plan] table)
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
@@ -59,6 +61,8 @@ func run(args []string, stdout, stderr io.Writer) int {
 		return cmdFamilies(args[1:], stdout, stderr)
 	case "report":
 		return cmdReport(args[1:], stdout, stderr)
+	case "merge":
+		return cmdMerge(args[1:], stdout, stderr)
 	case "version":
 		fmt.Fprintln(stdout, "deltaprobe", sim.Version)
 		return exitOK
@@ -66,7 +70,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "deltaprobe: unknown command %q; accepted: run, plan, predict, report, families, version\n", args[0])
+	fmt.Fprintf(stderr, "deltaprobe: unknown command %q; accepted: run, plan, merge, predict, report, families, version\n", args[0])
 	return exitUsage
 }
 
@@ -132,6 +136,8 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	resume := fs.String("resume", "", "continue the interrupted run saved in this folder")
 	dryRun := fs.Bool("dry-run", false, "print the work estimate and stop")
 	every := fs.Duration("checkpoint", checkpointEvery, "save the state this often while running")
+	shardFlag := fs.String("shard", "", "run only shard K/N of the blocks (0 ≤ K < N), or auto from the job array's environment")
+	shards := fs.Int("shards", 0, "with -shard auto under an indexed job: the number of shards")
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
 		return flagErr(err)
@@ -145,6 +151,10 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		res *sim.Result
 		dir string
 	)
+	if *resume != "" && *shardFlag != "" {
+		fmt.Fprintln(stderr, "deltaprobe run: -resume continues the shard it was started with; it takes no -shard")
+		return exitUsage
+	}
 	if *resume != "" {
 		var code int
 		if s, res, code = loadForResume(*resume, positional, *replicates != 0 || *seed != -1 || *out != "", stderr); s == nil {
@@ -173,6 +183,14 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 		res = sim.NewResult(s)
+		if *shardFlag != "" {
+			sh, err := parseShard(*shardFlag, *shards, os.Getenv)
+			if err != nil {
+				fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
+				return exitUsage
+			}
+			res.Shard = &sh
+		}
 	}
 
 	est := sim.EstimateWork(s, *workers, 50*time.Millisecond)
@@ -221,6 +239,10 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	case runErr != nil:
 		fmt.Fprintf(stderr, "deltaprobe run: %v\n", runErr)
 		return exitFailure
+	}
+	if res.Shard != nil {
+		fmt.Fprintf(stderr, "shard %s done: its blocks are in %s; merge every shard with deltaprobe merge\n", res.Shard, resultPath)
+		return exitOK
 	}
 	if err := report.Write(dir, res); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
@@ -500,5 +522,118 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	}
 	report.PlanTable(stdout, s, plan)
 	fmt.Fprintf(stderr, "wrote %s (plan.csv, verdicts.csv)\n", dir)
+	return exitOK
+}
+
+// parseShard reads "K/N", or "auto": the index from a Slurm job array
+// (SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_MIN, SLURM_ARRAY_TASK_COUNT) or
+// an indexed job (JOB_COMPLETION_INDEX, with the count from -shards).
+func parseShard(spec string, shards int, getenv func(string) string) (sim.Shard, error) {
+	if spec != "auto" {
+		var k, n int
+		if _, err := fmt.Sscanf(spec, "%d/%d", &k, &n); err != nil || fmt.Sprintf("%d/%d", k, n) != spec {
+			return sim.Shard{}, fmt.Errorf("-shard %q: give K/N with whole numbers, e.g. 0/4, or auto", spec)
+		}
+		if n < 1 || k < 0 || k >= n {
+			return sim.Shard{}, fmt.Errorf("-shard %s: need 0 ≤ K < N", spec)
+		}
+		return sim.Shard{Index: k, Count: n}, nil
+	}
+	atoi := func(name string) (int, bool, error) {
+		v := getenv(name)
+		if v == "" {
+			return 0, false, nil
+		}
+		var x int
+		if _, err := fmt.Sscanf(v, "%d", &x); err != nil || fmt.Sprint(x) != v {
+			return 0, true, fmt.Errorf("%s=%q is not a whole number", name, v)
+		}
+		return x, true, nil
+	}
+	if id, ok, err := atoi("SLURM_ARRAY_TASK_ID"); ok || err != nil {
+		if err != nil {
+			return sim.Shard{}, err
+		}
+		count, okCount, err := atoi("SLURM_ARRAY_TASK_COUNT")
+		if err != nil || !okCount {
+			return sim.Shard{}, fmt.Errorf("-shard auto: SLURM_ARRAY_TASK_ID is set but SLURM_ARRAY_TASK_COUNT is not (%v)", err)
+		}
+		lo, _, err := atoi("SLURM_ARRAY_TASK_MIN")
+		if err != nil {
+			return sim.Shard{}, err
+		}
+		if shards > 0 && shards != count {
+			return sim.Shard{}, fmt.Errorf("-shards %d disagrees with SLURM_ARRAY_TASK_COUNT=%d", shards, count)
+		}
+		k := id - lo
+		if k < 0 || k >= count {
+			return sim.Shard{}, fmt.Errorf("-shard auto: task %d is outside the array's %d tasks from %d; deltaprobe needs a contiguous array such as --array=0-%d", id, count, lo, count-1)
+		}
+		return sim.Shard{Index: k, Count: count}, nil
+	}
+	if idx, ok, err := atoi("JOB_COMPLETION_INDEX"); ok || err != nil {
+		if err != nil {
+			return sim.Shard{}, err
+		}
+		if shards < 1 {
+			return sim.Shard{}, fmt.Errorf("-shard auto under an indexed job needs -shards N, the job's completions")
+		}
+		if idx < 0 || idx >= shards {
+			return sim.Shard{}, fmt.Errorf("JOB_COMPLETION_INDEX=%d is outside 0..%d", idx, shards-1)
+		}
+		return sim.Shard{Index: idx, Count: shards}, nil
+	}
+	return sim.Shard{}, fmt.Errorf("-shard auto: neither SLURM_ARRAY_TASK_ID nor JOB_COMPLETION_INDEX is set; give -shard K/N")
+}
+
+func cmdMerge(args []string, stdout, stderr io.Writer) int {
+	fs := newFlagSet("merge", "merge -o DIR [-partial] [-force] PART...", stderr)
+	out := fs.String("o", "", "output folder for the merged result (required)")
+	partial := fs.Bool("partial", false, "merge an incomplete set on purpose; the output says what is missing")
+	force := fs.Bool("force", false, "write into a non-empty output folder")
+	positional, err := parseInterspersed(fs, args)
+	if err != nil {
+		return flagErr(err)
+	}
+	if *out == "" || len(positional) == 0 {
+		fmt.Fprintln(stderr, "deltaprobe merge: give -o DIR and at least one part (a result.json or the folder holding it)")
+		return exitUsage
+	}
+	var parts []sim.Part
+	for _, p := range positional {
+		path := p
+		if st, err := os.Stat(p); err == nil && st.IsDir() {
+			path = filepath.Join(p, "result.json")
+		}
+		res, err := sim.LoadResult(path)
+		if err != nil {
+			fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
+			return exitUsage
+		}
+		parts = append(parts, sim.Part{Name: p, Result: res})
+	}
+	merged, err := sim.Merge(parts, *partial)
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
+		return exitUsage
+	}
+	if err := checkOutDir(*out, *force); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
+		return exitUsage
+	}
+	if err := os.MkdirAll(*out, 0o755); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe merge: creating output folder: %v\n", err)
+		return exitFailure
+	}
+	if err := sim.SaveResult(filepath.Join(*out, "result.json"), merged); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
+		return exitFailure
+	}
+	if err := report.Write(*out, merged); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
+		return exitFailure
+	}
+	report.VerdictTable(stdout, merged)
+	fmt.Fprintf(stderr, "merged %d parts into %s\n", len(parts), *out)
 	return exitOK
 }

@@ -1,0 +1,369 @@
+package report
+
+import (
+	"bytes"
+	"encoding/xml"
+	"errors"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"deltaprobe/sim"
+)
+
+// element is a node of the page as encoding/xml reads it.
+type element struct {
+	name     string
+	attrs    map[string]string
+	children []*element
+	text     strings.Builder // all text inside, descendants included
+}
+
+// parsePage reads the page as XML, strictly: the template is written to
+// be well-formed, so an unclosed or misnested tag is an error here.
+func parsePage(t *testing.T, page []byte) *element {
+	t.Helper()
+	d := xml.NewDecoder(bytes.NewReader(page))
+	d.Strict = true
+	root := &element{name: "#document"}
+	stack := []*element{root}
+	for {
+		tok, err := d.Token()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			t.Fatalf("index.html is not well-formed: %v", err)
+		}
+		switch tok := tok.(type) {
+		case xml.StartElement:
+			e := &element{name: tok.Name.Local, attrs: map[string]string{}}
+			for _, a := range tok.Attr {
+				e.attrs[a.Name.Local] = a.Value
+			}
+			top := stack[len(stack)-1]
+			top.children = append(top.children, e)
+			stack = append(stack, e)
+		case xml.EndElement:
+			stack = stack[:len(stack)-1]
+		case xml.CharData:
+			for _, e := range stack {
+				e.text.Write(tok)
+			}
+		}
+	}
+	if len(stack) != 1 {
+		t.Fatalf("index.html leaves %d elements open", len(stack)-1)
+	}
+	return root
+}
+
+// find returns every element below e for which match holds, in order.
+func (e *element) find(match func(*element) bool) []*element {
+	var out []*element
+	for _, c := range e.children {
+		if match(c) {
+			out = append(out, c)
+		}
+		out = append(out, c.find(match)...)
+	}
+	return out
+}
+
+func named(name string) func(*element) bool {
+	return func(e *element) bool { return e.name == name }
+}
+
+func hasClass(name, class string) func(*element) bool {
+	return func(e *element) bool {
+		return e.name == name && strings.Contains(" "+e.attrs["class"]+" ", " "+class+" ")
+	}
+}
+
+func TestWritePage(t *testing.T) {
+	tests := []struct {
+		name  string
+		study string
+	}{
+		{"two transforms", studyFuel},
+		{"heavy tails", studyHeavy},
+		{"one n", studyOne},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			r := runStudy(t, tc.study)
+			dir := t.TempDir()
+			if err := Write(dir, r); err != nil {
+				t.Fatal(err)
+			}
+			page, err := os.ReadFile(filepath.Join(dir, PageFile))
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkPage(t, dir, page, r)
+		})
+	}
+}
+
+func checkPage(t *testing.T, dir string, page []byte, r *sim.Result) {
+	t.Helper()
+	doc := parsePage(t, page)
+	text := string(page)
+
+	// Nothing from the network, no scripts.
+	for _, bad := range []string{"http://", "https://", "<script", "//cdn", "@import", "url("} {
+		if strings.Contains(strings.ToLower(text), bad) {
+			t.Errorf("index.html contains %q", bad)
+		}
+	}
+	if !strings.Contains(text, `name="viewport"`) {
+		t.Error("index.html has no viewport meta")
+	}
+
+	// Every image exists beside the page and is a figure of ours.
+	imgs := doc.find(named("img"))
+	if len(imgs) != 2*len(r.Study.Transforms) {
+		t.Errorf("%d images for %d transforms, want two each", len(imgs), len(r.Study.Transforms))
+	}
+	for _, img := range imgs {
+		src := img.attrs["src"]
+		if src == "" || strings.ContainsAny(src, "/\\:") {
+			t.Errorf("image source %q is not a file beside the page", src)
+			continue
+		}
+		if _, err := os.Stat(filepath.Join(dir, src)); err != nil {
+			t.Errorf("image %q: %v", src, err)
+		}
+		if img.attrs["alt"] == "" {
+			t.Errorf("image %q has no alt text", src)
+		}
+	}
+	for _, a := range doc.find(named("a")) {
+		href := a.attrs["href"]
+		if strings.HasPrefix(href, "#") {
+			if len(doc.find(func(e *element) bool { return e.attrs["id"] == href[1:] })) != 1 {
+				t.Errorf("link %q has no single target", href)
+			}
+			continue
+		}
+		if _, err := os.Stat(filepath.Join(dir, href)); err != nil {
+			t.Errorf("link %q: %v", href, err)
+		}
+	}
+
+	// The verdict table comes first and has one row per transform, in order.
+	tables := doc.find(named("table"))
+	if len(tables) == 0 || !hasClass("table", "verdicts")(tables[0]) {
+		t.Fatal("the first table is not the verdict table")
+	}
+	rows := tables[0].find(named("tr"))[1:]
+	if len(rows) != len(r.Study.Transforms) {
+		t.Fatalf("verdict table has %d rows for %d transforms", len(rows), len(r.Study.Transforms))
+	}
+	vs := sim.Verdicts(r.Summarize())
+	for i, tr := range r.Study.Transforms {
+		cells := rows[i].find(named("td"))
+		if got := cells[0].text.String(); got != tr.Name {
+			t.Errorf("verdict row %d names %q, want %q", i, got, tr.Name)
+		}
+		if got, want := cells[1].text.String(), dash(formatN(vs[i].SmallestN)); got != want {
+			t.Errorf("%s: adequate from %q, want %q", tr.Name, got, want)
+		}
+	}
+	whys := doc.find(hasClass("ul", "why"))
+	if len(whys) != 1 || len(whys[0].find(named("li"))) != len(r.Study.Transforms) {
+		t.Error("want one explaining sentence per transform")
+	}
+
+	// Every column of summary.csv, once per summary table it belongs to.
+	var headers []string
+	for _, tb := range doc.find(hasClass("table", "summary")) {
+		for _, th := range tb.find(named("th")) {
+			headers = append(headers, th.text.String())
+		}
+		if n := len(tb.find(named("tr"))) - 1; n != len(r.Study.Transforms)*len(r.Study.SampleSizes) {
+			t.Errorf("summary table has %d rows, want %d", n, len(r.Study.Transforms)*len(r.Study.SampleSizes))
+		}
+	}
+	for _, col := range SummaryColumns {
+		found := false
+		for _, h := range headers {
+			found = found || h == col
+		}
+		if !found {
+			t.Errorf("summary column %q is not on the page", col)
+		}
+	}
+
+	// The caution, the study file as run, and provenance.
+	body := doc.text.String()
+	for _, must := range []string{
+		"only under the model this study states",
+		"qualified statistician",
+		"regulatory or sponsor guidance",
+		"pre-specified analysis plan",
+		r.Study.SHA256,
+		"deltaprobe " + r.Tool,
+	} {
+		if !strings.Contains(body, must) {
+			t.Errorf("page does not say %q", must)
+		}
+	}
+	pres := doc.find(named("pre"))
+	if len(pres) != 1 || pres[0].text.String() != r.Study.Source {
+		t.Error("the study file is not on the page exactly as run")
+	}
+	if r.Study.Title != "" && doc.find(named("h1"))[0].text.String() != r.Study.Title {
+		t.Errorf("heading %q, want the study title %q", doc.find(named("h1"))[0].text.String(), r.Study.Title)
+	}
+	for _, w := range r.Warnings(r.Summarize()) {
+		if !strings.Contains(body, w) {
+			t.Errorf("warning %q is not on the page", w)
+		}
+	}
+}
+
+// The page depends on the result alone.
+func TestPageDeterministic(t *testing.T) {
+	r := runStudy(t, studyFuel)
+	figs, err := Figures(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := Page(r, figs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := Page(r, figs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(a, b) {
+		t.Error("two renderings of the same page differ")
+	}
+}
+
+// The study's title and source reach the page escaped, never as markup.
+func TestPageEscapes(t *testing.T) {
+	r := runStudy(t, studyFuel)
+	page, err := Page(r, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := string(page)
+	for _, raw := range []string{"<and>", `a < b & "c"`} {
+		if strings.Contains(text, raw) {
+			t.Errorf("page carries %q unescaped", raw)
+		}
+	}
+	if !strings.Contains(text, "Reciprocal &lt;and&gt; log &amp; co") {
+		t.Error("title not escaped as expected")
+	}
+}
+
+// row builds a summary row whose checks have the given verdicts and
+// intervals; the values quoted are the centres of the intervals.
+func row(n int, checks ...sim.Check) sim.Row {
+	r := sim.Row{N: n, Verdict: sim.Pass}
+	for i, c := range checks {
+		r.Checks[i] = c
+		switch c.Verdict {
+		case sim.Fail:
+			r.Verdict = sim.Fail
+		case sim.Unclear:
+			if r.Verdict != sim.Fail {
+				r.Verdict = sim.Unclear
+			}
+		}
+	}
+	r.Coverage = (r.Checks[0].Low + r.Checks[0].High) / 2
+	r.VarRatio = (r.Checks[1].Low + r.Checks[1].High) / 2
+	r.StdBias = (r.Checks[2].Low + r.Checks[2].High) / 2
+	return r
+}
+
+var (
+	covBand  = [2]float64{0.925, 0.975}
+	varBand  = [2]float64{0.9, 1.1}
+	biasBand = [2]float64{-0.1, 0.1}
+	covOK    = sim.Check{Low: 0.94, High: 0.96, Band: covBand, Verdict: sim.Pass}
+	varOK    = sim.Check{Low: 0.97, High: 1.03, Band: varBand, Verdict: sim.Pass}
+	biasOK   = sim.Check{Low: -0.02, High: 0.02, Band: biasBand, Verdict: sim.Pass}
+	covLow   = sim.Check{Low: 0.901, High: 0.909, Band: covBand, Verdict: sim.Fail}
+	covEdge  = sim.Check{Low: 0.92, High: 0.93, Band: covBand, Verdict: sim.Unclear}
+	varHigh  = sim.Check{Low: 1.2, High: 1.3, Band: varBand, Verdict: sim.Fail}
+	biasBig  = sim.Check{Low: 0.15, High: 0.25, Band: biasBand, Verdict: sim.Fail}
+)
+
+func TestExplain(t *testing.T) {
+	crit := sim.Criteria{Coverage: covBand, VarRatio: varBand, StdBias: 0.1}
+	tests := []struct {
+		name string
+		rows []sim.Row
+		v    sim.TransformVerdict
+		want []string // phrases the sentence must hold
+	}{
+		{
+			"adequate throughout",
+			[]sim.Row{row(5, covOK, varOK, biasOK), row(10, covOK, varOK, biasOK)},
+			sim.TransformVerdict{SmallestN: 5, Status: sim.Adequate, Limiting: "none"},
+			[]string{"Adequate from n = 5, the smallest n studied", "Smaller samples were not checked"},
+		},
+		{
+			"coverage below the band before",
+			[]sim.Row{row(5, covLow, varOK, biasOK), row(10, covLow, varOK, biasOK), row(20, covOK, varOK, biasOK)},
+			sim.TransformVerdict{SmallestN: 20, Status: sim.Adequate, Limiting: "coverage"},
+			[]string{"Adequate from n = 20", "at n = 10 coverage is below its band: 0.905", "interval 0.901 to 0.909", "band 0.925 to 0.975"},
+		},
+		{
+			"two criteria hold it back",
+			[]sim.Row{row(5, covLow, varHigh, biasBig), row(10, covOK, varOK, biasOK)},
+			sim.TransformVerdict{SmallestN: 10, Status: sim.Adequate, Limiting: "coverage"},
+			[]string{"at n = 5 coverage is below its band", "; and the delta-method variance is too large: 1.250 times", "; and the bias is 0.200 delta-method sd, beyond ±0.100"},
+		},
+		{
+			"an earlier pass does not count",
+			[]sim.Row{row(5, covOK, varOK, biasOK), row(10, covLow, varOK, biasOK), row(20, covOK, varOK, biasOK)},
+			sim.TransformVerdict{SmallestN: 20, Status: sim.Adequate, Limiting: "coverage"},
+			[]string{"at n = 10 coverage is below", "n = 5 passes too, but adequacy needs every larger n"},
+		},
+		{
+			"not reached",
+			[]sim.Row{row(5, covLow, varOK, biasOK), row(10, covLow, varOK, biasOK)},
+			sim.TransformVerdict{Status: sim.NotReached, Limiting: "coverage"},
+			[]string{"Not adequate at any n of the grid", "At the largest, n = 10, coverage is below its band"},
+		},
+		{
+			"unclear",
+			[]sim.Row{row(5, covLow, varOK, biasOK), row(10, covEdge, varOK, biasOK)},
+			sim.TransformVerdict{Status: sim.StatusUncl, Limiting: "coverage"},
+			[]string{"Undecided", "no criterion fails", "coverage is not clearly inside its band: 0.925", "crosses the band's edge at 0.925", "More replicates"},
+		},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			got := explain(tc.rows, tc.v, crit)
+			for _, w := range tc.want {
+				if !strings.Contains(got, w) {
+					t.Errorf("explain = %q\nwant it to contain %q", got, w)
+				}
+			}
+		})
+	}
+}
+
+func TestFmt3(t *testing.T) {
+	tests := []struct {
+		in   float64
+		want string
+	}{
+		{0.90475, "0.905"}, {-0.0499, "−0.050"}, {-0.0001, "0.000"}, {12.3456, "12.346"},
+	}
+	for _, tc := range tests {
+		if got := fmt3(tc.in); got != tc.want {
+			t.Errorf("fmt3(%v) = %q, want %q", tc.in, got, tc.want)
+		}
+	}
+}
