@@ -31,10 +31,15 @@ func (*gammaModel) Params() []string { return []string{"shape", "rate"} }
 func (m *gammaModel) Truth(theta []float64) { theta[0], theta[1] = m.shape, m.rate }
 
 // Fit draws y_i = d·w_i/β (see gammaGen). The shape equation depends only
-// on s = log w̄ − mean(log w), which is scale-free, and x̄ = d·w̄/β gives
-// β̂ = α̂/ȳ = α̂β/(d·w̄). It reports false when s is not positive (all draws
-// equal to rounding, or n = 1) or the Newton iteration fails.
+// on s = log w̄ − mean(log w), which is scale-free, and ȳ = d·w̄/β gives
+// β̂ = α̂/ȳ = α̂β/(d·w̄). It reports false for n < 2, where the likelihood
+// grows without bound in α, when s is not positive (all draws equal to
+// rounding) or when the Newton iteration fails. Draws that underflow to
+// w = 0 (shapes near 0) still carry their exact log w.
 func (m *gammaModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+	if n < 2 {
+		return false
+	}
 	var sw, slw float64
 	for range n {
 		w, lw := m.gen.draw(rng)

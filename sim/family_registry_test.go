@@ -9,14 +9,17 @@ import (
 	"testing"
 )
 
-// familyContract is the study-file contract: family names, the parameters
-// each takes, and the estimated parameters in θ order.
-var familyContract = []struct {
+// contractCase is one family's study-file contract: its name, the
+// parameters it takes, the estimated parameters in θ order, and a truth.
+type contractCase struct {
 	name      string
 	params    []string
 	estimated []string
 	values    map[string]float64
-}{
+}
+
+// familyContract lists every family, sorted by name.
+var familyContract = []contractCase{
 	{"bernoulli", []string{"p"}, []string{"p"}, map[string]float64{"p": 0.3}},
 	{"binomial", []string{"size", "p"}, []string{"p"}, map[string]float64{"size": 10, "p": 0.3}},
 	{"bivariate_normal", []string{"mean_x", "mean_y", "sd_x", "sd_y", "rho"},
@@ -158,12 +161,8 @@ func TestFamilyFitAllocs(t *testing.T) {
 // a serial run with the same seed gets (run it with -race too).
 func TestFamilyFitConcurrent(t *testing.T) {
 	const workers, reps, n = 4, 200, 30
-	for _, c := range append(familyContract, struct {
-		name      string
-		params    []string
-		estimated []string
-		values    map[string]float64
-	}{"poisson", nil, []string{"mean"}, map[string]float64{"mean": 5e6}}) {
+	ptrs := contractCase{"poisson", nil, []string{"mean"}, map[string]float64{"mean": 5e6}}
+	for _, c := range append(slices.Clone(familyContract), ptrs) {
 		m := mustModel(t, c.name, c.values)
 		p := len(c.estimated)
 		run := func(seed uint64, out []float64) {
@@ -229,5 +228,28 @@ func BenchmarkSample(b *testing.B) {
 				m.Fit(rng, 50, theta)
 			}
 		})
+	}
+}
+
+// TestFamilyFitUndefined: with one observation the gamma likelihood has no
+// maximum and Pearson r has no value, so Fit must report false there and
+// true from n = 2 on (for continuous draws, ties have probability 0).
+func TestFamilyFitUndefined(t *testing.T) {
+	for _, name := range []string{"gamma", "bivariate_normal"} {
+		i := slices.IndexFunc(familyContract, func(c contractCase) bool { return c.name == name })
+		c := familyContract[i]
+		m := mustModel(t, name, c.values)
+		theta := make([]float64, len(c.estimated))
+		rng := testRand(5)
+		for range 100 {
+			if m.Fit(rng, 1, theta) {
+				t.Errorf("%s: Fit at n = 1 reported true", name)
+				break
+			}
+			if !m.Fit(rng, 2, theta) {
+				t.Errorf("%s: Fit at n = 2 reported false", name)
+				break
+			}
+		}
 	}
 }

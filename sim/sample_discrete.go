@@ -37,17 +37,17 @@ type cdfTable struct {
 }
 
 // newUnimodalTable tabulates a log-concave probability mass function f on
-// the integers min…max from its mode outward, through the ratios
+// the integers kmin…kmax from its mode outward, through the ratios
 // up(k) = f(k+1)/f(k) and down(k) = f(k−1)/f(k). Log-concavity makes the
-// ratios shrink away from the mode, so once a ratio r is below 1 the
-// remaining tail is at most f(k)·r/(1−r); the walk stops there when that
-// bound falls below tableTail of the mass so far. Working with ratios
+// ratios shrink away from the mode, so once the ratio r that produced the
+// latest entry f is below 1, the tail beyond it is at most f·r/(1−r); the
+// walk stops when that bound falls below tableTail of the mass so far. Working with ratios
 // relative to f(mode) = 1 and normalising at the end avoids the absolute
 // rounding of log-gamma for large arguments.
-func newUnimodalTable(mode, min, max int, up, down func(k int) float64) (*cdfTable, error) {
+func newUnimodalTable(mode, kmin, kmax int, up, down func(k int) float64) (*cdfTable, error) {
 	total := 1.0
 	var upper, lower []float64
-	for k, w := mode, 1.0; k < max; k++ {
+	for k, w := mode, 1.0; k < kmax; k++ {
 		r := up(k)
 		w *= r
 		upper = append(upper, w)
@@ -59,7 +59,7 @@ func newUnimodalTable(mode, min, max int, up, down func(k int) float64) (*cdfTab
 			return nil, errTableTooWide
 		}
 	}
-	for k, w := mode, 1.0; k > min; k-- {
+	for k, w := mode, 1.0; k > kmin; k-- {
 		r := down(k)
 		w *= r
 		lower = append(lower, w)
@@ -116,11 +116,13 @@ func (t *cdfTable) draw(rng *rand.Rand) int {
 // rejection method with squeeze PTRS of Hörmann (1993), "The transformed
 // rejection method for generating Poisson random variables", Insurance:
 // Mathematics and Economics 12:39–45, valid for μ ≥ 10. Its constants are
-// the paper's; the acceptance test is done on the log scale with a form of
-// log f(k) that stays accurate for μ far beyond 10⁶ (see logPMF).
+// the paper's as recalled here (TestSamplePTRS checks the output against
+// the Poisson pmf down to μ = 10); the acceptance test is done on the log
+// scale with a form of log f(k) that stays accurate for μ far beyond 10⁶
+// (see logPMF).
 type ptrsPoisson struct {
 	mu, logMu         float64
-	a, b, vr, invAlph float64
+	a, b, vr, invAlpha float64
 }
 
 func newPTRSPoisson(mu float64) ptrsPoisson {
@@ -134,7 +136,7 @@ func newPTRSPoisson(mu float64) ptrsPoisson {
 		a:       -0.059 + 0.02483*b,
 		b:       b,
 		vr:      0.9277 - 3.6224/(b-2),
-		invAlph: 1.1239 + 1.1328/(b-3.4),
+		invAlpha: 1.1239 + 1.1328/(b-3.4),
 	}
 }
 
@@ -151,7 +153,7 @@ func (p *ptrsPoisson) draw(rng *rand.Rand) float64 {
 		if k < 0 || (us < 0.013 && v > us) {
 			continue
 		}
-		if math.Log(v*p.invAlph/(p.a/(us*us)+p.b)) <= p.logPMF(k) {
+		if math.Log(v*p.invAlpha/(p.a/(us*us)+p.b)) <= p.logPMF(k) {
 			return k
 		}
 	}

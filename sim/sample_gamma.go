@@ -66,7 +66,7 @@ func (g *gammaGen) std(rng *rand.Rand) float64 {
 }
 
 // gammaShapeMaxIter bounds the safeguarded Newton iteration. Bisection alone
-// would shrink the initial bracket, of log-width at most log 2 + 16, to 10⁻¹⁵
+// would shrink the initial bracket, of log-width at most 17·log 2, to 10⁻¹⁵
 // in under 60 steps; Newton from Minka's start needs about four.
 const gammaShapeMaxIter = 100
 
