@@ -15,7 +15,8 @@ package report
 //	go test -tags browser -run TestBrowser ./report/
 //
 // It is skipped only when no Chromium binary is found; set
-// DELTAPROBE_CHROMIUM to use one elsewhere than /usr/bin/chromium.
+// DELTAPROBE_CHROMIUM to use one elsewhere than /usr/bin/chromium, and
+// DELTAPROBE_BROWSER_SHOTS to a folder to keep screenshots of the page.
 
 import (
 	"bufio"
@@ -24,6 +25,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"net/url"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -245,22 +247,53 @@ func watch(ctx context.Context, c *cdp, session string, pr *browserProblems, loa
 	}
 }
 
-func TestBrowser(t *testing.T) {
-	bin := chromiumPath()
-	if bin == "" {
-		t.Skip("no Chromium binary (looked for /usr/bin/chromium, chromium-browser and chromium on PATH; DELTAPROBE_CHROMIUM unset): install the Debian package chromium to run this test")
+// shot saves a full-page screenshot to $DELTAPROBE_BROWSER_SHOTS/name.png
+// when that variable names a folder: a way to look at the page as the
+// browser laid it out, at desktop, phone and print widths.
+func shot(ctx context.Context, t *testing.T, c *cdp, session, name string) {
+	t.Helper()
+	dir := os.Getenv("DELTAPROBE_BROWSER_SHOTS")
+	if dir == "" {
+		return
 	}
-	r := runStudy(t, studyFuel)
-	dir := t.TempDir()
-	if err := Write(dir, r); err != nil {
-		t.Fatal(err)
+	var res struct {
+		Data string `json:"data"`
 	}
-	page, err := filepath.Abs(filepath.Join(dir, PageFile))
+	if err := c.call(ctx, session, "Page.captureScreenshot", map[string]any{"format": "png", "captureBeyondViewport": true}, &res); err != nil {
+		t.Errorf("screenshot %s: %v", name, err)
+		return
+	}
+	b, err := base64.StdEncoding.DecodeString(res.Data)
+	if err == nil {
+		err = os.WriteFile(filepath.Join(dir, name+".png"), b, 0o644)
+	}
 	if err != nil {
-		t.Fatal(err)
+		t.Errorf("screenshot %s: %v", name, err)
 	}
+}
 
-	ctx, cancel := context.WithTimeout(context.Background(), 90*time.Second)
+// pageReport is what the browser made of a page.
+type pageReport struct {
+	images []struct {
+		Src      string `json:"src"`
+		Natural  [2]int `json:"natural"`
+		Declared [2]int `json:"declared"`
+		Complete bool   `json:"complete"`
+	}
+	phoneScroll, phoneWidest int // CSS pixels, at phoneWidth
+	printDark                []string
+	pdf                      bool
+	problems                 []string
+}
+
+const phoneWidth = 390
+
+// inspect loads the page at path in a fresh headless Chromium and reports
+// on it.
+func inspect(ctx context.Context, t *testing.T, bin, path string) pageReport {
+	t.Helper()
+	var rep pageReport
+	ctx, cancel := context.WithTimeout(ctx, 60*time.Second)
 	defer cancel()
 	toR, toW, err := os.Pipe()
 	if err != nil {
@@ -284,6 +317,7 @@ func TestBrowser(t *testing.T) {
 	toR.Close()
 	fromW.Close()
 	defer func() {
+		toW.Close()
 		cancel()
 		cmd.Wait()
 	}()
@@ -314,7 +348,8 @@ func TestBrowser(t *testing.T) {
 			fail("%v", err)
 		}
 	}
-	if err := c.call(ctx, s, "Page.navigate", map[string]any{"url": "file://" + page}, nil); err != nil {
+	u := url.URL{Scheme: "file", Path: path}
+	if err := c.call(ctx, s, "Page.navigate", map[string]any{"url": u.String()}, nil); err != nil {
 		fail("%v", err)
 	}
 	select {
@@ -323,69 +358,53 @@ func TestBrowser(t *testing.T) {
 		fail("the page did not finish loading: %v", ctx.Err())
 	}
 
-	// Every image decoded, at the size the page declares.
-	var imgs []struct {
-		Src      string `json:"src"`
-		Natural  [2]int `json:"natural"`
-		Declared [2]int `json:"declared"`
-		Complete bool   `json:"complete"`
-	}
 	js := `Array.from(document.images).map(i => ({src: i.getAttribute("src"), natural: [i.naturalWidth, i.naturalHeight],
 		declared: [Number(i.getAttribute("width")), Number(i.getAttribute("height"))], complete: i.complete}))`
-	if err := c.eval(ctx, s, js, &imgs); err != nil {
+	if err := c.eval(ctx, s, js, &rep.images); err != nil {
 		fail("%v", err)
 	}
-	if len(imgs) != 2*len(r.Study.Transforms) {
-		t.Errorf("%d images rendered, want %d", len(imgs), 2*len(r.Study.Transforms))
+	if err := c.call(ctx, s, "Emulation.setDeviceMetricsOverride", map[string]any{"width": 1280, "height": 900, "deviceScaleFactor": 1, "mobile": false}, nil); err != nil {
+		fail("%v", err)
 	}
-	for _, im := range imgs {
-		if !im.Complete || im.Natural[0] == 0 || im.Natural[1] == 0 {
-			t.Errorf("image %s did not render: natural size %v", im.Src, im.Natural)
-		} else if im.Natural != im.Declared {
-			t.Errorf("image %s is %v pixels but the page declares %v", im.Src, im.Natural, im.Declared)
-		}
-	}
+	shot(ctx, t, c, s, "desktop")
 
-	// On a phone-sized screen the page itself never scrolls sideways;
-	// wide tables scroll inside their own box, and images shrink to fit.
-	const phone = 390
-	if err := c.call(ctx, s, "Emulation.setDeviceMetricsOverride", map[string]any{"width": phone, "height": 844, "deviceScaleFactor": 2, "mobile": true}, nil); err != nil {
+	if err := c.call(ctx, s, "Emulation.setDeviceMetricsOverride", map[string]any{"width": phoneWidth, "height": 844, "deviceScaleFactor": 2, "mobile": true}, nil); err != nil {
 		fail("%v", err)
 	}
 	var widths struct {
-		Scroll int `json:"scroll"`
-		Widest int `json:"widest"`
+		Scroll int     `json:"scroll"`
+		Widest float64 `json:"widest"`
 	}
 	if err := c.eval(ctx, s, `({scroll: document.documentElement.scrollWidth,
-		widest: Math.max(...Array.from(document.images).map(i => i.getBoundingClientRect().width))})`, &widths); err != nil {
+		widest: Math.max(0, ...Array.from(document.images).map(i => i.getBoundingClientRect().width))})`, &widths); err != nil {
 		fail("%v", err)
 	}
-	if widths.Scroll > phone+1 {
-		t.Errorf("at %d CSS pixels wide the page is %d wide: it scrolls sideways", phone, widths.Scroll)
-	}
-	if widths.Widest > phone {
-		t.Errorf("at %d CSS pixels wide an image is %d wide", phone, widths.Widest)
-	}
+	rep.phoneScroll, rep.phoneWidest = widths.Scroll, int(widths.Widest+0.5)
+	shot(ctx, t, c, s, "phone")
 	if err := c.call(ctx, s, "Emulation.clearDeviceMetricsOverride", map[string]any{}, nil); err != nil {
 		fail("%v", err)
 	}
 
-	// In print, nothing sits on a dark ground, and the page prints.
 	if err := c.call(ctx, s, "Emulation.setEmulatedMedia", map[string]any{"media": "print"}, nil); err != nil {
 		fail("%v", err)
 	}
-	var dark []string
+	// A4 less 1.5 cm margins is about 680 CSS pixels wide.
+	if err := c.call(ctx, s, "Emulation.setDeviceMetricsOverride", map[string]any{"width": 680, "height": 1000, "deviceScaleFactor": 1, "mobile": false}, nil); err != nil {
+		fail("%v", err)
+	}
+	shot(ctx, t, c, s, "print")
+	if err := c.call(ctx, s, "Emulation.clearDeviceMetricsOverride", map[string]any{}, nil); err != nil {
+		fail("%v", err)
+	}
+	// A ground is dark when its luminance (0–255) is under 200.
 	if err := c.eval(ctx, s, `Array.from(document.querySelectorAll("*")).filter(e => {
 		const m = getComputedStyle(e).backgroundColor.match(/[\d.]+/g);
 		if (!m) return false;
 		const [r, g, b, a] = m.map(Number);
 		if (a === 0) return false;
 		return 0.2126*r + 0.7152*g + 0.0722*b < 200;
-	}).map(e => e.tagName + "." + e.className)`, &dark); err != nil {
+	}).map(e => e.tagName + "." + e.className)`, &rep.printDark); err != nil {
 		fail("%v", err)
-	}
-	if len(dark) > 0 {
-		t.Errorf("in print, these have a dark background: %v", dark)
 	}
 	var pdf struct {
 		Data string `json:"data"`
@@ -393,16 +412,102 @@ func TestBrowser(t *testing.T) {
 	if err := c.call(ctx, s, "Page.printToPDF", map[string]any{"printBackground": true}, &pdf); err != nil {
 		fail("%v", err)
 	}
-	if b, err := base64.StdEncoding.DecodeString(pdf.Data); err != nil || !strings.HasPrefix(string(b), "%PDF") {
-		t.Errorf("printing gave no PDF (%d bytes of base64, %v)", len(pdf.Data), err)
-	}
+	b, err := base64.StdEncoding.DecodeString(pdf.Data)
+	rep.pdf = err == nil && strings.HasPrefix(string(b), "%PDF")
 
-	// Let late events arrive, then look at what was seen.
+	// Let late events arrive, then take what was seen.
 	time.Sleep(200 * time.Millisecond)
-	for _, p := range pr.all() {
-		t.Errorf("browser reported: %s", p)
-	}
+	rep.problems = pr.all()
 	if err := c.call(ctx, "", "Browser.close", map[string]any{}, nil); err != nil && !errors.Is(err, context.Canceled) {
 		t.Logf("closing the browser: %v", err)
+	}
+	return rep
+}
+
+func TestBrowser(t *testing.T) {
+	bin := chromiumPath()
+	if bin == "" {
+		t.Skip("no Chromium binary (looked for /usr/bin/chromium, chromium-browser and chromium on PATH; DELTAPROBE_CHROMIUM unset): install the Debian package chromium to run this test")
+	}
+	r := runStudy(t, studyFuel)
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	page, err := filepath.Abs(filepath.Join(dir, PageFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep := inspect(context.Background(), t, bin, page)
+
+	if len(rep.images) != 2*len(r.Study.Transforms) {
+		t.Errorf("%d images rendered, want %d", len(rep.images), 2*len(r.Study.Transforms))
+	}
+	for _, im := range rep.images {
+		if !im.Complete || im.Natural[0] == 0 || im.Natural[1] == 0 {
+			t.Errorf("image %s did not render: natural size %v", im.Src, im.Natural)
+		} else if im.Natural != im.Declared {
+			t.Errorf("image %s is %v pixels but the page declares %v", im.Src, im.Natural, im.Declared)
+		}
+	}
+	// On a phone the page itself never scrolls sideways: wide tables
+	// scroll inside their own box, and images shrink to fit.
+	if rep.phoneScroll > phoneWidth+1 {
+		t.Errorf("at %d CSS pixels wide the page is %d wide: it scrolls sideways", phoneWidth, rep.phoneScroll)
+	}
+	if rep.phoneWidest > phoneWidth {
+		t.Errorf("at %d CSS pixels wide an image is %d wide", phoneWidth, rep.phoneWidest)
+	}
+	if len(rep.printDark) > 0 {
+		t.Errorf("in print, these have a dark background: %v", rep.printDark)
+	}
+	if !rep.pdf {
+		t.Error("printing gave no PDF")
+	}
+	for _, p := range rep.problems {
+		t.Errorf("browser reported: %s", p)
+	}
+}
+
+// The checks above must be able to fail: a page with a missing image, a
+// console error, a request off the machine (to a closed local port) and a
+// dark print background is caught on every count.
+func TestBrowserCatchesFaults(t *testing.T) {
+	bin := chromiumPath()
+	if bin == "" {
+		t.Skip("no Chromium binary: install the Debian package chromium to run this test")
+	}
+	dir := t.TempDir()
+	bad := `<!DOCTYPE html><html><head><meta name="viewport" content="width=device-width" />
+<style>@media print { body { background: #222; } }</style></head>
+<body><img src="missing.png" width="10" height="10" alt="" />
+<img src="http://127.0.0.1:9/x.png" alt="" />
+<div style="width: 2000px">wide</div>
+<script>console.error("boom")</script></body></html>`
+	path := filepath.Join(dir, "bad.html")
+	if err := os.WriteFile(path, []byte(bad), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	rep := inspect(context.Background(), t, bin, path)
+	broken := 0
+	for _, im := range rep.images {
+		if im.Natural[0] == 0 {
+			broken++
+		}
+	}
+	if broken != 2 {
+		t.Errorf("%d broken images seen, want 2", broken)
+	}
+	if rep.phoneScroll <= phoneWidth {
+		t.Errorf("a 2000px-wide block was not seen to scroll the page (width %d)", rep.phoneScroll)
+	}
+	if len(rep.printDark) == 0 {
+		t.Error("a dark print background was not seen")
+	}
+	joined := strings.Join(rep.problems, "\n")
+	for _, want := range []string{"console error", "request to http://127.0.0.1:9/x.png"} {
+		if !strings.Contains(joined, want) {
+			t.Errorf("problems %q do not include %q", rep.problems, want)
+		}
 	}
 }

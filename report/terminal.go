@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 	"text/tabwriter"
 
 	"deltaprobe/sim"
@@ -15,20 +16,42 @@ func VerdictTable(w io.Writer, r *sim.Result) {
 	rows := r.Summarize()
 	vs := sim.Verdicts(rows)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimiting\tcoverage\tvariance\tbias")
+	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimited by\tcov.\tvar.\tbias")
 	for _, v := range vs {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\n", clip(v.Transform, 24), dash(formatN(v.SmallestN)), v.Status, v.Limiting,
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\n", clip(v.Transform, 22), dash(formatN(v.SmallestN)), v.Status, v.Limiting,
 			dash(formatN(v.PerCriterion[0])), dash(formatN(v.PerCriterion[1])), dash(formatN(v.PerCriterion[2])))
 	}
 	tw.Flush()
-	fmt.Fprintf(w, "(columns coverage/variance/bias: smallest n from which that criterion alone passes; level %v, %d replicates per n)\n",
-		r.Study.Level, r.Study.Replicates)
+	wrap(w, "", fmt.Sprintf("cov., var., bias: the smallest n from which that criterion alone passes. Level %v, %d replicates per n; a study checks the approximation only under the model it states.",
+		r.Study.Level, r.Study.Replicates))
 	if ws := r.Warnings(rows); len(ws) > 0 {
 		fmt.Fprintf(w, "\nwarnings (%d):\n", len(ws))
 		for _, m := range ws {
-			fmt.Fprintf(w, "  - %s\n", m)
+			wrap(w, "  - ", m)
 		}
 	}
+}
+
+// wrap prints text in lines of at most 79 columns, the first starting
+// with lead and the rest indented to match.
+func wrap(w io.Writer, lead, text string) {
+	const width = 79
+	indent := strings.Repeat(" ", len([]rune(lead)))
+	line := lead
+	fresh := true
+	for _, word := range strings.Fields(text) {
+		if !fresh && len([]rune(line))+1+len([]rune(word)) > width {
+			fmt.Fprintln(w, line)
+			line, fresh = indent, true
+		}
+		if fresh {
+			line += word
+			fresh = false
+		} else {
+			line += " " + word
+		}
+	}
+	fmt.Fprintln(w, line)
 }
 
 func dash(s string) string {

@@ -121,7 +121,7 @@ func (t *cdfTable) draw(rng *rand.Rand) int {
 // scale with a form of log f(k) that stays accurate for μ far beyond 10⁶
 // (see logPMF).
 type ptrsPoisson struct {
-	mu, logMu         float64
+	mu, logMu          float64
 	a, b, vr, invAlpha float64
 }
 
@@ -131,11 +131,11 @@ func newPTRSPoisson(mu float64) ptrsPoisson {
 	}
 	b := 0.931 + 2.53*math.Sqrt(mu)
 	return ptrsPoisson{
-		mu:      mu,
-		logMu:   math.Log(mu),
-		a:       -0.059 + 0.02483*b,
-		b:       b,
-		vr:      0.9277 - 3.6224/(b-2),
+		mu:       mu,
+		logMu:    math.Log(mu),
+		a:        -0.059 + 0.02483*b,
+		b:        b,
+		vr:       0.9277 - 3.6224/(b-2),
 		invAlpha: 1.1239 + 1.1328/(b-3.4),
 	}
 }

@@ -3,6 +3,7 @@ package sim
 import (
 	"fmt"
 	"math"
+	"strings"
 )
 
 // mcZ is the normal quantile of the two-sided 95% Monte Carlo intervals
@@ -323,21 +324,42 @@ func (r *Result) Warnings(rows []Row) []string {
 		}
 		w = append(w, msg)
 	}
-	for _, row := range rows {
-		at := fmt.Sprintf("%s at n=%d", row.Transform, row.N)
-		if row.Undefined > 0 {
-			msg := fmt.Sprintf("%s: %d of %d replicates undefined (estimate or standard error not finite", at, row.Undefined, row.Replicates)
-			if row.FitFailures > 0 {
-				msg += fmt.Sprintf("; %d fits did not converge", row.FitFailures)
+	// One line per transform and kind, listing the sample sizes.
+	type kind struct {
+		what  string
+		parts []string
+	}
+	for start := 0; start < len(rows); {
+		end := start
+		for end < len(rows) && rows[end].Transform == rows[start].Transform {
+			end++
+		}
+		kinds := []*kind{
+			{what: "undefined replicates (estimate or standard error not finite; counted as not covering, left out of the moments)"},
+			{what: "fits that did not converge (counted as undefined)"},
+			{what: "plug-in standard error of 0 (a degenerate interval)"},
+			{what: "heavy tails, excess kurtosis above 20 (the variance may not exist; its MCSE is then unreliable)"},
+		}
+		for _, row := range rows[start:end] {
+			if row.Undefined > 0 {
+				kinds[0].parts = append(kinds[0].parts, fmt.Sprintf("n=%d: %d of %d", row.N, row.Undefined, row.Replicates))
 			}
-			w = append(w, msg+"); they count as not covering and are left out of the moments")
+			if row.FitFailures > 0 {
+				kinds[1].parts = append(kinds[1].parts, fmt.Sprintf("n=%d: %d", row.N, row.FitFailures))
+			}
+			if row.ZeroSE > 0 {
+				kinds[2].parts = append(kinds[2].parts, fmt.Sprintf("n=%d: %d", row.N, row.ZeroSE))
+			}
+			if row.ExKurtosis > 20 {
+				kinds[3].parts = append(kinds[3].parts, fmt.Sprintf("n=%d: %.3g", row.N, row.ExKurtosis))
+			}
 		}
-		if row.ZeroSE > 0 {
-			w = append(w, fmt.Sprintf("%s: %d replicates had a plug-in standard error of 0 (a degenerate interval)", at, row.ZeroSE))
+		for _, k := range kinds {
+			if len(k.parts) > 0 {
+				w = append(w, fmt.Sprintf("%s: %s at %s", rows[start].Transform, k.what, strings.Join(k.parts, ", ")))
+			}
 		}
-		if row.ExKurtosis > 20 {
-			w = append(w, fmt.Sprintf("%s: excess kurtosis %.3g; the estimate is heavy-tailed, its variance may not exist, and the variance MCSE is itself unreliable", at, row.ExKurtosis))
-		}
+		start = end
 	}
 	return w
 }
