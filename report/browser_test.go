@@ -281,12 +281,16 @@ type pageReport struct {
 		Complete bool   `json:"complete"`
 	}
 	phoneScroll, phoneWidest int // CSS pixels, at phoneWidth
+	printScroll              int // CSS pixels, at printWidth
 	printDark                []string
 	pdf                      bool
 	problems                 []string
 }
 
-const phoneWidth = 390
+const (
+	phoneWidth = 390
+	printWidth = 680 // CSS pixels: A4 less the page's 1.5 cm margins
+)
 
 // inspect loads the page at path in a fresh headless Chromium and reports
 // on it.
@@ -388,11 +392,13 @@ func inspect(ctx context.Context, t *testing.T, bin, path string) pageReport {
 	if err := c.call(ctx, s, "Emulation.setEmulatedMedia", map[string]any{"media": "print"}, nil); err != nil {
 		fail("%v", err)
 	}
-	// A4 less 1.5 cm margins is about 680 CSS pixels wide.
-	if err := c.call(ctx, s, "Emulation.setDeviceMetricsOverride", map[string]any{"width": 680, "height": 1000, "deviceScaleFactor": 1, "mobile": false}, nil); err != nil {
+	if err := c.call(ctx, s, "Emulation.setDeviceMetricsOverride", map[string]any{"width": printWidth, "height": 1000, "deviceScaleFactor": 1, "mobile": false}, nil); err != nil {
 		fail("%v", err)
 	}
 	shot(ctx, t, c, s, "print")
+	if err := c.eval(ctx, s, `document.documentElement.scrollWidth`, &rep.printScroll); err != nil {
+		fail("%v", err)
+	}
 	if err := c.call(ctx, s, "Emulation.clearDeviceMetricsOverride", map[string]any{}, nil); err != nil {
 		fail("%v", err)
 	}
@@ -460,6 +466,10 @@ func TestBrowser(t *testing.T) {
 	}
 	if len(rep.printDark) > 0 {
 		t.Errorf("in print, these have a dark background: %v", rep.printDark)
+	}
+	// In print nothing scrolls, so nothing may be wider than the paper.
+	if rep.printScroll > printWidth+1 {
+		t.Errorf("printed %d CSS pixels wide, the page is %d wide: tables or figures would be cut", printWidth, rep.printScroll)
 	}
 	if !rep.pdf {
 		t.Error("printing gave no PDF")

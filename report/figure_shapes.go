@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -85,10 +86,11 @@ func shapeRange(hs []*sim.Histogram) float64 {
 const maxShapeRange = 6.0
 
 // shapeBinWidth coarsens the fine pivot bins so that a central bin holds
-// about 200 replicates or more: fewer make a histogram of noise.
+// about 100 replicates or more (its N(0, 1) share is about 0.4·w): fewer
+// make a histogram of noise.
 func shapeBinWidth(total int64) float64 {
 	for _, w := range []float64{0.2, 0.25, 0.5} {
-		if float64(total)*w*0.4 >= 200 {
+		if float64(total)*w*0.4 >= 100 {
 			return w
 		}
 	}
@@ -236,13 +238,20 @@ func shapesPNG(r *sim.Result, t int, rows []sim.Row, v sim.TransformVerdict) ([]
 		hp.Add(curve)
 		hp.X.Min, hp.X.Max = -l, l
 		hmax = math.Max(hmax, hp.Y.Max)
-		note := ""
+		// What the histogram leaves out is said over it: replicates with
+		// no defined estimate, and the share beyond the axis.
+		var notes []string
+		cell := r.Cells[t][i]
+		if cell.Undefined > 0 && cell.Replicates > 0 {
+			notes = append(notes, fmt.Sprintf("%s%% undefined", fmtG(100*float64(cell.Undefined)/float64(cell.Replicates))))
+		}
 		if outside > 0 {
-			note = fmt.Sprintf("%s%% beyond ±%g", fmtG(100*outside), l)
+			notes = append(notes, fmt.Sprintf("%s%% beyond ±%g", fmtG(100*outside), l))
 		}
 		if hs[k].Total() == 0 {
-			note = "no defined replicates"
+			notes = []string{"no defined replicates"}
 		}
+		note := strings.Join(notes, ", ")
 		panels = append(panels, panel{title: fmt.Sprintf("n = %d", n), note: note, plot: hp})
 		hists = append(hists, hp)
 

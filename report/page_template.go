@@ -25,18 +25,21 @@ p, ul, dl { margin: 0.5rem 0; }
 code, pre, .expr { font-family: ui-monospace, "Liberation Mono", "DejaVu Sans Mono", monospace; font-size: 0.92em; }
 a { color: #0b4f8a; }
 .lede { color: #444; }
-nav { font-size: 0.92rem; color: #444; margin: 0.75rem 0 0; }
+nav { font-size: 0.92em; color: #444; margin: 0.75rem 0 0; }
 nav a { margin-right: 0.9rem; white-space: nowrap; }
 .scroll { overflow-x: auto; -webkit-overflow-scrolling: touch; margin: 0.5rem 0; }
-table { border-collapse: collapse; font-size: 0.9rem; }
+table { border-collapse: collapse; font-size: 0.9em; }
 caption { text-align: left; font-weight: 600; padding: 0.25rem 0; }
 th, td { padding: 0.3rem 0.6rem; border-bottom: 1px solid #ddd; vertical-align: top; text-align: left; }
 th { font-weight: 600; border-bottom: 1px solid #888; }
 thead th { white-space: nowrap; }
+.verdicts thead th { white-space: normal; min-width: 4.5rem; }
+td.expr { overflow-wrap: anywhere; }
 td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
 td.name { overflow-wrap: break-word; max-width: 22rem; }
-.note { font-size: 0.92rem; color: #333; }
-.summary td, .summary th { font-size: 0.85rem; padding: 0.2rem 0.5rem; }
+.note { font-size: 0.92em; color: #333; }
+table.summary { font-size: 0.85em; }
+.summary td, .summary th { padding: 0.2em 0.5em; }
 .status { font-weight: 600; }
 .not_reached, .v-fail { color: #8a2c00; }
 .unclear, .v-unclear { color: #6b4e00; }
@@ -46,12 +49,12 @@ td.name { overflow-wrap: break-word; max-width: 22rem; }
 .warn li { margin: 0.25rem 0; }
 figure { margin: 1rem 0 1.75rem; }
 figure img { display: block; max-width: 100%; height: auto; border: 1px solid #e4e4e4; }
-figcaption { font-size: 0.9rem; color: #444; margin-top: 0.4rem; max-width: 48rem; }
+figcaption { font-size: 0.9em; color: #444; margin-top: 0.4rem; max-width: 48rem; }
 dl.kv { display: grid; grid-template-columns: max-content 1fr; gap: 0.2rem 1rem; }
 dl.kv dt { font-weight: 600; }
 dl.kv dd { margin: 0; overflow-wrap: anywhere; }
 pre { overflow-x: auto; background: #f6f6f6; border: 1px solid #e4e4e4; padding: 0.75rem; line-height: 1.4; }
-footer { margin-top: 2.5rem; font-size: 0.85rem; color: #555; }
+footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
 @media (max-width: 36rem) {
   body { padding: 0.75rem 0.75rem 2rem; }
   h1 { font-size: 1.35rem; }
@@ -65,7 +68,9 @@ footer { margin-top: 2.5rem; font-size: 0.85rem; color: #555; }
   a { color: #000; text-decoration: none; }
   .scroll { overflow: visible; }
   table { font-size: 8pt; }
-  .summary td, .summary th { font-size: 7.5pt; padding: 0.1rem 0.3rem; }
+  table.summary { font-size: 7.5pt; }
+  th, td, .summary td, .summary th { padding: 0.1em 0.3em; }
+  .verdicts thead th { min-width: 0; }
   tr, figure, .scope, dl.kv { break-inside: avoid; page-break-inside: avoid; }
   thead { display: table-header-group; }
   h2, h3 { break-after: avoid; page-break-after: avoid; }
@@ -120,6 +125,7 @@ footer { margin-top: 2.5rem; font-size: 0.85rem; color: #555; }
 {{end}}</section>
 <section id="figures">
 <h2>Figures</h2>
+<p>Two figures per transform, each 1600 pixels wide: tap or click one to open it at full size.</p>
 {{range .Sections}}<h3 id="{{.Anchor}}">{{.Name}} <span class="expr">= {{.Expr}}</span></h3>
 {{range .Figures}}<figure>
 <a href="{{.File}}"><img src="{{.File}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Alt}}" /></a>

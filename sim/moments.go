@@ -53,3 +53,40 @@ func (m *Moments) Merge(o Moments) {
 
 // Var is the sample variance with divisor N − 1.
 func (m *Moments) Var() float64 { return m.M2 / float64(m.N-1) }
+
+// momentsOf returns the moments of xs in one call, by the corrected
+// two-pass algorithm (Chan, Golub & LeVeque 1983, The American
+// Statistician 37:242–247, from memory): the mean first, then the central
+// power sums about it, then an exact shift to the mean corrected for the
+// rounding left in it (e = Σd/n, Σ(d−e)^k expanded). It is the
+// block-at-a-time counterpart of Add: per value a handful of independent
+// multiply-adds instead of a dependent chain through a division, and at
+// least as accurate.
+func momentsOf(xs []float64) Moments {
+	if len(xs) == 0 {
+		return Moments{}
+	}
+	n := float64(len(xs))
+	var sum float64
+	for _, x := range xs {
+		sum += x
+	}
+	mean := sum / n
+	var s1, s2, s3, s4 float64
+	for _, x := range xs {
+		d := x - mean
+		d2 := d * d
+		s1 += d
+		s2 += d2
+		s3 += d2 * d
+		s4 += d2 * d2
+	}
+	e := s1 / n
+	return Moments{
+		N:    int64(len(xs)),
+		Mean: mean + e,
+		M2:   s2 - s1*e,
+		M3:   s3 - 3*e*s2 + 2*n*e*e*e,
+		M4:   s4 - 4*e*s3 + 6*e*e*s2 - 3*n*e*e*e*e,
+	}
+}

@@ -7,6 +7,7 @@ import (
 	"math/rand/v2"
 	"runtime"
 	"runtime/debug"
+	"slices"
 	"sort"
 	"sync"
 	"sync/atomic"
@@ -268,12 +269,18 @@ type worker struct {
 	useArm [][]bool // [transform][arm]: whether the transform reads the arm
 }
 
-// cellAcc accumulates one transform over one block.
+// cellAcc accumulates one transform over one block. Counters and
+// histograms are updated per replicate; the moments are not: the block's
+// estimates are kept in vals (at most BlockSize of them, so memory does
+// not grow with replicates) and reduced in one two-pass sweep when the
+// block ends. Welford's per-value update is a dependent chain through a
+// division; the sweep is a few independent multiply-adds per value.
 type cellAcc struct {
 	truth, sdDelta                                  float64
 	undefined, fitFail, zeroSE, covered, below, abv int64
-	mom                                             Moments
 	pluginSum                                       float64
+	vals                                            []float64 // estimates not yet in mom
+	mom                                             Moments
 	delta, wald                                     Histogram
 }
 
@@ -291,7 +298,7 @@ func newWorker(s *Study, res *Result) *worker {
 	}
 	for _, t := range s.Transforms {
 		w.evals = append(w.evals, t.Program.NewEvaluator())
-		w.accs = append(w.accs, cellAcc{delta: newHistogram(), wald: newHistogram()})
+		w.accs = append(w.accs, cellAcc{vals: make([]float64, 0, BlockSize), delta: newHistogram(), wald: newHistogram()})
 		use := make([]bool, len(s.Arms))
 		for ai, a := range s.Arms {
 			for i := range a.Model.Params() {
@@ -328,12 +335,17 @@ func (w *worker) runBlock(j job) {
 	for t := range w.accs {
 		acc := &w.accs[t]
 		p := w.res.Predictions[t][j.ni]
-		*acc = cellAcc{truth: p.Truth, sdDelta: math.Sqrt(p.DeltaVar), delta: acc.delta, wald: acc.wald}
+		*acc = cellAcc{truth: p.Truth, sdDelta: math.Sqrt(p.DeltaVar), vals: acc.vals[:0], delta: acc.delta, wald: acc.wald}
 		acc.delta.reset()
 		acc.wald.reset()
 	}
 	for r := 0; r < j.count; r++ {
 		w.replicate()
+	}
+	// A block holds at most BlockSize replicates, so its estimates are
+	// reduced here in one sweep and its moments come from vals alone.
+	for t := range w.accs {
+		w.accs[t].reduce()
 	}
 }
 
@@ -369,8 +381,10 @@ func (w *worker) replicate() {
 	}
 }
 
+// add scores one replicate's estimate v and plug-in variance pv.
 func (acc *cellAcc) add(v, pv, z float64) {
-	if math.IsNaN(v) || math.IsInf(v, 0) || math.IsNaN(pv) || math.IsInf(pv, 0) || pv < 0 {
+	// |x| <= MaxFloat64 is false for NaN and ±Inf alike: one compare each.
+	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64) {
 		acc.undefined++
 		return
 	}
@@ -386,11 +400,22 @@ func (acc *cellAcc) add(v, pv, z float64) {
 	default:
 		acc.covered++
 	}
-	acc.mom.Add(v)
+	if len(acc.vals) == cap(acc.vals) {
+		// Only when replicate is driven past a block's worth without
+		// runBlock (a benchmark): fold early rather than allocate.
+		acc.reduce()
+	}
+	acc.vals = append(acc.vals, v)
 	acc.pluginSum += pv
 	dev := v - acc.truth
 	acc.delta.Add(dev / acc.sdDelta)
 	acc.wald.Add(dev / se)
+}
+
+// reduce folds the pending estimates into the moments.
+func (acc *cellAcc) reduce() {
+	acc.mom.Merge(momentsOf(acc.vals))
+	acc.vals = acc.vals[:0]
 }
 
 // flush merges the worker's block into the result; the caller holds the
@@ -399,6 +424,13 @@ func (w *worker) flush(j job) {
 	for t := range w.accs {
 		acc := &w.accs[t]
 		c := w.res.Cells[t][j.ni]
+		if len(c.Blocks) == cap(c.Blocks) && w.res.Shard == nil {
+			// Room for every block still to come, once, instead of
+			// append's doubling, whose discarded arrays would make peak
+			// memory grow faster than the blocks themselves. A shard
+			// holds only some blocks, so it keeps append's growth.
+			c.Blocks = slices.Grow(c.Blocks, max(Blocks(w.s.Replicates)-len(c.Blocks), 1))
+		}
 		c.Replicates += int64(j.count)
 		c.Undefined += acc.undefined
 		c.FitFailures += acc.fitFail

@@ -1,0 +1,458 @@
+// Command deltabench times sim.Run on the reference study against the
+// floor: the plain loop a user would write by hand for the same study. It
+// alternates the two in one process, one and two workers, prints
+// nanoseconds per draw, their ratio and the scaling from one worker to
+// two, and re-executes itself as child processes to measure peak memory at
+// a small and a large number of replicates.
+//
+//	go run ./cmd/deltabench [-study FILE] [-pairs N] [-o bench.txt]
+package main
+
+import (
+	"bufio"
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"math/rand/v2"
+	"os"
+	"os/exec"
+	"runtime"
+	"runtime/metrics"
+	"slices"
+	"strconv"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"syscall"
+	"time"
+
+	"deltaprobe/sim"
+)
+
+// The targets of issue 6; the program reports against them but never
+// fails on them, since a shared machine can miss a target by bad luck.
+const (
+	maxRatio   = 1.25
+	minScaling = 1.8
+	maxRSSGrow = 1.10
+)
+
+func main() {
+	studyPath := flag.String("study", "studies/bench_reference.toml", "the reference study: one normal arm, one transform k / mean")
+	pairs := flag.Int("pairs", 5, "floor/sim pairs timed per worker count")
+	out := flag.String("o", "", "also write the figures to this file")
+	small := flag.Int("rss-small", 10_000, "replicates per n of the small memory run")
+	large := flag.Int("rss-large", 1_000_000, "replicates per n of the large memory run")
+	child := flag.Int("child", 0, "internal: run the study once with this many replicates per n and print its memory figures")
+	flag.Parse()
+
+	s, err := loadReference(*studyPath)
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "deltabench:", err)
+		os.Exit(2)
+	}
+	if *child > 0 {
+		if err := runChild(s, *child); err != nil {
+			fmt.Fprintln(os.Stderr, "deltabench:", err)
+			os.Exit(1)
+		}
+		return
+	}
+
+	var report strings.Builder
+	w := io.MultiWriter(os.Stdout, &report)
+	if err := bench(w, s, *studyPath, *pairs, *small, *large); err != nil {
+		fmt.Fprintln(os.Stderr, "deltabench:", err)
+		os.Exit(1)
+	}
+	if *out != "" {
+		// Write then rename, so an interrupted run leaves the last
+		// complete file in place.
+		tmp := *out + ".tmp"
+		if err := os.WriteFile(tmp, []byte(report.String()), 0o644); err != nil {
+			fmt.Fprintln(os.Stderr, "deltabench:", err)
+			os.Exit(1)
+		}
+		if err := os.Rename(tmp, *out); err != nil {
+			fmt.Fprintln(os.Stderr, "deltabench:", err)
+			os.Exit(1)
+		}
+	}
+}
+
+// reference is what the floor needs to know of the study.
+type reference struct {
+	mean, sd float64 // the normal model
+	k        float64 // the transform is k / mean
+}
+
+// loadReference loads the study and checks that it has the one shape the
+// floor is written for, so the two can never time different work.
+func loadReference(path string) (*sim.Study, error) {
+	s, err := sim.Load(path)
+	if err != nil {
+		return nil, err
+	}
+	if _, err := floorModel(s); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return s, nil
+}
+
+func floorModel(s *sim.Study) (reference, error) {
+	if len(s.Arms) != 1 || s.Arms[0].Family != "normal" || s.Arms[0].Allocation != 1 {
+		return reference{}, errors.New("the reference study must have one normal arm with allocation 1")
+	}
+	if len(s.Transforms) != 1 {
+		return reference{}, errors.New("the reference study must have exactly one transform")
+	}
+	// The transform must be k / mean; read k by evaluating at mean = 1.
+	t := s.Transforms[0]
+	ev := t.Program.NewEvaluator()
+	x := []float64{1, 1}
+	k := ev.Value(x)
+	for _, m := range []float64{0.5, 2, 7} {
+		x[0] = m
+		if got := ev.Value(x); math.Abs(got-k/m) > 1e-12*math.Abs(k/m) || t.Program.Uses(1) {
+			return reference{}, fmt.Errorf("transform %q is not of the form k / mean", t.Expr)
+		}
+	}
+	v := s.Arms[0].Values
+	return reference{mean: v["mean"], sd: v["sd"], k: k}, nil
+}
+
+func draws(s *sim.Study) int64 {
+	var d int64
+	for _, n := range s.SampleSizes {
+		d += int64(s.Replicates) * int64(n)
+	}
+	return d
+}
+
+// floorChunk is the floor's unit of work. The floor hands out chunks of
+// the same size as sim's blocks through an atomic counter, as a careful
+// hand-written loop would, so that on a shared machine both adapt to a
+// busy core in the same way.
+const floorChunk = sim.BlockSize
+
+// floor is the hand-written loop of the issue: for every sample size and
+// replicate, draw n normals with math/rand/v2's PCG, sum them and their
+// squares, form the reciprocal of the mean and its delta-method standard
+// error from the sample sd, and count the Wald intervals that cover the
+// truth. It draws standard normals and scales the two sums once, as sim's
+// normal family does, which is the fastest honest way to write it. It
+// returns the covered count per sample size.
+func floor(s *sim.Study, ref reference, workers int) []int64 {
+	z := math.Sqrt2 * math.Erfinv(s.Level)
+	truth := ref.k / ref.mean
+	chunksPer := (s.Replicates + floorChunk - 1) / floorChunk
+	total := chunksPer * len(s.SampleSizes)
+	covered := make([]atomic.Int64, len(s.SampleSizes))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			pcg := rand.NewPCG(0, 0)
+			rng := rand.New(pcg)
+			for {
+				c := int(next.Add(1) - 1)
+				if c >= total {
+					return
+				}
+				// Largest n first, like sim, so neither ends on a long chunk.
+				ni := len(s.SampleSizes) - 1 - c/chunksPer
+				chunk := c % chunksPer
+				n := s.SampleSizes[ni]
+				pcg.Seed(s.Seed^uint64(n)<<32, uint64(chunk))
+				count := min(floorChunk, s.Replicates-chunk*floorChunk)
+				fn := float64(n)
+				rootN := math.Sqrt(fn)
+				var cov int64
+				for range count {
+					var s1, s2 float64
+					for range n {
+						x := rng.NormFloat64()
+						s1 += x
+						s2 += x * x
+					}
+					mean := ref.mean + ref.sd*s1/fn
+					sd := ref.sd * math.Sqrt(max(s2-s1*s1/fn, 0)/fn)
+					tau := ref.k / mean
+					se := math.Abs(tau/mean) * sd / rootN // |dτ/dμ| = |k|/μ²
+					if math.Abs(tau-truth) <= z*se {
+						cov++
+					}
+				}
+				covered[ni].Add(cov)
+			}
+		}()
+	}
+	wg.Wait()
+	out := make([]int64, len(covered))
+	for i := range covered {
+		out[i] = covered[i].Load()
+	}
+	return out
+}
+
+// timing is one timed run.
+type timing struct {
+	nsPerDraw float64
+	covered   []int64
+}
+
+func timeFloor(s *sim.Study, ref reference, workers int) timing {
+	runtime.GC()
+	start := time.Now()
+	cov := floor(s, ref, workers)
+	el := time.Since(start)
+	return timing{float64(el.Nanoseconds()) / float64(draws(s)), cov}
+}
+
+func timeSim(s *sim.Study, workers int) (timing, error) {
+	runtime.GC()
+	start := time.Now()
+	res, err := sim.Run(context.Background(), s, sim.Options{Workers: workers})
+	el := time.Since(start)
+	if err != nil {
+		return timing{}, err
+	}
+	var cov []int64
+	for _, c := range res.Cells[0] {
+		cov = append(cov, c.Covered)
+	}
+	return timing{float64(el.Nanoseconds()) / float64(draws(s)), cov}, nil
+}
+
+func median(x []float64) float64 {
+	y := slices.Clone(x)
+	slices.Sort(y)
+	m := len(y) / 2
+	if len(y)%2 == 1 {
+		return y[m]
+	}
+	return (y[m-1] + y[m]) / 2
+}
+
+func list(x []float64, format string) string {
+	parts := make([]string, len(x))
+	for i, v := range x {
+		parts[i] = fmt.Sprintf(format, v)
+	}
+	return strings.Join(parts, " ")
+}
+
+func bench(w io.Writer, s *sim.Study, path string, pairs, small, large int) error {
+	ref, _ := floorModel(s)
+	fmt.Fprintf(w, "# deltabench: sim.Run against the hand-written floor loop, same process\n")
+	fmt.Fprintf(w, "date: %s\n", time.Now().Format(time.RFC3339))
+	fmt.Fprintf(w, "machine: %s/%s, %d CPUs, %s, GOMAXPROCS %d\n", runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), cpuModel(), runtime.GOMAXPROCS(0))
+	fmt.Fprintf(w, "go: %s\n", runtime.Version())
+	fmt.Fprintf(w, "load_average_start: %s\n", loadAverage())
+	fmt.Fprintf(w, "study: %s (%d replicates per n, n = %v, %d draws per run)\n", path, s.Replicates, s.SampleSizes, draws(s))
+	fmt.Fprintf(w, "pairs: %d per worker count, floor and sim alternating, order swapped every pair\n", pairs)
+
+	// One untimed run of each, so neither pays for first-touch page
+	// faults or a cold cache in the timings.
+	warm := *s
+	warm.Replicates = min(s.Replicates, 10*sim.BlockSize)
+	floor(&warm, ref, 2)
+	if _, err := sim.Run(context.Background(), &warm, sim.Options{Workers: 2}); err != nil {
+		return err
+	}
+
+	simMedian := map[int]float64{}
+	floorMedian := map[int]float64{}
+	ratioMedian := map[int]float64{}
+	var coverFloor, coverSim []int64
+	for _, workers := range []int{2, 1} {
+		var fl, sm, ratio []float64
+		for p := range pairs {
+			var f, m timing
+			var err error
+			if p%2 == 0 {
+				f = timeFloor(s, ref, workers)
+				m, err = timeSim(s, workers)
+			} else {
+				m, err = timeSim(s, workers)
+				f = timeFloor(s, ref, workers)
+			}
+			if err != nil {
+				return err
+			}
+			fl = append(fl, f.nsPerDraw)
+			sm = append(sm, m.nsPerDraw)
+			ratio = append(ratio, m.nsPerDraw/f.nsPerDraw)
+			coverFloor, coverSim = f.covered, m.covered
+		}
+		floorMedian[workers], simMedian[workers], ratioMedian[workers] = median(fl), median(sm), median(ratio)
+		fmt.Fprintf(w, "workers=%d floor_ns_per_draw: median %.3f (runs %s)\n", workers, median(fl), list(fl, "%.3f"))
+		fmt.Fprintf(w, "workers=%d sim_ns_per_draw: median %.3f (runs %s)\n", workers, median(sm), list(sm, "%.3f"))
+		fmt.Fprintf(w, "workers=%d ratio_sim_to_floor: median %.3f (pairs %s)\n", workers, median(ratio), list(ratio, "%.3f"))
+	}
+	scaling := simMedian[1] / simMedian[2]
+	fmt.Fprintf(w, "scaling_sim_1_to_2_workers: %.3f\n", scaling)
+	fmt.Fprintf(w, "scaling_floor_1_to_2_workers: %.3f\n", floorMedian[1]/floorMedian[2])
+
+	// The floor and sim must be doing the same statistics: their coverage
+	// agrees to Monte Carlo error (the streams differ, so not exactly).
+	var cf, cs []float64
+	for i := range coverFloor {
+		cf = append(cf, float64(coverFloor[i])/float64(s.Replicates))
+		cs = append(cs, float64(coverSim[i])/float64(s.Replicates))
+	}
+	fmt.Fprintf(w, "coverage_floor_by_n: %s\n", list(cf, "%.4f"))
+	fmt.Fprintf(w, "coverage_sim_by_n: %s\n", list(cs, "%.4f"))
+
+	// Allocations: every malloc of a whole sim.Run, over its replicates.
+	var before, after runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&before)
+	if _, err := sim.Run(context.Background(), s, sim.Options{Workers: 2}); err != nil {
+		return err
+	}
+	runtime.ReadMemStats(&after)
+	reps := int64(s.Replicates) * int64(len(s.SampleSizes))
+	mallocs := after.Mallocs - before.Mallocs
+	fmt.Fprintf(w, "allocs_per_replicate: %.6f (%d mallocs in one sim.Run of %d replicates, all per run or per block)\n",
+		float64(mallocs)/float64(reps), mallocs, reps)
+
+	// Memory: a fresh process per size, so each peak is its own.
+	mem := map[int]childFigures{}
+	for _, r := range []int{small, large} {
+		f, err := spawnChild(path, r)
+		if err != nil {
+			return err
+		}
+		mem[r] = f
+		fmt.Fprintf(w, "replicates=%d peak_rss_kib: %d peak_heap_kib: %d mallocs: %d\n", r, f.rssKiB, f.heapKiB, f.mallocs)
+	}
+	rssRatio := float64(mem[large].rssKiB) / float64(mem[small].rssKiB)
+	fmt.Fprintf(w, "rss_ratio_large_to_small: %.3f\n", rssRatio)
+	fmt.Fprintf(w, "load_average_end: %s\n", loadAverage())
+
+	check := func(ok bool) string {
+		if ok {
+			return "met"
+		}
+		return "NOT met"
+	}
+	fmt.Fprintf(w, "target ratio<=%.2f (2 workers): %s\n", maxRatio, check(ratioMedian[2] <= maxRatio))
+	fmt.Fprintf(w, "target ratio<=%.2f (1 worker): %s\n", maxRatio, check(ratioMedian[1] <= maxRatio))
+	fmt.Fprintf(w, "target scaling>=%.1f: %s\n", minScaling, check(scaling >= minScaling))
+	fmt.Fprintf(w, "target rss_ratio<=%.2f: %s\n", maxRSSGrow, check(rssRatio <= maxRSSGrow))
+	return nil
+}
+
+// childFigures are what a memory child reports.
+type childFigures struct {
+	rssKiB, heapKiB int64
+	mallocs         uint64
+}
+
+func spawnChild(path string, replicates int) (childFigures, error) {
+	self, err := os.Executable()
+	if err != nil {
+		return childFigures{}, err
+	}
+	cmd := exec.Command(self, "-study", path, "-child", strconv.Itoa(replicates))
+	cmd.Stderr = os.Stderr
+	outb, err := cmd.Output()
+	if err != nil {
+		return childFigures{}, fmt.Errorf("memory run with %d replicates: %w", replicates, err)
+	}
+	var f childFigures
+	if _, err := fmt.Sscanf(string(outb), "%d %d %d", &f.rssKiB, &f.heapKiB, &f.mallocs); err != nil {
+		return childFigures{}, fmt.Errorf("memory run with %d replicates printed %q: %w", replicates, outb, err)
+	}
+	return f, nil
+}
+
+// runChild runs the study once with the given replicates and prints its
+// peak RSS and peak heap in KiB and the mallocs of sim.Run.
+func runChild(s *sim.Study, replicates int) error {
+	s.Replicates = replicates
+	stop := make(chan struct{})
+	peak := make(chan int64)
+	// The heap is sampled from runtime/metrics, which does not stop the
+	// world, every few milliseconds; the peak between samples can only be
+	// missed by a short-lived spike, which the RSS figure still catches.
+	go func() {
+		sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+		var top int64
+		t := time.NewTicker(2 * time.Millisecond)
+		defer t.Stop()
+		for {
+			metrics.Read(sample)
+			top = max(top, int64(sample[0].Value.Uint64()))
+			select {
+			case <-stop:
+				peak <- top
+				return
+			case <-t.C:
+			}
+		}
+	}()
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	_, err := sim.Run(context.Background(), s, sim.Options{})
+	runtime.ReadMemStats(&after)
+	close(stop)
+	heap := <-peak
+	if err != nil {
+		return err
+	}
+	fmt.Printf("%d %d %d\n", peakRSSKiB(), heap/1024, after.Mallocs-before.Mallocs)
+	return nil
+}
+
+// peakRSSKiB reads VmHWM, the resident set's high-water mark, falling back
+// to getrusage's ru_maxrss (KiB on Linux).
+func peakRSSKiB() int64 {
+	if f, err := os.Open("/proc/self/status"); err == nil {
+		defer f.Close()
+		sc := bufio.NewScanner(f)
+		for sc.Scan() {
+			if rest, ok := strings.CutPrefix(sc.Text(), "VmHWM:"); ok {
+				if v, err := strconv.ParseInt(strings.Fields(rest)[0], 10, 64); err == nil {
+					return v
+				}
+			}
+		}
+	}
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err == nil {
+		return ru.Maxrss
+	}
+	return -1
+}
+
+func cpuModel() string {
+	b, err := os.ReadFile("/proc/cpuinfo")
+	if err != nil {
+		return "unknown CPU"
+	}
+	for _, line := range strings.Split(string(b), "\n") {
+		if k, v, ok := strings.Cut(line, ":"); ok && strings.TrimSpace(k) == "model name" {
+			return strings.TrimSpace(v)
+		}
+	}
+	return "unknown CPU"
+}
+
+func loadAverage() string {
+	b, err := os.ReadFile("/proc/loadavg")
+	if err != nil {
+		return "unknown"
+	}
+	f := strings.Fields(string(b))
+	if len(f) < 3 {
+		return "unknown"
+	}
+	return strings.Join(f[:3], " ")
+}
