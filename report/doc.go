@@ -1,7 +1,10 @@
 // Package report turns a sim.Result into what people read: summary.csv and
-// verdicts.csv, the terminal verdict table, figures and the HTML page.
+// verdicts.csv, the terminal tables, the figures and the HTML page; and a
+// sim.PlanResult into plan.csv and its own tables.
 //
 // It reads a sim.Result and nothing else, so a saved or merged result
-// reports exactly as a fresh one. It computes no statistics of its own:
-// every number comes from sim.Result.Summarize and sim.Verdicts.
+// reports exactly as a fresh one. Every estimate, MCSE and verdict comes
+// from sim (Result.Summarize, sim.Verdicts); report derives only what
+// drawing needs: error bars for the one-sided miss rates, the KS noise
+// level 1.358/√R, and rebinned histograms and quantiles for the shapes.
 package report

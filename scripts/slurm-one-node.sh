@@ -93,7 +93,9 @@ stop_strays() {
 
 show_logs() {
 	local f
-	for f in "$work"/log/* "$work"/job/slurm-*.out; do
+	# A daemon in the foreground copies its whole log to its .out file,
+	# including what it says before it can open the log file.
+	for f in "$work"/log/*.out "$work"/job/slurm-*.out; do
 		[[ -f $f ]] || continue
 		printf '\n----- last lines of %s -----\n' "$f" >&2
 		tail -n 40 "$f" >&2
@@ -151,7 +153,6 @@ start_munge() {
 	munged --foreground --force \
 		--key-file="$dir/munge.key" --socket="$dir/munge.socket" \
 		--pid-file="$dir/munged.pid" --seed-file="$dir/munged.seed" \
-		--log-file="$work/log/munged.log" \
 		>>"$work/log/munged.out" 2>&1 &
 	pids+=("munged:$!")
 	wait_until 30 "munged answering on its socket" munge_ok
@@ -263,7 +264,7 @@ inner() {
 	if ((rc == 124)); then
 		die "the job array ${jobid} did not finish within 300s"
 	elif ((rc != 0)); then
-		die "sbatch --wait exited $rc for job ${jobid}: $(tail -n 3 "$work/log/sbatch.out")"
+		die "job array ${jobid} failed: sbatch --wait exited $rc (the tasks' output is below)"
 	fi
 	say "job array $jobid finished in $((SECONDS - t0))s"
 
