@@ -8,10 +8,12 @@
 # Needs root: it installs Debian's slurm-wlm and munge when they are
 # missing and runs the daemons as root. It touches no system
 # configuration: the munge key, the slurm.conf, the sockets, the state and
-# the logs all live in a scratch folder, and when `unshare` allows it the
-# daemons run in a private network namespace holding only loopback, so
-# they can neither clash with another Slurm's ports nor be reached from
-# outside. Every daemon it starts is stopped on exit, whatever happens.
+# the logs all live in a scratch folder. When `unshare` allows it, the
+# cluster runs in private network and process namespaces: the network has
+# only loopback, so the daemons can neither clash with another Slurm's
+# ports nor be reached from outside, and when the test's shell ends the
+# kernel ends every process left in the namespace. Either way each daemon
+# it starts is stopped on exit, whatever happens.
 #
 #   bash scripts/slurm-one-node.sh
 #
@@ -43,11 +45,12 @@ wait_until() {
 }
 
 ###########################################################################
-# Inner part: the cluster. Runs in the private network namespace (or, when
-# there is none, on the host's loopback), as `$0 --inner MODE WORK`.
+# Inner part: the cluster. Runs in the private namespaces, as process 1
+# there (or, when there are none, on the host's loopback), as
+# `$0 --inner MODE WORK`.
 
 pids=()  # daemons started, in start order: "name:pid"
-in_private_net=0
+in_private_ns=0
 
 daemons_alive() {
 	local entry
@@ -70,22 +73,19 @@ stop_daemon() {
 	wait "$pid" 2>/dev/null || true
 }
 
-# In the private namespace, any process still there after the daemons stop
-# was started by them (a job step's slurmstepd, a task): end those by pid.
-# The namespace test uses bash's -ef (same inode), so the scan itself
-# forks nothing.
+# In the private namespaces, any process still there after the daemons
+# stop was started by them (a job step's slurmstepd, a task): end those by
+# pid. The namespace's own /proc lists only its processes.
 stop_strays() {
 	local p name
-	((in_private_net)) || return 0
-	# Never scan when the namespace is the host's: that would match everything.
-	if [[ /proc/self/ns/net -ef /proc/1/ns/net ]]; then
-		return 0
-	fi
+	((in_private_ns)) || return 0
+	# Never scan unless this shell is process 1 of its own namespace.
+	[[ $$ == 1 ]] || return 0
 	for p in /proc/[0-9]*; do
 		p=${p#/proc/}
 		[[ $p == "$$" || $p == "$BASHPID" ]] && continue
-		[[ /proc/$p/ns/net -ef /proc/self/ns/net ]] || continue
 		name=$(tr '\0' ' ' <"/proc/$p/cmdline" 2>/dev/null) || true
+		[[ -n $name ]] || continue # a zombie, or gone already
 		say "stopping a leftover process $p: $name"
 		kill -KILL "$p" 2>/dev/null || true
 	done
@@ -226,10 +226,10 @@ inner() {
 		# address; a second loopback address (on lo, so still reachable
 		# from inside only) satisfies it.
 		ip addr add 127.0.0.2/8 dev lo
-		in_private_net=1
-		say "daemons run in a private network namespace (loopback only)"
+		in_private_ns=1
+		say "the cluster runs in private network and process namespaces (loopback only)"
 	else
-		say "no private network namespace here; the daemons use the host's loopback and ports 6817-6818"
+		say "no private namespaces here; the daemons use the host's loopback and ports 6817-6818"
 	fi
 
 	# Settings from a surrounding Slurm job or the user's shell would change
@@ -327,13 +327,25 @@ install_if_missing() {
 	done
 }
 
+# Asks the inner part to stop and waits for its cleanup. `unshare --fork`
+# ignores TERM itself, so the signal goes to its child, the test's shell.
+stop_inner() {
+	local target=$inner_pid
+	if [[ $mode == private ]]; then
+		target=$(cat "/proc/$inner_pid/task/$inner_pid/children" 2>/dev/null) || true
+	fi
+	for p in $target; do
+		kill -TERM "$p" 2>/dev/null
+	done
+	wait "$inner_pid" 2>/dev/null
+}
+
 outer_cleanup() {
 	local rc=$?
 	set +e
 	trap - EXIT
 	if [[ -n ${inner_pid:-} ]] && kill -0 "$inner_pid" 2>/dev/null; then
-		kill -TERM "$inner_pid" 2>/dev/null
-		wait "$inner_pid" 2>/dev/null
+		stop_inner
 	fi
 	if ((rc == 0)); then
 		say "PASS: merged Slurm array shards equal the unsharded run (${SECONDS}s in all${timings})"
@@ -349,7 +361,7 @@ outer_cleanup() {
 }
 
 outer() {
-	local mode t0 rc
+	local t0 rc
 	[[ $(id -u) == 0 ]] || die "run as root: the test installs packages and runs the Slurm daemons as root"
 	scratch=$(mktemp -d "${TMPDIR:-/tmp}/deltaprobe-slurm.XXXXXX")
 	timings=
@@ -369,16 +381,17 @@ outer() {
 		die "go build failed"
 	timings+=", build $((SECONDS - t0))s"
 
-	# A private network namespace with only loopback, when the kernel and
-	# our privileges allow one; otherwise the host's loopback.
+	# Private namespaces when the kernel and our privileges allow them;
+	# otherwise the host's loopback. --mount-proc gives the inner part a
+	# /proc of its own namespace; --kill-child ends it if unshare is killed.
 	mode=host
 	if command -v unshare >/dev/null && command -v ip >/dev/null &&
-		unshare --net true 2>/dev/null; then
+		unshare "${private_ns[@]}" true 2>/dev/null; then
 		mode=private
 	fi
 	t0=$SECONDS
 	if [[ $mode == private ]]; then
-		unshare --net -- bash "$self" --inner "$mode" "$scratch" &
+		unshare "${private_ns[@]}" --kill-child=TERM -- bash "$self" --inner "$mode" "$scratch" &
 	else
 		bash "$self" --inner "$mode" "$scratch" &
 	fi
@@ -390,6 +403,8 @@ outer() {
 	return "$rc"
 }
 
+mode=host
+private_ns=(--net --pid --fork --mount-proc)
 self=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)/$(basename "${BASH_SOURCE[0]}")
 repo=$(cd "$(dirname "$self")/.." && pwd)
 if [[ ${1:-} == --inner ]]; then

@@ -50,7 +50,7 @@ func newBinomialModel(size, p float64) (*binomialModel, error) {
 		func(k int) float64 { return (size - float64(k)) / float64(k+1) * odds },
 		func(k int) float64 { return float64(k) / (size - float64(k) + 1) / odds })
 	if err != nil {
-		return nil, fmt.Errorf("sim: binomial(size %g, p %g): %w", size, p, err)
+		return nil, fmt.Errorf("sim: binomial(size %g, p %g): %w; accepted are sizes with size·p·(1−p) up to about 3e9", size, p, err)
 	}
 	return &binomialModel{size: size, p: p, table: t}, nil
 }

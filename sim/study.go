@@ -517,7 +517,7 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 	}
 	model, err := fam.New(a.Values)
 	if err != nil {
-		d.fail(table, "%s: %v", label, err)
+		d.fail(table, "%s: %s", label, strings.TrimPrefix(err.Error(), "sim: "))
 		return a, false
 	}
 	a.Model = model
