@@ -330,7 +330,7 @@ install_if_missing() {
 # Asks the inner part to stop and waits for its cleanup. `unshare --fork`
 # ignores TERM itself, so the signal goes to its child, the test's shell.
 stop_inner() {
-	local target=$inner_pid
+	local target=$inner_pid p
 	if [[ $mode == private ]]; then
 		target=$(cat "/proc/$inner_pid/task/$inner_pid/children" 2>/dev/null) || true
 	fi

@@ -112,17 +112,20 @@ func (c *Cell) merged() cellMoments {
 	return cm
 }
 
-// MarshalJSON writes the histogram sparsely, as [bin, count] pairs.
+// sparseHistogram is a histogram's JSON form: its layout, its outside
+// counts, and [bin, count] pairs for the non-empty bins.
+type sparseHistogram struct {
+	Bins   int        `json:"bins"`
+	Range  float64    `json:"range"`
+	Below  int64      `json:"below"`
+	Above  int64      `json:"above"`
+	NaN    int64      `json:"nan"`
+	Counts [][2]int64 `json:"counts"`
+}
+
+// MarshalJSON writes the histogram sparsely.
 func (h Histogram) MarshalJSON() ([]byte, error) {
-	type sparse struct {
-		Bins   int        `json:"bins"`
-		Range  float64    `json:"range"`
-		Below  int64      `json:"below"`
-		Above  int64      `json:"above"`
-		NaN    int64      `json:"nan"`
-		Counts [][2]int64 `json:"counts"`
-	}
-	s := sparse{Bins: len(h.Counts), Range: PivotRange, Below: h.Below, Above: h.Above, NaN: h.NaN, Counts: [][2]int64{}}
+	s := sparseHistogram{Bins: len(h.Counts), Range: PivotRange, Below: h.Below, Above: h.Above, NaN: h.NaN, Counts: [][2]int64{}}
 	for i, c := range h.Counts {
 		if c != 0 {
 			s.Counts = append(s.Counts, [2]int64{int64(i), c})
@@ -133,14 +136,7 @@ func (h Histogram) MarshalJSON() ([]byte, error) {
 
 // UnmarshalJSON reads the sparse form written by MarshalJSON.
 func (h *Histogram) UnmarshalJSON(b []byte) error {
-	var s struct {
-		Bins   int        `json:"bins"`
-		Range  float64    `json:"range"`
-		Below  int64      `json:"below"`
-		Above  int64      `json:"above"`
-		NaN    int64      `json:"nan"`
-		Counts [][2]int64 `json:"counts"`
-	}
+	var s sparseHistogram
 	if err := json.Unmarshal(b, &s); err != nil {
 		return err
 	}

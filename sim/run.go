@@ -353,7 +353,9 @@ func (w *worker) runBlock(j job) {
 func (w *worker) replicate() {
 	s := w.s
 	fitted := true
-	for a, arm := range s.Arms {
+	// Arms by pointer: an Arm is several words, and this runs per replicate.
+	for a := range s.Arms {
+		arm := &s.Arms[a]
 		theta := w.theta[arm.Offset:]
 		if !arm.Model.Fit(w.rng, w.sizes[a], theta) {
 			fitted = false
@@ -370,12 +372,13 @@ func (w *worker) replicate() {
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
 		var pv float64
-		for a, arm := range s.Arms {
-			if !w.useArm[t][a] {
+		use := w.useArm[t]
+		for a := range s.Arms {
+			if !use[a] {
 				continue
 			}
-			k := w.dims[a]
-			pv += quadForm(w.grad[arm.Offset:arm.Offset+k], w.covs[a]) / float64(w.sizes[a])
+			off, k := s.Arms[a].Offset, w.dims[a]
+			pv += quadForm(w.grad[off:off+k], w.covs[a]) / float64(w.sizes[a])
 		}
 		acc.add(v, pv, w.z)
 	}

@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"sort"
 	"strings"
 
@@ -217,27 +218,27 @@ func (d *decoder) study(raw map[string]any, s *Study) {
 	s.Criteria = d.criteria(raw, s.Level)
 }
 
+// unknownKeys reports every key of m that is not accepted, saying where
+// it was found ("at the top level", "in [criteria]", "for the normal
+// family").
 func (d *decoder) unknownKeys(table string, m map[string]any, accepted []string) {
+	where := "at the top level"
+	if table != "" {
+		where = "in [" + tableLabel(table) + "]"
+	}
+	d.unknownKeysAt(table, where, m, accepted)
+}
+
+func (d *decoder) unknownKeysAt(table, where string, m map[string]any, accepted []string) {
 	var keys []string
 	for k := range m {
-		keys = append(keys, k)
+		if !slices.Contains(accepted, k) {
+			keys = append(keys, k)
+		}
 	}
 	sort.Strings(keys)
 	for _, k := range keys {
-		found := false
-		for _, a := range accepted {
-			if k == a {
-				found = true
-				break
-			}
-		}
-		if !found {
-			where := "at the top level"
-			if table != "" {
-				where = "in [" + tableLabel(table) + "]"
-			}
-			d.fail(join(table, k), "unknown key %q %s%s", k, where, didYouMean(k, accepted))
-		}
+		d.fail(join(table, k), "unknown key %q %s%s", k, where, didYouMean(k, accepted))
 	}
 }
 
@@ -493,7 +494,7 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 		paramNames = append(paramNames, p.Name)
 	}
 	accepted = append(accepted, paramNames...)
-	d.unknownKeysFamily(table, m, accepted, fam)
+	d.unknownKeysAt(table, "for the "+fam.Name+" family", m, accepted)
 	for _, p := range fam.Params {
 		if _, present := m[p.Name]; !present {
 			d.fail(table, "%s family %s needs %s (%s); its parameters are %s", label, fam.Name, p.Name, p.Accepts, strings.Join(paramNames, ", "))
@@ -522,25 +523,6 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 	}
 	a.Model = model
 	return a, true
-}
-
-func (d *decoder) unknownKeysFamily(table string, m map[string]any, accepted []string, fam *Family) {
-	var keys []string
-	for k := range m {
-		keys = append(keys, k)
-	}
-	sort.Strings(keys)
-	for _, k := range keys {
-		found := false
-		for _, a := range accepted {
-			if k == a {
-				found = true
-			}
-		}
-		if !found {
-			d.fail(join(table, k), "unknown key %q for the %s family%s", k, fam.Name, didYouMean(k, accepted))
-		}
-	}
 }
 
 func (d *decoder) transforms(raw map[string]any, s *Study) {

@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"sort"
 	"strings"
+
+	"deltaprobe/internal/spelling"
 )
 
 // StudyError is one problem found in a study file, located by line (and
@@ -41,42 +43,10 @@ func (es StudyErrors) sorted() StudyErrors {
 	return es
 }
 
-// suggest returns the candidate closest to word by edit distance, when it
-// is close enough to be a plausible typo.
-func suggest(word string, candidates []string) string {
-	best, bestDist := "", 3
-	for _, c := range candidates {
-		if d := editDistance(word, c); d < bestDist {
-			best, bestDist = c, d
-		}
-	}
-	return best
-}
-
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(b)]
-}
-
 // didYouMean formats an optional suggestion and the accepted names.
 func didYouMean(word string, accepted []string) string {
 	s := ""
-	if g := suggest(word, accepted); g != "" {
+	if g, ok := spelling.Closest(word, accepted); ok {
 		s = fmt.Sprintf("; did you mean %q?", g)
 		return s + " accepted: " + strings.Join(accepted, ", ")
 	}

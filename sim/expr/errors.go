@@ -3,6 +3,8 @@ package expr
 import (
 	"fmt"
 	"strings"
+
+	"deltaprobe/internal/spelling"
 )
 
 // SyntaxError reports why a source could not be compiled. Col is the 1-based
@@ -22,46 +24,6 @@ func errorAt(pos int, format string, args ...any) *SyntaxError {
 	return &SyntaxError{Col: pos + 1, Msg: fmt.Sprintf(format, args...)}
 }
 
-// maxSuggestionDistance bounds how far a misspelling may be from a known name
-// before a suggestion stops being helpful and starts being a guess.
-const maxSuggestionDistance = 2
-
-// closestName returns the candidate nearest to name in edit distance, if it
-// is within maxSuggestionDistance and leaves at least one byte of name
-// standing (otherwise "x" would be "corrected" to any two-letter name). Ties
-// go to the earlier candidate so the suggestion follows the caller's order.
-func closestName(name string, candidates []string) (string, bool) {
-	best, bestDist := "", maxSuggestionDistance+1
-	for _, c := range candidates {
-		if d := editDistance(name, c); d < bestDist {
-			best, bestDist = c, d
-		}
-	}
-	return best, bestDist <= maxSuggestionDistance && bestDist < len(name)
-}
-
-// editDistance is the Levenshtein distance over bytes, which is exact here
-// because names are ASCII.
-func editDistance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	cur := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur[0] = i
-		for j := 1; j <= len(b); j++ {
-			cost := 1
-			if a[i-1] == b[j-1] {
-				cost = 0
-			}
-			cur[j] = min(prev[j]+1, cur[j-1]+1, prev[j-1]+cost)
-		}
-		prev, cur = cur, prev
-	}
-	return prev[len(b)]
-}
-
 func builtinNames() []string {
 	names := make([]string, len(builtins))
 	for i, b := range builtins {
@@ -77,7 +39,7 @@ func unknownNameMessage(name string, vars []string) string {
 		sb.WriteString("; this transform has no parameters, so only numbers and functions are allowed")
 		return sb.String()
 	}
-	if s, ok := closestName(name, vars); ok {
+	if s, ok := spelling.Closest(name, vars); ok {
 		fmt.Fprintf(&sb, "; did you mean %q? known names: ", s)
 	} else {
 		sb.WriteString("; known names: ")
@@ -90,7 +52,7 @@ func unknownFunctionMessage(name string) string {
 	var sb strings.Builder
 	fmt.Fprintf(&sb, "unknown function %q", name)
 	names := builtinNames()
-	if s, ok := closestName(name, names); ok {
+	if s, ok := spelling.Closest(name, names); ok {
 		fmt.Fprintf(&sb, "; did you mean %q? known functions: ", s)
 	} else {
 		sb.WriteString("; known functions: ")

@@ -24,10 +24,18 @@ func (p *Program) NewEvaluator() *Evaluator {
 	}
 }
 
+// checkLength panics unless a slice argument has length Dim(). The check
+// runs on every call, so it is kept small enough to inline and the
+// message is built out of line.
 func (e *Evaluator) checkLength(what string, got int) {
 	if got != e.prog.dim {
-		panic(fmt.Sprintf("expr: %s has length %d, but %q has %d parameters", what, got, e.prog.src, e.prog.dim))
+		e.badLength(what, got)
 	}
+}
+
+//go:noinline
+func (e *Evaluator) badLength(what string, got int) {
+	panic(fmt.Sprintf("expr: %s has length %d, but %q has %d parameters", what, got, e.prog.src, e.prog.dim))
 }
 
 // Value returns τ(x) without derivatives. It allocates nothing.
