@@ -24,8 +24,16 @@ fuzz:
 	$(GO) test ./sim/expr -run='^$$' -fuzz=FuzzCompile -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 	$(GO) test ./sim -run='^$$' -fuzz=FuzzParse -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 
+# The issue-6 benchmark: sim.Run against the hand-written floor loop on
+# studies/bench_reference.toml, in one process (cmd/deltabench), then the
+# parts (sampling, transforms, accumulators, one replicate) with -benchmem.
+# Both go to bench.txt; the machine is shared, so read the medians.
 bench:
-	$(GO) test ./... -run='^$$' -bench=. -benchmem
+	$(GO) run ./cmd/deltabench -o bench.txt
+	$(GO) test ./sim/... -run='^$$' -bench=. -benchmem -count=1 > bench.txt.tmp
+	@cat bench.txt.tmp
+	@{ echo; echo "# parts: go test ./sim/... -bench=. -benchmem"; cat bench.txt.tmp; } >> bench.txt
+	@rm -f bench.txt.tmp
 
 clean:
 	rm -rf out deltaprobe

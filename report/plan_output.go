@@ -35,15 +35,29 @@ func PlanCSV(p *sim.PlanResult) []byte {
 	return buf.Bytes()
 }
 
-// WritePlan writes plan.csv and verdicts.csv into dir, each atomically.
-func WritePlan(dir string, p *sim.PlanResult) error {
+// WritePlan writes plan.csv, verdicts.csv, the plan's figure of every
+// transform and index.html into dir, each file atomically. The page goes
+// last, so a page on disk never points at a figure that is not there yet.
+func WritePlan(dir string, s *sim.Study, p *sim.PlanResult) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("creating output folder: %w", err)
 	}
 	if err := sim.WriteFileAtomic(filepath.Join(dir, "plan.csv"), PlanCSV(p)); err != nil {
 		return err
 	}
-	return sim.WriteFileAtomic(filepath.Join(dir, "verdicts.csv"), VerdictsCSV(p.Verdicts))
+	if err := sim.WriteFileAtomic(filepath.Join(dir, "verdicts.csv"), VerdictsCSV(p.Verdicts)); err != nil {
+		return err
+	}
+	figs, err := PlanFigures(s, p)
+	if err != nil {
+		return err
+	}
+	for _, f := range figs {
+		if err := sim.WriteFileAtomic(filepath.Join(dir, f.File), f.PNG); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // PlanTable prints, per transform, the answer, what limits it, the

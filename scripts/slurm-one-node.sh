@@ -27,6 +27,53 @@ export PATH="$PATH:/usr/sbin:/sbin"
 say() { printf 'slurm-one-node: %s\n' "$*"; }
 die() { say "error: $*" >&2; exit 1; }
 
+# Runs "$@" in the background and waits for it. Bash runs a trap only
+# after a foreground command ends, but interrupts `wait`: this way a TERM
+# stops the test at once, and the cleanup ends the command (fg_pid).
+fg_pid=
+waitable() {
+	local rc=0
+	"$@" &
+	fg_pid=$!
+	wait "$fg_pid" || rc=$?
+	fg_pid=
+	return "$rc"
+}
+
+# in_dir DIR CMD...: CMD run from DIR, without changing ours.
+in_dir() {
+	cd "$1" && shift && "$@"
+}
+
+# A trap can fire inside a command whose output goes to a log file; the
+# cleanup writes to the terminal again through copies kept in fds 8 and 9
+# (which the daemons do not inherit).
+exec 8>&1 9>&2
+restore_output() {
+	exec 1>&8 2>&9
+}
+
+# A signal ends the run through the EXIT trap, which stops what was started.
+on_signal() {
+	restore_output
+	say "stopped by SIG$1" >&2
+	exit "$2"
+}
+trap_signals() {
+	trap 'on_signal TERM 143' TERM
+	trap 'on_signal HUP 129' HUP
+	trap 'on_signal INT 130' INT
+}
+
+# Ends the command waitable() was waiting for when a signal cut it short.
+stop_foreground() {
+	if [[ -n $fg_pid ]]; then
+		kill -TERM "$fg_pid" 2>/dev/null
+		wait "$fg_pid" 2>/dev/null
+		fg_pid=
+	fi
+}
+
 # Runs "$@" once a second until it succeeds; gives up after $1 seconds.
 # $2 names what is awaited, for the error. Between tries it checks that
 # the daemons are still alive, so a crashed daemon fails at once instead
@@ -106,12 +153,15 @@ inner_cleanup() {
 	local rc=$? i entry
 	set +e
 	trap - EXIT
+	restore_output
+	stop_foreground
 	# pids[1] is slurmctld: ask it only while it runs.
 	if ((${#pids[@]} > 1)) && kill -0 "${pids[1]#*:}" 2>/dev/null; then
 		# Cancel what may still be queued or running, and give slurmd a
 		# moment to end the steps before it is stopped itself.
 		timeout 15 scancel --quiet --user=root 2>/dev/null
-		for ((i = 0; i < 30; i++)); do
+		i=$((SECONDS + 30))
+		while ((SECONDS < i)); do
 			[[ -z $(timeout 10 squeue -h -o %i 2>/dev/null) ]] && break
 			sleep 1
 		done
@@ -135,8 +185,8 @@ munge_ok() {
 
 start_munge() {
 	local dir=$work/munge
-	# The socket's folder must be open to all (munged warns otherwise);
-	# the key itself is 0600.
+	# munged warns unless the socket's folder is open to all; the key
+	# itself is 0600.
 	mkdir -p "$dir"
 	chmod 0755 "$work" "$dir"
 	# A key of our own: the machine's /etc/munge/munge.key, if any, is left
@@ -148,12 +198,11 @@ start_munge() {
 	fi
 	chown root:root "$dir/munge.key"
 	chmod 0600 "$dir/munge.key"
-	# --foreground keeps the pid ours to stop; --force lets it start even
-	# though it runs as root, which munged otherwise refuses.
-	munged --foreground --force \
+	# --foreground keeps the pid ours to stop.
+	munged --foreground \
 		--key-file="$dir/munge.key" --socket="$dir/munge.socket" \
 		--pid-file="$dir/munged.pid" --seed-file="$dir/munged.seed" \
-		>>"$work/log/munged.out" 2>&1 &
+		>>"$work/log/munged.out" 2>&1 8>&- 9>&- &
 	pids+=("munged:$!")
 	wait_until 30 "munged answering on its socket" munge_ok
 	say "munged is up"
@@ -214,10 +263,7 @@ inner() {
 	conf=$work/slurm.conf
 	node=$(hostname -s)
 	trap inner_cleanup EXIT
-	# TERM and HUP end the run through the cleanup above.
-	trap 'exit 143' TERM
-	trap 'exit 129' HUP
-	trap 'exit 130' INT
+	trap_signals
 
 	if [[ $mode == private ]]; then
 		ip link set lo up
@@ -244,23 +290,25 @@ inner() {
 	t0=$SECONDS
 	start_munge
 	write_slurm_conf
-	slurmctld -D -f "$conf" >>"$work/log/slurmctld.out" 2>&1 &
+	slurmctld -D -f "$conf" >>"$work/log/slurmctld.out" 2>&1 8>&- 9>&- &
 	pids+=("slurmctld:$!")
-	slurmd -D -f "$conf" -N "$node" >>"$work/log/slurmd.out" 2>&1 &
+	slurmd -D -f "$conf" -N "$node" >>"$work/log/slurmd.out" 2>&1 8>&- 9>&- &
 	pids+=("slurmd:$!")
 	wait_until 120 "node $node idle in sinfo" node_idle
-	say "cluster up in $((SECONDS - t0))s: $(sinfo -h -o '%P %D node(s) %T' | head -n 1)"
+	say "cluster up in $((SECONDS - t0))s: $(timeout 15 sinfo -h -o '%P %D node(s) %T' | head -n 1)"
 
-	# The batch script runs studies/fuel.toml relative to the folder it is
-	# submitted from: give it a folder of its own with a copy of the study,
-	# so that nothing lands in the repository.
+	# The batch script names studies/fuel.toml relative to its working
+	# folder: give it a folder of its own with a copy of the study, so that
+	# nothing lands in the repository. The script itself is the
+	# repository's, unchanged; only where it runs and logs is overridden.
 	cp "$repo/studies/fuel.toml" "$work/job/studies/fuel.toml"
 	t0=$SECONDS
 	rc=0
-	(cd "$work/job" && timeout 300 sbatch --wait --parsable \
-		--output="$work/job/slurm-%A_%a.out" "$repo/studies/fuel.slurm") \
+	waitable timeout 300 sbatch --wait --parsable --chdir="$work/job" \
+		--output="$work/job/slurm-%A_%a.out" "$repo/studies/fuel.slurm" \
 		>"$work/log/sbatch.out" 2>&1 || rc=$?
 	jobid=$(head -n 1 "$work/log/sbatch.out")
+	jobid=${jobid%%;*} # --parsable prints "id" or "id;cluster"
 	if ((rc == 124)); then
 		die "the job array ${jobid} did not finish within 300s"
 	elif ((rc != 0)); then
@@ -270,15 +318,16 @@ inner() {
 
 	local parts=("$work"/job/out/fuel-shards/part-*)
 	if ((${#parts[@]} != 4)); then
-		die "expected 4 part folders from the array, found ${#parts[@]}"
+		die "expected 4 part folders (--array=0-3 in studies/fuel.slurm), found ${#parts[@]}"
 	fi
 	for f in "${parts[@]}"; do
 		[[ -s $f/result.json ]] || die "$f has no result.json"
 	done
 
-	timeout 300 deltaprobe merge -o "$work/merged" "${parts[@]}" >"$work/log/merge.out" 2>&1 ||
+	waitable timeout 300 deltaprobe merge -o "$work/merged" "${parts[@]}" \
+		>"$work/log/merge.out" 2>&1 ||
 		die "deltaprobe merge failed: $(tail -n 5 "$work/log/merge.out")"
-	(cd "$work/job" && timeout 300 deltaprobe run studies/fuel.toml -o "$work/whole" -quiet) \
+	waitable in_dir "$work/job" timeout 300 deltaprobe run studies/fuel.toml -o "$work/whole" -quiet \
 		>"$work/log/whole.out" 2>&1 ||
 		die "the unsharded run failed: $(tail -n 5 "$work/log/whole.out")"
 	for f in summary.csv verdicts.csv; do
@@ -310,6 +359,8 @@ install_if_missing() {
 		chmod 0755 /usr/sbin/policy-rc.d
 		made_policy=1
 	fi
+	# In the foreground on purpose: a signal waits until apt-get is done
+	# rather than cut dpkg off halfway.
 	{
 		timeout 600 apt-get update -q &&
 			DEBIAN_FRONTEND=noninteractive timeout 900 \
@@ -344,6 +395,8 @@ outer_cleanup() {
 	local rc=$?
 	set +e
 	trap - EXIT
+	restore_output
+	stop_foreground
 	if [[ -n ${inner_pid:-} ]] && kill -0 "$inner_pid" 2>/dev/null; then
 		stop_inner
 	fi
@@ -362,14 +415,15 @@ outer_cleanup() {
 
 outer() {
 	local t0 rc
-	[[ $(id -u) == 0 ]] || die "run as root: the test installs packages and runs the Slurm daemons as root"
+	if [[ $(id -u) != 0 ]]; then
+		say "FAIL: run as root; the test installs packages and runs the Slurm daemons as root" >&2
+		exit 1
+	fi
 	scratch=$(mktemp -d "${TMPDIR:-/tmp}/deltaprobe-slurm.XXXXXX")
 	timings=
 	trap outer_cleanup EXIT
 	# A signal ends the inner part first (its own trap stops the daemons).
-	trap 'exit 143' TERM
-	trap 'exit 129' HUP
-	trap 'exit 130' INT
+	trap_signals
 
 	t0=$SECONDS
 	install_if_missing
@@ -377,7 +431,7 @@ outer() {
 
 	t0=$SECONDS
 	mkdir -p "$scratch/bin"
-	(cd "$repo" && timeout 600 go build -o "$scratch/bin/deltaprobe" ./cmd/deltaprobe) ||
+	waitable in_dir "$repo" timeout 600 go build -o "$scratch/bin/deltaprobe" ./cmd/deltaprobe ||
 		die "go build failed"
 	timings+=", build $((SECONDS - t0))s"
 

@@ -5,7 +5,7 @@
 // two, and re-executes itself as child processes to measure peak memory at
 // a small and a large number of replicates.
 //
-//	go run ./cmd/deltabench [-study FILE] [-pairs N] [-o bench.txt]
+//	go run ./cmd/deltabench [-study FILE] [-rounds N] [-o bench.txt]
 package main
 
 import (
@@ -42,7 +42,7 @@ const (
 
 func main() {
 	studyPath := flag.String("study", "studies/bench_reference.toml", "the reference study: one normal arm, one transform k / mean")
-	pairs := flag.Int("pairs", 5, "floor/sim pairs timed per worker count")
+	rounds := flag.Int("rounds", 9, "timing rounds, each floor and sim at two workers and at one")
 	out := flag.String("o", "", "also write the figures to this file")
 	small := flag.Int("rss-small", 10_000, "replicates per n of the small memory run")
 	large := flag.Int("rss-large", 1_000_000, "replicates per n of the large memory run")
@@ -64,7 +64,7 @@ func main() {
 
 	var report strings.Builder
 	w := io.MultiWriter(os.Stdout, &report)
-	if err := bench(w, s, *studyPath, *pairs, *small, *large); err != nil {
+	if err := bench(w, s, *studyPath, *rounds, *small, *large); err != nil {
 		fmt.Fprintln(os.Stderr, "deltabench:", err)
 		os.Exit(1)
 	}
@@ -142,12 +142,9 @@ const floorChunk = sim.BlockSize
 // replicate, draw n normals with math/rand/v2's PCG, sum them and their
 // squares, form the reciprocal of the mean and its delta-method standard
 // error from the sample sd, and count the Wald intervals that cover the
-// truth. It draws standard normals and scales the two sums once, as sim's
-// normal family does, which is the fastest honest way to write it. It
-// returns the covered count per sample size.
+// truth. It returns the covered count per sample size.
 func floor(s *sim.Study, ref reference, workers int) []int64 {
 	z := math.Sqrt2 * math.Erfinv(s.Level)
-	truth := ref.k / ref.mean
 	chunksPer := (s.Replicates + floorChunk - 1) / floorChunk
 	total := chunksPer * len(s.SampleSizes)
 	covered := make([]atomic.Int64, len(s.SampleSizes))
@@ -157,8 +154,9 @@ func floor(s *sim.Study, ref reference, workers int) []int64 {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			pcg := rand.NewPCG(0, 0)
-			rng := rand.New(pcg)
+			st := new(floorState)
+			pcg, rng := &st.pcg, &st.rng
+			*rng = *rand.New(pcg)
 			for {
 				c := int(next.Add(1) - 1)
 				if c >= total {
@@ -170,25 +168,7 @@ func floor(s *sim.Study, ref reference, workers int) []int64 {
 				n := s.SampleSizes[ni]
 				pcg.Seed(s.Seed^uint64(n)<<32, uint64(chunk))
 				count := min(floorChunk, s.Replicates-chunk*floorChunk)
-				fn := float64(n)
-				rootN := math.Sqrt(fn)
-				var cov int64
-				for range count {
-					var s1, s2 float64
-					for range n {
-						x := rng.NormFloat64()
-						s1 += x
-						s2 += x * x
-					}
-					mean := ref.mean + ref.sd*s1/fn
-					sd := ref.sd * math.Sqrt(max(s2-s1*s1/fn, 0)/fn)
-					tau := ref.k / mean
-					se := math.Abs(tau/mean) * sd / rootN // |dτ/dμ| = |k|/μ²
-					if math.Abs(tau-truth) <= z*se {
-						cov++
-					}
-				}
-				covered[ni].Add(cov)
+				covered[ni].Add(floorReplicates(rng, ref, n, count, z))
 			}
 		}()
 	}
@@ -200,33 +180,117 @@ func floor(s *sim.Study, ref reference, workers int) []int64 {
 	return out
 }
 
-// timing is one timed run.
+// floorState is one goroutine's generator, padded so that the two
+// goroutines' generators, allocated at the same moment, cannot share a
+// cache line: without it, each draw by one can invalidate the other's
+// PCG state, and the floor would be slow for a reason no careful
+// hand-written loop has.
+type floorState struct {
+	_   [128]byte
+	pcg rand.PCG
+	rng rand.Rand
+	_   [128]byte
+}
+
+// floorReplicates runs count replicates at sample size n and returns how
+// many intervals covered. It is a function of its own, not part of the
+// closure above, so that the compiler keeps the loop's few values in
+// registers. It draws standard normals and scales the two sums once, as
+// sim's normal family does: the fastest honest way to write it.
+func floorReplicates(rng *rand.Rand, ref reference, n, count int, z float64) int64 {
+	truth := ref.k / ref.mean
+	fn := float64(n)
+	rootN := math.Sqrt(fn)
+	var covered int64
+	for range count {
+		var s1, s2 float64
+		for range n {
+			x := rng.NormFloat64()
+			s1 += x
+			s2 += x * x
+		}
+		mean := ref.mean + ref.sd*s1/fn
+		sd := ref.sd * math.Sqrt(max(s2-s1*s1/fn, 0)/fn)
+		tau := ref.k / mean
+		se := math.Abs(tau/mean) * sd / rootN // |dτ/dμ| = |k|/μ²
+		if math.Abs(tau-truth) <= z*se {
+			covered++
+		}
+	}
+	return covered
+}
+
+// timing is one timed run: wall and CPU nanoseconds per draw. The wall
+// figure is the one that counts; the CPU figure (this process's user and
+// system time) is printed beside it because it hardly moves when other
+// jobs share the machine, which makes it a check on a noisy wall ratio.
 type timing struct {
-	nsPerDraw float64
-	covered   []int64
+	nsPerDraw, cpuNsPerDraw float64
+	covered                 []int64
+}
+
+func timed(s *sim.Study, run func() ([]int64, error)) (timing, error) {
+	runtime.GC()
+	cpu0 := cpuTime()
+	start := time.Now()
+	cov, err := run()
+	el := time.Since(start)
+	cpu := cpuTime() - cpu0
+	d := float64(draws(s))
+	return timing{float64(el.Nanoseconds()) / d, float64(cpu.Nanoseconds()) / d, cov}, err
 }
 
 func timeFloor(s *sim.Study, ref reference, workers int) timing {
-	runtime.GC()
-	start := time.Now()
-	cov := floor(s, ref, workers)
-	el := time.Since(start)
-	return timing{float64(el.Nanoseconds()) / float64(draws(s)), cov}
+	t, _ := timed(s, func() ([]int64, error) { return floor(s, ref, workers), nil })
+	return t
 }
 
 func timeSim(s *sim.Study, workers int) (timing, error) {
-	runtime.GC()
-	start := time.Now()
-	res, err := sim.Run(context.Background(), s, sim.Options{Workers: workers})
-	el := time.Since(start)
+	return timed(s, func() ([]int64, error) {
+		res, err := sim.Run(context.Background(), s, sim.Options{Workers: workers})
+		if err != nil {
+			return nil, err
+		}
+		var cov []int64
+		for _, c := range res.Cells[0] {
+			cov = append(cov, c.Covered)
+		}
+		return cov, nil
+	})
+}
+
+// cpuTime is the user and system time this process has used.
+func cpuTime() time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
+}
+
+// machineBusy reads the busy time of all CPUs from /proc/stat, so that the
+// share used by other processes during the timings can be reported, and
+// the steal time, the share the hypervisor gave to other machines.
+func machineBusy() (busy, steal time.Duration, ok bool) {
+	b, err := os.ReadFile("/proc/stat")
 	if err != nil {
-		return timing{}, err
+		return 0, 0, false
 	}
-	var cov []int64
-	for _, c := range res.Cells[0] {
-		cov = append(cov, c.Covered)
+	line, _, _ := strings.Cut(string(b), "\n")
+	f := strings.Fields(line)
+	if len(f) < 9 || f[0] != "cpu" {
+		return 0, 0, false
 	}
-	return timing{float64(el.Nanoseconds()) / float64(draws(s)), cov}, nil
+	// user nice system idle iowait irq softirq steal, in USER_HZ ticks
+	// (100 a second on every Linux the project runs on).
+	var t [8]int64
+	for i := range t {
+		if t[i], err = strconv.ParseInt(f[i+1], 10, 64); err != nil {
+			return 0, 0, false
+		}
+	}
+	const tick = 10 * time.Millisecond
+	return time.Duration(t[0]+t[1]+t[2]+t[5]+t[6]) * tick, time.Duration(t[7]) * tick, true
 }
 
 func median(x []float64) float64 {
@@ -247,7 +311,7 @@ func list(x []float64, format string) string {
 	return strings.Join(parts, " ")
 }
 
-func bench(w io.Writer, s *sim.Study, path string, pairs, small, large int) error {
+func bench(w io.Writer, s *sim.Study, path string, rounds, small, large int) error {
 	ref, _ := floorModel(s)
 	fmt.Fprintf(w, "# deltabench: sim.Run against the hand-written floor loop, same process\n")
 	fmt.Fprintf(w, "date: %s\n", time.Now().Format(time.RFC3339))
@@ -255,7 +319,7 @@ func bench(w io.Writer, s *sim.Study, path string, pairs, small, large int) erro
 	fmt.Fprintf(w, "go: %s\n", runtime.Version())
 	fmt.Fprintf(w, "load_average_start: %s\n", loadAverage())
 	fmt.Fprintf(w, "study: %s (%d replicates per n, n = %v, %d draws per run)\n", path, s.Replicates, s.SampleSizes, draws(s))
-	fmt.Fprintf(w, "pairs: %d per worker count, floor and sim alternating, order swapped every pair\n", pairs)
+	fmt.Fprintf(w, "rounds: %d, each floor and sim at 2 and 1 workers in a turning order; ratios and scaling are medians over rounds\n", rounds)
 
 	// One untimed run of each, so neither pays for first-touch page
 	// faults or a cold cache in the timings.
@@ -266,38 +330,58 @@ func bench(w io.Writer, s *sim.Study, path string, pairs, small, large int) erro
 		return err
 	}
 
-	simMedian := map[int]float64{}
-	floorMedian := map[int]float64{}
-	ratioMedian := map[int]float64{}
+	busy0, steal0, busyOK := machineBusy()
+	cpu0, wall0 := cpuTime(), time.Now()
+	// Rounds of four runs, floor and sim at two workers and at one, so a
+	// slow spell of the machine falls on all four alike; the order turns
+	// round by round so that neither program always runs first.
+	type series struct{ floor, sim, ratio, cpuRatio []float64 }
+	by := map[int]*series{2: {}, 1: {}}
+	var simScaling, floorScaling []float64
 	var coverFloor, coverSim []int64
-	for _, workers := range []int{2, 1} {
-		var fl, sm, ratio []float64
-		for p := range pairs {
-			var f, m timing
-			var err error
-			if p%2 == 0 {
-				f = timeFloor(s, ref, workers)
-				m, err = timeSim(s, workers)
-			} else {
-				m, err = timeSim(s, workers)
-				f = timeFloor(s, ref, workers)
+	orders := [][4]int{{0, 1, 2, 3}, {3, 2, 1, 0}, {1, 0, 3, 2}, {2, 3, 0, 1}}
+	for r := range rounds {
+		var got [4]timing // floor 2, sim 2, floor 1, sim 1
+		for _, k := range orders[r%len(orders)] {
+			workers := 2 - k/2
+			if k%2 == 0 {
+				got[k] = timeFloor(s, ref, workers)
+				continue
 			}
+			m, err := timeSim(s, workers)
 			if err != nil {
 				return err
 			}
-			fl = append(fl, f.nsPerDraw)
-			sm = append(sm, m.nsPerDraw)
-			ratio = append(ratio, m.nsPerDraw/f.nsPerDraw)
-			coverFloor, coverSim = f.covered, m.covered
+			got[k] = m
 		}
-		floorMedian[workers], simMedian[workers], ratioMedian[workers] = median(fl), median(sm), median(ratio)
-		fmt.Fprintf(w, "workers=%d floor_ns_per_draw: median %.3f (runs %s)\n", workers, median(fl), list(fl, "%.3f"))
-		fmt.Fprintf(w, "workers=%d sim_ns_per_draw: median %.3f (runs %s)\n", workers, median(sm), list(sm, "%.3f"))
-		fmt.Fprintf(w, "workers=%d ratio_sim_to_floor: median %.3f (pairs %s)\n", workers, median(ratio), list(ratio, "%.3f"))
+		for k, workers := range []int{2, 1} {
+			f, m := got[2*k], got[2*k+1]
+			b := by[workers]
+			b.floor = append(b.floor, f.nsPerDraw)
+			b.sim = append(b.sim, m.nsPerDraw)
+			b.ratio = append(b.ratio, m.nsPerDraw/f.nsPerDraw)
+			b.cpuRatio = append(b.cpuRatio, m.cpuNsPerDraw/f.cpuNsPerDraw)
+		}
+		simScaling = append(simScaling, got[3].nsPerDraw/got[1].nsPerDraw)
+		floorScaling = append(floorScaling, got[2].nsPerDraw/got[0].nsPerDraw)
+		coverFloor, coverSim = got[0].covered, got[1].covered
 	}
-	scaling := simMedian[1] / simMedian[2]
-	fmt.Fprintf(w, "scaling_sim_1_to_2_workers: %.3f\n", scaling)
-	fmt.Fprintf(w, "scaling_floor_1_to_2_workers: %.3f\n", floorMedian[1]/floorMedian[2])
+	for _, workers := range []int{2, 1} {
+		b := by[workers]
+		fmt.Fprintf(w, "workers=%d floor_ns_per_draw: median %.3f (runs %s)\n", workers, median(b.floor), list(b.floor, "%.3f"))
+		fmt.Fprintf(w, "workers=%d sim_ns_per_draw: median %.3f (runs %s)\n", workers, median(b.sim), list(b.sim, "%.3f"))
+		fmt.Fprintf(w, "workers=%d ratio_sim_to_floor: median %.3f (pairs %s)\n", workers, median(b.ratio), list(b.ratio, "%.3f"))
+		fmt.Fprintf(w, "workers=%d cpu_ratio_sim_to_floor: median %.3f (pairs %s)\n", workers, median(b.cpuRatio), list(b.cpuRatio, "%.3f"))
+	}
+	if busy1, steal1, ok := machineBusy(); ok && busyOK {
+		all := time.Since(wall0).Seconds() * float64(runtime.NumCPU())
+		foreign := (busy1 - busy0 - (cpuTime() - cpu0)).Seconds() / all
+		fmt.Fprintf(w, "other_processes_cpu_share: %.3f (of all CPUs, during the timings; steal %.3f)\n", max(foreign, 0), (steal1-steal0).Seconds()/all)
+	}
+	ratio2, ratio1 := median(by[2].ratio), median(by[1].ratio)
+	scaling := median(simScaling)
+	fmt.Fprintf(w, "scaling_sim_1_to_2_workers: median %.3f (rounds %s)\n", scaling, list(simScaling, "%.3f"))
+	fmt.Fprintf(w, "scaling_floor_1_to_2_workers: median %.3f (rounds %s)\n", median(floorScaling), list(floorScaling, "%.3f"))
 
 	// The floor and sim must be doing the same statistics: their coverage
 	// agrees to Monte Carlo error (the streams differ, so not exactly).
@@ -342,8 +426,8 @@ func bench(w io.Writer, s *sim.Study, path string, pairs, small, large int) erro
 		}
 		return "NOT met"
 	}
-	fmt.Fprintf(w, "target ratio<=%.2f (2 workers): %s\n", maxRatio, check(ratioMedian[2] <= maxRatio))
-	fmt.Fprintf(w, "target ratio<=%.2f (1 worker): %s\n", maxRatio, check(ratioMedian[1] <= maxRatio))
+	fmt.Fprintf(w, "target ratio<=%.2f (2 workers): %s\n", maxRatio, check(ratio2 <= maxRatio))
+	fmt.Fprintf(w, "target ratio<=%.2f (1 worker): %s\n", maxRatio, check(ratio1 <= maxRatio))
 	fmt.Fprintf(w, "target scaling>=%.1f: %s\n", minScaling, check(scaling >= minScaling))
 	fmt.Fprintf(w, "target rss_ratio<=%.2f: %s\n", maxRSSGrow, check(rssRatio <= maxRSSGrow))
 	return nil

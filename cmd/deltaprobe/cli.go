@@ -516,7 +516,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 		}
 		return exitFailure
 	}
-	if err := report.WritePlan(dir, plan); err != nil {
+	if err := report.WritePlan(dir, s, plan); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		return exitFailure
 	}

@@ -9,18 +9,31 @@ import (
 // value per slot and, for ValueGrad, a Dim()-long gradient row per slot, all
 // allocated once. It is not safe for concurrent use; give each goroutine its
 // own.
+//
+// The scratch is written on every call, so it and the Evaluator itself are
+// padded by pad bytes on each side: evaluators of different goroutines
+// then never share a cache line, which they otherwise would, being small
+// allocations made at the same time.
 type Evaluator struct {
+	_    [pad]byte
 	prog *Program
 	val  []float64
 	grad []float64 // slot s owns grad[s*dim : (s+1)*dim]
+	_    [pad]byte
 }
+
+// pad is two 64-byte cache lines, the pair x86 prefetchers move together.
+const pad = 128
 
 // NewEvaluator allocates the scratch space for evaluating p.
 func (p *Program) NewEvaluator() *Evaluator {
+	const padFloats = pad / 8
+	nv, ng := p.slots, p.slots*p.dim
+	buf := make([]float64, padFloats+nv+ng+padFloats)[padFloats:]
 	return &Evaluator{
 		prog: p,
-		val:  make([]float64, p.slots),
-		grad: make([]float64, p.slots*p.dim),
+		val:  buf[:nv:nv],
+		grad: buf[nv : nv+ng : nv+ng],
 	}
 }
 

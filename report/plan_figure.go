@@ -1,0 +1,547 @@
+package report
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"slices"
+	"strconv"
+	"strings"
+	"sync"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"deltaprobe/sim"
+)
+
+// The plan figure shows the search for one transform: every n it
+// evaluated, on the log n axis of the whole search range, with the
+// interval each decision used; beside it the same near the answer, one
+// integer at a time, where the search crowds its evaluations; and under
+// both, the replicates each decision took. A reader sees where the
+// answer lies in the range, why the n just below it was not enough, what
+// the window above it showed, and that the budget went where the
+// decisions were hard.
+
+// KindPlan is the kind of the plan's figure, as it ends the file name.
+const KindPlan = "plan"
+
+// The figure's height above its key; the key adds what its text needs.
+const planBodyHeight = 10 * vg.Inch
+
+// planSteps returns the evaluations of transform name, in evaluation order.
+func planSteps(p *sim.PlanResult, name string) []sim.PlanStep {
+	var out []sim.PlanStep
+	for _, st := range p.Steps {
+		if st.Transform == name {
+			out = append(out, st)
+		}
+	}
+	return out
+}
+
+// planView is what one transform's figure and page section need from
+// the plan, worked out once.
+type planView struct {
+	info       sim.TransformInfo
+	steps      []sim.PlanStep
+	verdict    sim.TransformVerdict
+	window     int   // as the plan reports it
+	windowTop  int   // the largest n the window reached, 0 if none
+	oscill     []int // failing n found above a candidate
+	undecided  []int
+	largestN   int   // the largest n evaluated
+	replicates int64 // replicates behind this transform's decisions
+}
+
+func newPlanView(s *sim.Study, p *sim.PlanResult, t int) planView {
+	tr := s.Transforms[t]
+	v := planView{info: sim.TransformInfo{Name: tr.Name, Expr: tr.Expr}, steps: planSteps(p, tr.Name)}
+	if t < len(p.Verdicts) {
+		v.verdict = p.Verdicts[t]
+	} else {
+		v.verdict = sim.TransformVerdict{Transform: tr.Name, Status: sim.StatusUncl}
+	}
+	if t < len(p.Window) {
+		v.window = p.Window[t]
+	}
+	if t < len(p.Oscillations) {
+		v.oscill = p.Oscillations[t]
+	}
+	if t < len(p.Undecided) {
+		v.undecided = p.Undecided[t]
+	}
+	if a := v.verdict.SmallestN; a > 0 && v.window > 0 {
+		v.windowTop = a + v.window
+		if s.Plan != nil {
+			v.windowTop = min(v.windowTop, s.Plan.NMax)
+		}
+		if v.windowTop <= a {
+			v.windowTop = 0
+		}
+	}
+	for _, st := range v.steps {
+		v.largestN = max(v.largestN, st.N)
+		v.replicates += st.Replicates
+	}
+	return v
+}
+
+// stepAt returns the evaluation at n, if there is one.
+func (v planView) stepAt(n int) (sim.PlanStep, bool) {
+	for _, st := range v.steps {
+		if st.N == n {
+			return st, true
+		}
+	}
+	return sim.PlanStep{}, false
+}
+
+// below returns the largest evaluated n under n, if there is one.
+func (v planView) below(n int) (sim.PlanStep, bool) {
+	var best sim.PlanStep
+	found := false
+	for _, st := range v.steps {
+		if st.N < n && (!found || st.N > best.N) {
+			best, found = st, true
+		}
+	}
+	return best, found
+}
+
+// zoomRange is the stretch of integers shown near the answer: from the
+// evaluated n just below the answer (if it is near) to the top of the
+// window. ok is false when there is no answer to zoom on.
+func (v planView) zoomRange() (lo, hi int, ok bool) {
+	a := v.verdict.SmallestN
+	if a <= 0 {
+		return 0, 0, false
+	}
+	lo, hi = a, max(a, v.windowTop)
+	if b, found := v.below(a); found && a-b.N <= max(v.window, 3)+1 {
+		lo = b.N
+	} else if found {
+		lo = a - 1
+	}
+	// A couple of integers either side at least, so a lone point does
+	// not sit on the frame.
+	if hi-lo < 4 {
+		lo, hi = lo-1, hi+1
+	}
+	return lo, hi, true
+}
+
+// PlanFigures renders the plan's figure of every transform of s, in
+// study order, in parallel; each is a pure function of s and p and comes
+// out byte for byte the same every time.
+func PlanFigures(s *sim.Study, p *sim.PlanResult) ([]Figure, error) {
+	names := make([]string, len(s.Transforms))
+	for i, t := range s.Transforms {
+		names[i] = t.Name
+	}
+	stems := SafeNames(names)
+	figs := make([]Figure, len(names))
+	errs := make([]error, len(names))
+	var wg sync.WaitGroup
+	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
+	for t := range names {
+		wg.Add(1)
+		sem <- struct{}{}
+		go func() {
+			defer func() { <-sem; wg.Done() }()
+			v := newPlanView(s, p, t)
+			f := Figure{File: stems[t] + "-" + KindPlan + ".png", Transform: t, Kind: KindPlan, Alt: planAlt(v)}
+			var err error
+			f.PNG, f.Width, f.Height, err = planPNG(s, p, v)
+			if err != nil {
+				errs[t] = fmt.Errorf("drawing %s: %w", f.File, err)
+			}
+			figs[t] = f
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return nil, err
+		}
+	}
+	return figs, nil
+}
+
+// planAxis is one column's n axis: the whole search on a log scale, or
+// the integers near the answer on a linear one.
+type planAxis struct {
+	log        bool
+	xmin, xmax float64
+	ticks      plot.Ticker
+	answer     int
+	winLo      float64 // the window's shading, in n; winHi ≤ winLo: none
+	winHi      float64
+}
+
+func (a planAxis) contains(n int) bool {
+	x := float64(n)
+	return x >= a.xmin && x <= a.xmax
+}
+
+func (a planAxis) newPlot(xlabel, ylabel string) *plot.Plot {
+	p := newPanel()
+	if a.log {
+		p.X.Scale = plot.LogScale{}
+	}
+	p.X.Tick.Marker = a.ticks
+	p.X.Label.Text = xlabel
+	p.Y.Label.Text = ylabel
+	p.Y.Tick.Marker = stepTicks{maxLabels: 5}
+	return p
+}
+
+// addWindow shades the confirmation window under the data. The window
+// holds the integers answer+1 … top, so the shading runs between the
+// half-integers around them.
+func (a planAxis) addWindow(p *plot.Plot) {
+	if a.winHi > a.winLo {
+		p.Add(vWindow{lo: a.winLo, hi: a.winHi})
+	}
+}
+
+// measure is one of the three criteria as the plan figure draws it.
+type measure struct {
+	title  string
+	ylabel string
+	value  func(sim.Row) float64
+	band   [2]float64
+	ref    hLine
+	logY   bool // may switch to a log y axis (a ratio)
+}
+
+func planMeasures(s *sim.Study) []measure {
+	c := s.Criteria
+	return []measure{
+		{title: "Coverage of the Wald interval", ylabel: "coverage", value: func(r sim.Row) float64 { return r.Coverage },
+			band: c.Coverage, ref: hLine{at: s.Level, style: refStyle}},
+		{title: "Variance ratio, delta method / simulated", ylabel: "variance ratio", value: func(r sim.Row) float64 { return r.VarRatio },
+			band: c.VarRatio, ref: hLine{at: 1, style: idealLine}, logY: true},
+		{title: "Bias, in delta-method standard deviations", ylabel: "bias / delta sd", value: func(r sim.Row) float64 { return r.StdBias },
+			band: [2]float64{-c.StdBias, c.StdBias}, ref: hLine{at: 0, style: idealLine}},
+	}
+}
+
+// measurePanel draws criterion c of the steps that fall on axis a: each
+// point in the look of that criterion's own verdict at that n, with the
+// interval the decision used (already widened for repeated looks).
+func (a planAxis) measurePanel(m measure, c int, steps []sim.PlanStep, title string) *panel {
+	var vp verdictPoints
+	for _, st := range steps {
+		if !a.contains(st.N) {
+			continue
+		}
+		ch := st.Row.Checks[c]
+		vp.x = append(vp.x, float64(st.N))
+		vp.y = append(vp.y, m.value(st.Row))
+		vp.lo, vp.hi = append(vp.lo, ch.Low), append(vp.hi, ch.High)
+		vp.v = append(vp.v, ch.Verdict)
+	}
+	ylabel := ""
+	if a.log {
+		ylabel = m.ylabel
+	}
+	p := a.newPlot("", ylabel)
+	p.Add(hBand{lo: m.band[0], hi: m.band[1], color: colBand}, m.ref)
+	if m.logY && useLogY(p, vp.y, vp.lo, vp.hi, m.band[:]) && !a.log {
+		// useLogY names the scale in the label; the zoom column has none.
+		p.Y.Label.Text = ""
+	}
+	a.addWindow(p)
+	p.Add(vp)
+	tr := trendAxes{xmin: a.xmin, xmax: a.xmax, mark: a.answer}
+	tr.finish(p, math.NaN())
+	return &panel{title: title, plot: p}
+}
+
+// replicatesPanel draws the replicates behind each decision as bars,
+// topped by the overall verdict at that n, under a dashed line at the
+// most one n may take.
+func (a planAxis) replicatesPanel(steps []sim.PlanStep, budget int, title, xlabel string) *panel {
+	var st stems
+	var vp verdictPoints
+	for _, s := range steps {
+		if !a.contains(s.N) {
+			continue
+		}
+		st.x, st.y = append(st.x, float64(s.N)), append(st.y, float64(s.Replicates))
+		vp.x, vp.y = append(vp.x, float64(s.N)), append(vp.y, float64(s.Replicates))
+		vp.v = append(vp.v, s.Row.Verdict)
+	}
+	if !a.log {
+		st.halfWidth = 0.3
+	}
+	ylabel := ""
+	if a.log {
+		ylabel = "replicates"
+	}
+	p := a.newPlot(xlabel, ylabel)
+	p.Y.Tick.Marker = stepTicks{maxLabels: 4}
+	a.addWindow(p)
+	p.Add(st, hLine{at: float64(budget), style: noiseLine}, vp)
+	if a.answer > 0 {
+		p.Add(vMark{at: float64(a.answer)})
+	}
+	p.X.Min, p.X.Max = a.xmin, a.xmax
+	// Room above the budget line for the markers on the tallest bars.
+	p.Y.Min, p.Y.Max = 0, 1.18*float64(max(budget, 1))
+	return &panel{title: title, plot: p}
+}
+
+// planPNG draws the plan figure of one transform.
+func planPNG(s *sim.Study, p *sim.PlanResult, v planView) ([]byte, int, int, error) {
+	spec := sim.PlanSpec{NMin: 1, NMax: 1, MaxReplicates: 1}
+	if s.Plan != nil {
+		spec = *s.Plan
+	}
+	var ns []int
+	for _, st := range v.steps {
+		ns = append(ns, st.N)
+	}
+	slices.Sort(ns)
+	ns = slices.Compact(ns)
+
+	lo, hi := float64(spec.NMin), float64(max(spec.NMax, v.largestN))
+	span := math.Max(math.Log10(hi/lo), 0.3)
+	a := v.verdict.SmallestN
+	logAxis := planAxis{
+		log: true, xmin: lo / math.Pow(10, 0.04*span), xmax: hi * math.Pow(10, 0.04*span),
+		answer: a,
+	}
+	zlo, zhi, zoom := v.zoomRange()
+	colW := []float64{1}
+	if zoom {
+		colW = []float64{0.6, 0.4}
+	}
+	// How long a decade is on the log axis, near enough to keep tick
+	// labels apart: the column's share of the width less what drawGrid
+	// takes for axes, padding and gaps (about 96 points for one column,
+	// 82 more for a second), over the axis's span in decades.
+	dataLen := vg.Length(colW[0]) * (figWidth - vg.Points(96) - vg.Points(82)*vg.Length(len(colW)-1))
+	logAxis.ticks = planTicks{ns: ns, must: []int{a, spec.NMin, spec.NMax},
+		perDecade: dataLen / vg.Length(math.Log10(logAxis.xmax/logAxis.xmin))}
+	if v.windowTop > 0 {
+		logAxis.winLo, logAxis.winHi = float64(a)+0.5, float64(v.windowTop)+0.5
+	}
+	measures := planMeasures(s)
+	cols := []planAxis{logAxis}
+	if zoom {
+		za := planAxis{xmin: float64(zlo) - 0.6, xmax: float64(zhi) + 0.6, ticks: zoomTicks{answer: a}, answer: a,
+			winLo: logAxis.winLo, winHi: logAxis.winHi}
+		cols = append(cols, za)
+	}
+	zoomNote := ""
+	if zoom {
+		zoomNote = fmt.Sprintf("n = %d–%d", zlo, zhi)
+	}
+	grid := make([][]*panel, len(measures)+1)
+	for c, m := range measures {
+		for k, ax := range cols {
+			title := m.title
+			if k == 1 {
+				title = shortTitle(c)
+			}
+			pn := ax.measurePanel(m, c, v.steps, title)
+			if k == 1 {
+				pn.note = zoomNote
+			}
+			grid[c] = append(grid[c], pn)
+		}
+	}
+	for k, ax := range cols {
+		title, xlabel := "Replicates behind each decision", "sample size n (log scale)"
+		if k == 1 {
+			title, xlabel = "Replicates", "sample size n"
+		}
+		pn := ax.replicatesPanel(v.steps, spec.MaxReplicates, title, xlabel)
+		if k == 1 {
+			pn.note = zoomNote
+		}
+		grid[len(measures)] = append(grid[len(measures)], pn)
+	}
+	rowW := []float64{1, 1, 1, 0.62}
+
+	title := figureTitle(v.info, " — search for the smallest adequate n")
+	sub := planPhrase(v, spec) + " " + planCost(v, p)
+	legend := planLegend(v, spec, s.Level)
+	key := planKey(v, p, spec)
+
+	// The key's height depends on how its text wraps; measure it first,
+	// at the width drawKey will set it in (the key canvas below, less
+	// drawKey's own indent).
+	keyW := figWidth - vg.Points(16) - vg.Points(12)
+	keyH := keyHeight(key, keyW)
+	headH := headingHeight(title, sub, figWidth-2*vg.Points(14))
+	legH := legendRowHeight(legend, figWidth-2*vg.Points(22)) + vg.Points(8)
+	height := headH + legH + planBodyHeight + keyH
+	// Whole pixels, so the reported size is the decoded size.
+	height = vg.Length(math.Ceil(float64(height.Dots(figDPI)))) / figDPI * vg.Inch
+
+	return encodePNG(height, func(dc draw.Canvas) {
+		rest := drawWrappedHeading(dc, title, sub)
+		lc := draw.Crop(rest, vg.Points(22), -vg.Points(22), 0, 0)
+		used := drawLegendRow(lc, legend)
+		rest = draw.Crop(rest, 0, 0, 0, -(used + vg.Points(8)))
+		body := draw.Crop(rest, 0, 0, keyH, 0)
+		drawGrid(body, grid, colW, rowW)
+		kc := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
+			Min: vg.Point{X: dc.Min.X + vg.Points(2), Y: dc.Min.Y},
+			Max: vg.Point{X: dc.Max.X - vg.Points(14), Y: dc.Min.Y + keyH - vg.Points(6)},
+		}}
+		drawKey(kc, "How to read this figure", key)
+	})
+}
+
+func shortTitle(c int) string {
+	return [...]string{"Coverage", "Variance ratio", "Bias"}[c]
+}
+
+// planLegend is the legend row shared by every panel of the figure.
+func planLegend(v planView, spec sim.PlanSpec, level float64) []legendItem {
+	items := []legendItem{
+		{label: "pass", thumbs: []plot.Thumbnailer{verdictThumb{sim.Pass}}},
+		{label: "fail", thumbs: []plot.Thumbnailer{verdictThumb{sim.Fail}}},
+		{label: "unclear", thumbs: []plot.Thumbnailer{verdictThumb{sim.Unclear}}},
+		{label: "accepted band", thumbs: []plot.Thumbnailer{hBand{color: colBand}}},
+	}
+	if a := v.verdict.SmallestN; a > 0 {
+		items = append(items, legendItem{label: "smallest adequate n = " + strconv.Itoa(a), thumbs: []plot.Thumbnailer{vMark{}}})
+	}
+	if v.windowTop > 0 {
+		items = append(items, legendItem{label: fmt.Sprintf("window checked, n = %d–%d", v.verdict.SmallestN+1, v.windowTop), thumbs: []plot.Thumbnailer{vWindow{}}})
+	}
+	items = append(items,
+		legendItem{label: "nominal level " + fmtG(level), thumbs: []plot.Thumbnailer{hLine{style: refStyle}}},
+		legendItem{label: fmt.Sprintf("at most %d replicates per n", spec.MaxReplicates), thumbs: []plot.Thumbnailer{hLine{style: noiseLine}}})
+	return items
+}
+
+// planPhrase is the figure's one-line answer.
+func planPhrase(v planView, spec sim.PlanSpec) string {
+	tv := v.verdict
+	switch tv.Status {
+	case sim.Adequate:
+		s := fmt.Sprintf("Adequate from n = %d", tv.SmallestN)
+		if tv.Limiting != "" && tv.Limiting != "none" {
+			s += "; " + tv.Limiting + " sets it"
+		}
+		if v.windowTop > 0 {
+			s += fmt.Sprintf("; n = %d–%d checked above it", tv.SmallestN+1, v.windowTop)
+		}
+		return s + "."
+	case sim.NotReached:
+		return fmt.Sprintf("Not adequate for n up to %d: %s fails at the largest n checked, %d.", spec.NMax, tv.Limiting, v.largestN)
+	}
+	return fmt.Sprintf("Undecided: %s stays unclear at the largest n checked, %d.", dash(tv.Limiting), v.largestN)
+}
+
+// planCost says what the search took.
+func planCost(v planView, p *sim.PlanResult) string {
+	s := fmt.Sprintf("%d evaluations, %d replicates behind their decisions; intervals at z = %.3f per look.",
+		len(v.steps), v.replicates, p.Z)
+	if p.Exhausted {
+		s += " The -budget cap was reached."
+	}
+	return s
+}
+
+// planKey explains the figure in words and gives the order of the
+// search, so the PNG can be read away from the page.
+func planKey(v planView, p *sim.PlanResult, spec sim.PlanSpec) []string {
+	closeUp, hatched := "", ""
+	if v.windowTop > 0 {
+		hatched = " (the hatched window)"
+	}
+	if _, _, ok := v.zoomRange(); ok {
+		closeUp = "The right-hand column shows the n near the answer on a linear axis, one integer at a time. "
+	}
+	paras := []string{
+		fmt.Sprintf("Each point is one n the search evaluated; its bar is the Monte Carlo interval the decision used, widened for repeated looks. %s. "+
+			"A criterion passes at n when its bar lies inside the grey band, fails when the bar lies wholly outside it, and is unclear otherwise; the marker shows which, by shape as well as colour.",
+			p.Method),
+		fmt.Sprintf("The search doubles n from %d until every criterion passes, bisects down to the smallest passing n, then checks the integers just above it%s. "+
+			"%s"+
+			"The bottom row gives the replicates behind each decision, topped by the overall verdict at that n: clear cases stop after one batch of %d, cases near the threshold take up to %d.",
+			spec.NMin, hatched, closeUp, spec.Batch, spec.MaxReplicates),
+	}
+	if len(v.oscill) > 0 {
+		paras = append(paras, fmt.Sprintf("Not monotone in n: n = %s failed above an earlier passing n, and the search started again above it.", joinInts(v.oscill)))
+	}
+	paras = append(paras, "Order of evaluation: "+searchOrder(v.steps, 80)+".")
+	return paras
+}
+
+// searchOrder lists the evaluations as "5 fail, 10 fail, 20 pass", at
+// most limit of them.
+func searchOrder(steps []sim.PlanStep, limit int) string {
+	var parts []string
+	for i, st := range steps {
+		if i == limit {
+			parts = append(parts, fmt.Sprintf("… (%d more)", len(steps)-limit))
+			break
+		}
+		parts = append(parts, strconv.Itoa(st.N)+" "+string(st.Row.Verdict))
+	}
+	return strings.Join(parts, ", ")
+}
+
+// keyHeight is the height drawKey takes for paras in width w, with a
+// little to spare.
+func keyHeight(paras []string, w vg.Length) vg.Length {
+	hs := textStyle(sansBold, fontPanel)
+	st := textStyle(sans, fontSmall)
+	lineH := st.Height("Mg") + vg.Points(2)
+	h := hs.Height("Mg") + vg.Points(8)
+	for _, para := range paras {
+		h += vg.Length(len(wrapText(st, para, w))) * lineH
+		h += vg.Points(5)
+	}
+	return h + vg.Points(14)
+}
+
+// headingHeight is the height drawWrappedHeading takes.
+func headingHeight(title, sub string, w vg.Length) vg.Length {
+	ts, ss := textStyle(sansBold, fontTitle), textStyle(sans, fontLabel)
+	h := vg.Points(14) + ts.Height(title) + vg.Points(6)
+	h += vg.Length(len(wrapText(ss, sub, w))) * (ss.Height("Mg") + vg.Points(2))
+	return h + vg.Points(8)
+}
+
+// drawWrappedHeading is drawHeading with a subtitle that may run to more
+// than one line, and returns the canvas left below it.
+func drawWrappedHeading(dc draw.Canvas, title, sub string) draw.Canvas {
+	const margin = 14
+	x := dc.Min.X + vg.Points(margin)
+	y := dc.Max.Y - vg.Points(margin)
+	ts := textStyle(sansBold, fontTitle)
+	dc.FillText(ts, vg.Point{X: x, Y: y}, title)
+	y -= ts.Height(title) + vg.Points(6)
+	ss := textStyle(sans, fontLabel)
+	for _, line := range wrapText(ss, sub, dc.Max.X-dc.Min.X-2*vg.Points(margin)) {
+		dc.FillText(ss, vg.Point{X: x, Y: y}, line)
+		y -= ss.Height("Mg") + vg.Points(2)
+	}
+	return draw.Crop(dc, 0, 0, 0, y-dc.Max.Y-vg.Points(8))
+}
+
+func planAlt(v planView) string {
+	return fmt.Sprintf("Search for the smallest adequate n of %s: coverage, variance ratio and standardised bias at each of the %d evaluated n with the intervals the decisions used, and the replicates behind each decision. %s",
+		v.info.Name, len(v.steps), planPhraseAlt(v))
+}
+
+func planPhraseAlt(v planView) string {
+	switch v.verdict.Status {
+	case sim.Adequate:
+		return fmt.Sprintf("Adequate from n = %d.", v.verdict.SmallestN)
+	case sim.NotReached:
+		return "Not adequate within the search range."
+	}
+	return "Undecided within the budget."
+}

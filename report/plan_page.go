@@ -1,0 +1,302 @@
+package report
+
+import (
+	"bytes"
+	"fmt"
+	"html/template"
+	"math"
+	"strconv"
+	"strings"
+
+	"deltaprobe/sim"
+)
+
+// The plan's index.html answers "from what n on is the approximation
+// adequate?" first, per transform, and then shows how the search got
+// there. It is built like the run's page: one static file beside its
+// figures, no scripts, nothing fetched, well-formed XML as well as HTML.
+
+// planPageData is what the plan template shows.
+type planPageData struct {
+	Style       template.CSS
+	Title       string
+	Description string
+	Answers     []planAnswerLine
+	Method      string
+	Criteria    []string
+	Glance      []keyValue
+	Notes       []string
+	Sections    []transformSection
+	Steps       summaryTable
+	Source      string
+	SourceName  string
+	Provenance  []keyValue
+}
+
+// planAnswerLine is one row of the answer table and its sentence.
+type planAnswerLine struct {
+	Name, Expr, Anchor string
+	Smallest           string
+	Status             string
+	StatusClass        string
+	Limiting           string
+	Checked            int
+	Replicates         int64
+	Window             string
+	Oscillations       string
+	Undecided          string
+	Why                string
+}
+
+// pageStyle is the run page's style sheet, taken from its template so the
+// two pages look alike and cannot drift apart.
+var pageStyle = func() template.CSS {
+	_, rest, ok := strings.Cut(pageHTML, "<style>\n")
+	css, _, ok2 := strings.Cut(rest, "</style>")
+	if !ok || !ok2 {
+		panic("report: the page template has no <style> element")
+	}
+	return template.CSS(css)
+}()
+
+var planPageTemplate = template.Must(template.New("plan").Parse(planPageHTML))
+
+// PlanPage renders index.html for the plan p of study s, with figs (from
+// PlanFigures) as the images it shows, referenced by file name beside
+// the page.
+func PlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) ([]byte, error) {
+	d := buildPlanPage(s, p, figs)
+	var buf bytes.Buffer
+	if err := planPageTemplate.Execute(&buf, d); err != nil {
+		return nil, fmt.Errorf("rendering %s: %w", PageFile, err)
+	}
+	return buf.Bytes(), nil
+}
+
+func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData {
+	spec := sim.PlanSpec{}
+	if s.Plan != nil {
+		spec = *s.Plan
+	}
+	names := make([]string, len(s.Transforms))
+	for i, t := range s.Transforms {
+		names[i] = t.Name
+	}
+	stems := SafeNames(names)
+	d := planPageData{
+		Style:       pageStyle,
+		Title:       s.Title,
+		Description: s.Description,
+		Method:      p.Method,
+		Source:      string(s.Source),
+		SourceName:  s.File,
+	}
+	if d.Title == "" {
+		d.Title = s.File
+	}
+	arms := make([]sim.ArmInfo, len(s.Arms))
+	for i, a := range s.Arms {
+		arms[i] = sim.ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
+	}
+	window := "10% of the answer, at least 3 and at most 25 integers"
+	if spec.Window > 0 {
+		window = fmt.Sprintf("%d integers", spec.Window)
+	}
+	d.Glance = []keyValue{
+		{"Model", describeModel(arms)},
+		{"Search range", fmt.Sprintf("n from %d to %d", spec.NMin, spec.NMax)},
+		{"Replicates", fmt.Sprintf("at most %d per n, added in batches of %d until the verdict is decided", spec.MaxReplicates, spec.Batch)},
+		{"Decisions", fmt.Sprintf("each at confidence %s; %s", fmtG(spec.Confidence), p.Method)},
+		{"Window", "above each answer, " + window + " are also checked"},
+		{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(s.Level))},
+	}
+	c := s.Criteria
+	z := fmt3(p.Z)
+	d.Criteria = []string{
+		fmt.Sprintf("Coverage: its Wilson interval, at z = %s, lies inside %s–%s.", z, fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
+		fmt.Sprintf("Variance: the Monte Carlo interval of delta_var / emp_var, at z = %s, lies inside %s–%s.", z, fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
+		fmt.Sprintf("Bias: bias / delta-method sd ± %s Monte Carlo standard errors lies inside ±%s.", z, fmtG(c.StdBias)),
+	}
+	for t, info := range s.Transforms {
+		v := newPlanView(s, p, t)
+		line := planAnswerLine{
+			Name: info.Name, Expr: info.Expr, Anchor: "t-" + stems[t],
+			Smallest:     dash(formatN(v.verdict.SmallestN)),
+			Status:       statusText(v.verdict.Status),
+			StatusClass:  string(v.verdict.Status),
+			Limiting:     dash(v.verdict.Limiting),
+			Checked:      len(v.steps),
+			Replicates:   v.replicates,
+			Window:       "–",
+			Oscillations: "none",
+			Undecided:    "none",
+			Why:          planExplain(v, spec),
+		}
+		if v.windowTop > 0 {
+			line.Window = fmt.Sprintf("+%d (%d–%d)", v.window, v.verdict.SmallestN+1, v.windowTop)
+		}
+		if len(v.oscill) > 0 {
+			line.Oscillations = joinList(v.oscill)
+			if t < len(p.LargestFail) {
+				line.Oscillations += fmt.Sprintf("; largest %d", p.LargestFail[t])
+			}
+			d.Notes = append(d.Notes, fmt.Sprintf("%s: not monotone in n. n = %s failed above an earlier passing n, and the search started again above it.", info.Name, joinList(v.oscill)))
+		}
+		if len(v.undecided) > 0 {
+			line.Undecided = joinList(v.undecided)
+			d.Notes = append(d.Notes, fmt.Sprintf("%s: %d n above the answer stayed undecided within %d replicates (they neither passed nor failed).", info.Name, len(v.undecided), spec.MaxReplicates))
+		}
+		d.Answers = append(d.Answers, line)
+		sec := transformSection{Name: info.Name, Expr: info.Expr, Anchor: line.Anchor}
+		for _, f := range figs {
+			if f.Transform == t {
+				sec.Figures = append(sec.Figures, figureRef{File: f.File, Alt: f.Alt, Caption: planCaption(v), Width: f.Width, Height: f.Height})
+			}
+		}
+		d.Sections = append(d.Sections, sec)
+	}
+	if p.Exhausted {
+		d.Notes = append(d.Notes, "The -budget cap on the replicates of the whole plan was reached: decisions marked unclear could not be made within it.")
+	}
+	d.Steps = planStepsTable(p)
+	exhausted := "no"
+	if p.Exhausted {
+		exhausted = "yes: decisions marked unclear could not be made within it"
+	}
+	d.Provenance = []keyValue{
+		{"Tool", "deltaprobe " + sim.Version},
+		{"Study file", s.File},
+		{"Study file SHA-256", s.SHA256},
+		{"Seed", strconv.FormatUint(s.Seed, 10)},
+		{"Search range", fmt.Sprintf("%d to %d", spec.NMin, spec.NMax)},
+		{"Replicates per n", fmt.Sprintf("at most %d, in batches of %d", spec.MaxReplicates, spec.Batch)},
+		{"Interval quantile per look", fmt.Sprintf("z = %.3f", p.Z)},
+		{"Block size", strconv.Itoa(sim.BlockSize)},
+		{"Replicates simulated in all", strconv.FormatInt(p.Total, 10)},
+		{"Budget cap reached", exhausted},
+	}
+	return d
+}
+
+// joinList writes n values as "136, 137, 138".
+func joinList(ns []int) string { return joinInts(ns) }
+
+func planCaption(v planView) string {
+	s := "Left: every n the search evaluated, on a log axis over the search range, with the Monte Carlo interval each decision used, widened for repeated looks; the marker gives that criterion's verdict at that n (filled circle pass, cross fail, open diamond unclear). Grey bands are the accepted bands."
+	if v.verdict.SmallestN > 0 {
+		s += " The dash-dot line marks the smallest adequate n and the hatched strip the window above it that was also checked; the right-hand column shows the n near the answer one integer at a time."
+	}
+	return s + " The bottom row gives the replicates behind each decision, topped by the overall verdict at that n."
+}
+
+// planStepsTable is plan.csv for reading: every column, to four
+// significant digits (the file has eight).
+func planStepsTable(p *sim.PlanResult) summaryTable {
+	tb := summaryTable{Caption: "Every evaluation, per transform, in the order the search made them", Columns: PlanColumns}
+	for _, st := range p.Steps {
+		cells := make([]summaryCell, len(PlanColumns))
+		for i, col := range PlanColumns {
+			cells[i] = planCellFor(st, col)
+		}
+		tb.Rows = append(tb.Rows, cells)
+	}
+	return tb
+}
+
+func planCellFor(st sim.PlanStep, col string) summaryCell {
+	switch col {
+	case "step":
+		return summaryCell{Text: strconv.Itoa(st.Step), Class: "num"}
+	case "replicates":
+		return summaryCell{Text: strconv.FormatInt(st.Replicates, 10), Class: "num"}
+	case "std_bias_mcse":
+		// Formatted as summaryCellFor formats every other number, by way
+		// of a row that carries this value in a column it knows.
+		return summaryCellFor(sim.Row{StdBias: st.Row.StdBiasMCSE}, "std_bias")
+	}
+	return summaryCellFor(st.Row, col)
+}
+
+// planExplain says, for one transform, what the plan found and why the
+// answer is not smaller, from the evaluations themselves.
+func planExplain(v planView, spec sim.PlanSpec) string {
+	tv := v.verdict
+	var b strings.Builder
+	switch tv.Status {
+	case sim.Adequate:
+		a := tv.SmallestN
+		fmt.Fprintf(&b, "Adequate from n = %d: coverage, variance and bias all pass there, and no n checked above it fails", a)
+		if v.windowTop > 0 {
+			fmt.Fprintf(&b, ", the window n = %d–%d included", a+1, v.windowTop)
+		}
+		b.WriteString(".")
+		switch prev, ok := v.below(a); {
+		case !ok:
+			b.WriteString(" It is the smallest n searched; smaller n were not checked.")
+		case prev.Row.Verdict != sim.Pass:
+			fmt.Fprintf(&b, " Not at n = %d, the largest n below it checked: %s.", prev.N, strings.Join(planProblems(prev.Row), "; and "))
+		default:
+			fmt.Fprintf(&b, " n = %d passes too, but a larger n failed, so adequacy could not start there.", prev.N)
+		}
+		if len(v.undecided) > 0 {
+			fmt.Fprintf(&b, " %d n above it stayed undecided within %d replicates (%s): they neither passed nor failed, so they do not move the answer, but the plan does not vouch for them either.",
+				len(v.undecided), spec.MaxReplicates, joinList(v.undecided))
+		}
+		if len(v.oscill) > 0 {
+			fmt.Fprintf(&b, " The verdict is not monotone in n: n = %s failed above an earlier passing n, and the search started again above it.", joinList(v.oscill))
+		}
+	case sim.NotReached:
+		fmt.Fprintf(&b, "Not adequate for any n up to %d that was checked.", spec.NMax)
+		if last, ok := v.stepAt(v.largestN); ok {
+			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
+		}
+	default:
+		b.WriteString("Undecided.")
+		if last, ok := v.stepAt(v.largestN); ok {
+			fmt.Fprintf(&b, " At n = %d, the largest checked, no criterion fails, but %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
+		}
+		fmt.Fprintf(&b, " %d replicates per n could not settle it.", spec.MaxReplicates)
+	}
+	return b.String()
+}
+
+// planProblems describes every criterion that does not pass at row r.
+func planProblems(r sim.Row) []string {
+	var out []string
+	for c, ch := range r.Checks {
+		if ch.Verdict != sim.Pass {
+			out = append(out, describePlanCheck(c, r, ch))
+		}
+	}
+	if len(out) == 0 {
+		out = append(out, "every criterion passes")
+	}
+	return out
+}
+
+// describePlanCheck says where criterion c's interval lay against its
+// band at row r. The interval is the plan's, widened for repeated looks.
+func describePlanCheck(c int, r sim.Row, ch sim.Check) string {
+	what := [...]string{"coverage", "the variance ratio", "the standardised bias"}[c]
+	value := fmt3([...]float64{r.Coverage, r.VarRatio, r.StdBias}[c])
+	iv := fmt.Sprintf("interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
+	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
+	switch {
+	case math.IsNaN(ch.Low) || math.IsNaN(ch.High):
+		return fmt.Sprintf("%s could not be estimated (%s)", what, band)
+	case ch.Verdict == sim.Fail && ch.High < ch.Band[0]:
+		return fmt.Sprintf("%s is below its band: %s (%s; %s)", what, value, iv, band)
+	case ch.Verdict == sim.Fail && ch.Low > ch.Band[1]:
+		return fmt.Sprintf("%s is above its band: %s (%s; %s)", what, value, iv, band)
+	}
+	var edges []string
+	for _, e := range ch.Band {
+		if ch.Low < e && e < ch.High {
+			edges = append(edges, fmt3(e))
+		}
+	}
+	if len(edges) == 0 {
+		return fmt.Sprintf("%s is not clearly inside its band: %s (%s; %s)", what, value, iv, band)
+	}
+	return fmt.Sprintf("%s is not clearly inside its band: %s (%s crosses %s)", what, value, iv, strings.Join(edges, " and "))
+}
