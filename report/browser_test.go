@@ -445,9 +445,45 @@ func TestBrowser(t *testing.T) {
 		t.Fatal(err)
 	}
 	rep := inspect(context.Background(), t, bin, page)
+	checkRendered(t, rep, 2*len(r.Study.Transforms))
+}
 
-	if len(rep.images) != 2*len(r.Study.Transforms) {
-		t.Errorf("%d images rendered, want %d", len(rep.images), 2*len(r.Study.Transforms))
+// TestBrowserPlan holds a plan's page to the same checks as the run's.
+// Its screenshots, when kept, go to a folder "plan" inside
+// $DELTAPROBE_BROWSER_SHOTS so they do not overwrite the run page's.
+func TestBrowserPlan(t *testing.T) {
+	bin := chromiumPath()
+	if bin == "" {
+		t.Skip("no Chromium binary (looked for /usr/bin/chromium, chromium-browser and chromium on PATH; DELTAPROBE_CHROMIUM unset): install the Debian package chromium to run this test")
+	}
+	if shots := os.Getenv("DELTAPROBE_BROWSER_SHOTS"); shots != "" {
+		sub := filepath.Join(shots, "plan")
+		if err := os.MkdirAll(sub, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		t.Setenv("DELTAPROBE_BROWSER_SHOTS", sub)
+	}
+	s, p := runPlan(t, planCases[0])
+	dir := t.TempDir()
+	if err := WritePlan(dir, s, p); err != nil {
+		t.Fatal(err)
+	}
+	page, err := filepath.Abs(filepath.Join(dir, PageFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rep := inspect(context.Background(), t, bin, page)
+	checkRendered(t, rep, len(s.Transforms))
+}
+
+// checkRendered holds what the browser made of a page to what a reader
+// needs: wantImages images, each decoded at its declared size; no
+// sideways scrolling on a phone; a print layout on a white ground that
+// fits the paper and prints; and nothing reported by the browser.
+func checkRendered(t *testing.T, rep pageReport, wantImages int) {
+	t.Helper()
+	if len(rep.images) != wantImages {
+		t.Errorf("%d images rendered, want %d", len(rep.images), wantImages)
 	}
 	for _, im := range rep.images {
 		if !im.Complete || im.Natural[0] == 0 || im.Natural[1] == 0 {

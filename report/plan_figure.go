@@ -262,9 +262,9 @@ func (a planAxis) measurePanel(m measure, c int, steps []sim.PlanStep, title str
 }
 
 // replicatesPanel draws the replicates behind each decision as bars,
-// topped by the overall verdict at that n, under a dashed line at the
-// most one n may take.
-func (a planAxis) replicatesPanel(steps []sim.PlanStep, budget int, title, xlabel string) *panel {
+// topped by the overall verdict at that n, under a dotted line at
+// perN, the most one n may take.
+func (a planAxis) replicatesPanel(steps []sim.PlanStep, perN int, title, xlabel string) *panel {
 	var st stems
 	var vp verdictPoints
 	for _, s := range steps {
@@ -285,13 +285,13 @@ func (a planAxis) replicatesPanel(steps []sim.PlanStep, budget int, title, xlabe
 	p := a.newPlot(xlabel, ylabel)
 	p.Y.Tick.Marker = stepTicks{maxLabels: 4}
 	a.addWindow(p)
-	p.Add(st, hLine{at: float64(budget), style: noiseLine}, vp)
+	p.Add(st, hLine{at: float64(perN), style: noiseLine}, vp)
 	if a.answer > 0 {
 		p.Add(vMark{at: float64(a.answer)})
 	}
 	p.X.Min, p.X.Max = a.xmin, a.xmax
-	// Room above the budget line for the markers on the tallest bars.
-	p.Y.Min, p.Y.Max = 0, 1.18*float64(max(budget, 1))
+	// Room above the line for the markers on the tallest bars.
+	p.Y.Min, p.Y.Max = 0, 1.18*float64(max(perN, 1))
 	return &panel{title: title, plot: p}
 }
 
@@ -415,7 +415,7 @@ func planLegend(v planView, spec sim.PlanSpec, level float64) []legendItem {
 		items = append(items, legendItem{label: "smallest adequate n = " + strconv.Itoa(a), thumbs: []plot.Thumbnailer{vMark{}}})
 	}
 	if v.windowTop > 0 {
-		items = append(items, legendItem{label: fmt.Sprintf("window checked, n = %d–%d", v.verdict.SmallestN+1, v.windowTop), thumbs: []plot.Thumbnailer{vWindow{}}})
+		items = append(items, legendItem{label: fmt.Sprintf("window above the answer, n = %d–%d", v.verdict.SmallestN+1, v.windowTop), thumbs: []plot.Thumbnailer{vWindow{}}})
 	}
 	items = append(items,
 		legendItem{label: "nominal level " + fmtG(level), thumbs: []plot.Thumbnailer{hLine{style: refStyle}}},
@@ -433,7 +433,7 @@ func planPhrase(v planView, spec sim.PlanSpec) string {
 			s += "; " + tv.Limiting + " sets it"
 		}
 		if v.windowTop > 0 {
-			s += fmt.Sprintf("; n = %d–%d checked above it", tv.SmallestN+1, v.windowTop)
+			s += fmt.Sprintf("; window above it n = %d–%d", tv.SmallestN+1, v.windowTop)
 		}
 		return s + "."
 	case sim.NotReached:

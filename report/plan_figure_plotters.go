@@ -176,11 +176,6 @@ func (s stems) DataRange() (xmin, xmax, ymin, ymax float64) {
 	return
 }
 
-func (s stems) Thumbnail(c *draw.Canvas) {
-	x := (c.Min.X + c.Max.X) / 2
-	c.StrokeLine2(stemStroke, x, c.Min.Y, x, c.Max.Y)
-}
-
 // vWindow shades lo ≤ x ≤ hi over the panel's full height, under
 // diagonal hatching: the integers above the answer that the plan also
 // checked.

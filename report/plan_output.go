@@ -57,7 +57,11 @@ func WritePlan(dir string, s *sim.Study, p *sim.PlanResult) error {
 			return err
 		}
 	}
-	return nil
+	page, err := PlanPage(s, p, figs)
+	if err != nil {
+		return err
+	}
+	return sim.WriteFileAtomic(filepath.Join(dir, PageFile), page)
 }
 
 // PlanTable prints, per transform, the answer, what limits it, the

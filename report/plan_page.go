@@ -127,7 +127,7 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 			Limiting:     dash(v.verdict.Limiting),
 			Checked:      len(v.steps),
 			Replicates:   v.replicates,
-			Window:       "–",
+			Window:       dash(""),
 			Oscillations: "none",
 			Undecided:    "none",
 			Why:          planExplain(v, spec),
@@ -136,14 +136,14 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 			line.Window = fmt.Sprintf("+%d (%d–%d)", v.window, v.verdict.SmallestN+1, v.windowTop)
 		}
 		if len(v.oscill) > 0 {
-			line.Oscillations = joinList(v.oscill)
+			line.Oscillations = joinInts(v.oscill)
 			if t < len(p.LargestFail) {
 				line.Oscillations += fmt.Sprintf("; largest %d", p.LargestFail[t])
 			}
-			d.Notes = append(d.Notes, fmt.Sprintf("%s: not monotone in n. n = %s failed above an earlier passing n, and the search started again above it.", info.Name, joinList(v.oscill)))
+			d.Notes = append(d.Notes, fmt.Sprintf("%s: not monotone in n. n = %s failed above an earlier passing n, and the search started again above it.", info.Name, joinInts(v.oscill)))
 		}
 		if len(v.undecided) > 0 {
-			line.Undecided = joinList(v.undecided)
+			line.Undecided = joinInts(v.undecided)
 			d.Notes = append(d.Notes, fmt.Sprintf("%s: %d n above the answer stayed undecided within %d replicates (they neither passed nor failed).", info.Name, len(v.undecided), spec.MaxReplicates))
 		}
 		d.Answers = append(d.Answers, line)
@@ -177,9 +177,6 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 	}
 	return d
 }
-
-// joinList writes n values as "136, 137, 138".
-func joinList(ns []int) string { return joinInts(ns) }
 
 func planCaption(v planView) string {
 	s := "Left: every n the search evaluated, on a log axis over the search range, with the Monte Carlo interval each decision used, widened for repeated looks; the marker gives that criterion's verdict at that n (filled circle pass, cross fail, open diamond unclear). Grey bands are the accepted bands."
@@ -240,13 +237,13 @@ func planExplain(v planView, spec sim.PlanSpec) string {
 		}
 		if len(v.undecided) > 0 {
 			fmt.Fprintf(&b, " %d n above it stayed undecided within %d replicates (%s): they neither passed nor failed, so they do not move the answer, but the plan does not vouch for them either.",
-				len(v.undecided), spec.MaxReplicates, joinList(v.undecided))
+				len(v.undecided), spec.MaxReplicates, joinInts(v.undecided))
 		}
 		if len(v.oscill) > 0 {
-			fmt.Fprintf(&b, " The verdict is not monotone in n: n = %s failed above an earlier passing n, and the search started again above it.", joinList(v.oscill))
+			fmt.Fprintf(&b, " The verdict is not monotone in n: n = %s failed above an earlier passing n, and the search started again above it.", joinInts(v.oscill))
 		}
 	case sim.NotReached:
-		fmt.Fprintf(&b, "Not adequate for any n up to %d that was checked.", spec.NMax)
+		fmt.Fprintf(&b, "Not adequate at any n checked, up to %d.", spec.NMax)
 		if last, ok := v.stepAt(v.largestN); ok {
 			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
 		}

@@ -164,6 +164,13 @@ func (p *planner) search(t int) error {
 			}
 		}
 		if worst == 0 {
+			// A window the budget could not look at vouches for nothing.
+			for m := pass + 1; m <= top; m++ {
+				if st := p.evals[[2]int{t, m}]; st.Budget && st.Row.Verdict == Unclear {
+					p.finish(t, -pass, window, largestFail, osc)
+					return nil
+				}
+			}
 			p.finish(t, pass, window, largestFail, osc)
 			return nil
 		}
@@ -254,8 +261,13 @@ func (p *planner) grow(res *Result, n, reps int) error {
 }
 
 // finish records the verdict of transform t: answer is the smallest
-// adequate n, or 0.
+// adequate n, or 0 when there is none, or −n when n passed but the budget
+// ran out before its window was checked (status unclear).
 func (p *planner) finish(t, answer, window, largestFail int, osc []int) {
+	budgetCut := answer < 0
+	if budgetCut {
+		answer = 0
+	}
 	var rows []Row
 	var ns []int
 	for key, st := range p.evals {
@@ -270,9 +282,10 @@ func (p *planner) finish(t, answer, window, largestFail int, osc []int) {
 	tv := verdictFor(rows)
 	// verdictFor sees only the evaluated points; the search's own answer
 	// (which respects the window) takes precedence.
-	if answer > 0 {
+	switch {
+	case answer > 0:
 		tv.Status, tv.SmallestN = Adequate, answer
-	} else if tv.Status == Adequate {
+	case budgetCut || tv.Status == Adequate:
 		tv.Status, tv.SmallestN = StatusUncl, 0
 	}
 	var undecided []int

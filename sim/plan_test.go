@@ -294,3 +294,33 @@ expr = "rate"
 		t.Errorf("a budget of 5000 replicates cannot establish adequacy here, got %+v", p.Verdicts[0])
 	}
 }
+
+// A pass whose window the budget left unchecked is not an answer.
+func TestPlanBudgetCutWindowIsUnclear(t *testing.T) {
+	s := mustParse(t, `seed = 5
+[plan]
+n_min = 100
+n_max = 400
+max_replicates = 4000
+batch = 2000
+[model]
+family = "normal"
+mean = 5.0
+sd = 1.0
+[[transform]]
+name = "mean"
+expr = "mean"
+`)
+	// The first look at n_min passes (the mean of normal data is exact);
+	// a budget of one look leaves the window unchecked.
+	p, err := Plan(context.Background(), s, 2000, Options{Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p.Steps[0].Row.Verdict != Pass {
+		t.Skipf("first look did not pass (%s); the case does not arise", p.Steps[0].Row.Verdict)
+	}
+	if v := p.Verdicts[0]; v.Status != StatusUncl || v.SmallestN != 0 {
+		t.Errorf("budget cut before the window: got %s at %d, want unclear", v.Status, v.SmallestN)
+	}
+}

@@ -521,7 +521,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 		return exitFailure
 	}
 	report.PlanTable(stdout, s, plan)
-	fmt.Fprintf(stderr, "wrote %s (plan.csv, verdicts.csv)\n", dir)
+	fmt.Fprintf(stderr, "wrote %s (plan.csv, verdicts.csv, figures, index.html)\n", dir)
 	return exitOK
 }
 

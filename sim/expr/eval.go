@@ -99,23 +99,31 @@ func (e *Evaluator) Value(x []float64) float64 {
 
 // ValueGrad returns τ(x) and writes its exact gradient into grad, which must
 // have length Dim(). It allocates nothing: this is the per-replicate path.
+//
+// The loop handles the arithmetic instructions inline and sends every
+// function call (log, exp, pow, ...) through unaryValueDeriv and
+// powPartials. Keeping calls out of the loop body is what lets the
+// compiler hold the loop's state in registers: with the calls inline, Go's
+// calling convention (every register caller-saved) made it spill and
+// reload about a dozen values per instruction.
 func (e *Evaluator) ValueGrad(x, grad []float64) float64 {
 	e.checkLength("x", len(x))
 	e.checkLength("grad", len(grad))
 	n := e.prog.dim
+	code := e.prog.code
 	val, gs := e.val, e.grad
-	for i := range e.prog.code {
-		in := &e.prog.code[i]
+	for i := range code {
+		in := &code[i]
 		d := int(in.dst)
 		g := gs[d*n : d*n+n]
 		u := val[d]
 		switch in.op {
 		case opConst:
 			val[d] = in.k
-			clear(g)
+			zero(g)
 		case opVar:
 			val[d] = x[in.arg]
-			clear(g)
+			zero(g)
 			g[in.arg] = 1
 		case opAdd:
 			val[d] = u + val[d+1]
@@ -140,10 +148,9 @@ func (e *Evaluator) ValueGrad(x, grad []float64) float64 {
 			val[d] = w
 			combine(g, gs[d*n+n:d*n+2*n], du, -w*du)
 		case opPow:
-			v := val[d+1]
-			w := math.Pow(u, v)
+			w, du, dv := powPartials(u, val[d+1])
 			val[d] = w
-			combine(g, gs[d*n+n:d*n+2*n], v*math.Pow(u, v-1), w*math.Log(u))
+			combine(g, gs[d*n+n:d*n+2*n], du, dv)
 		case opNeg:
 			val[d] = -u
 			scale(g, -1)
@@ -165,48 +172,65 @@ func (e *Evaluator) ValueGrad(x, grad []float64) float64 {
 		case opSquare:
 			val[d] = u * u
 			scale(g, 2*u)
-		case opPowK:
-			val[d] = math.Pow(u, in.k)
-			scale(g, powKDeriv(u, in.k))
-		case opLog:
-			val[d] = math.Log(u)
-			scale(g, 1/u)
-		case opExp:
-			w := math.Exp(u)
-			val[d] = w
-			scale(g, w)
-		case opSqrt:
-			w := math.Sqrt(u)
-			val[d] = w
-			scale(g, 0.5/w)
-		case opLog1p:
-			val[d] = math.Log1p(u)
-			scale(g, 1/(1+u))
-		case opExpm1:
-			val[d] = math.Expm1(u)
-			scale(g, math.Exp(u))
-		case opLogit:
-			val[d] = logit(u)
-			scale(g, logitDeriv(u))
-		case opExpit:
-			s, c := expitPair(u)
-			val[d] = s
-			scale(g, s*c)
-		case opTanh:
-			val[d] = math.Tanh(u)
-			scale(g, tanhDeriv(u))
-		case opAtanh:
-			val[d] = math.Atanh(u)
-			scale(g, atanhDeriv(u))
-		case opPhi:
-			val[d] = phi(u)
-			scale(g, normalDensity(u))
 		default:
-			panic(fmt.Sprintf("expr: ValueGrad met opcode %d", in.op))
+			w, du := unaryValueDeriv(in.op, u, in.k)
+			val[d] = w
+			scale(g, du)
 		}
 	}
-	copy(grad, gs[:n])
+	for j := 0; j < n; j++ {
+		grad[j] = gs[j]
+	}
 	return val[0]
+}
+
+// powPartials returns w = u^v and its partials v·u^(v-1) and w·log u.
+func powPartials(u, v float64) (w, du, dv float64) {
+	w = math.Pow(u, v)
+	return w, v * math.Pow(u, v-1), w * math.Log(u)
+}
+
+// unaryValueDeriv returns the value and first derivative of a built-in
+// function or a constant power, from the same helpers as the other
+// evaluation paths.
+func unaryValueDeriv(op opcode, u, k float64) (w, du float64) {
+	switch op {
+	case opPowK:
+		return math.Pow(u, k), powKDeriv(u, k)
+	case opLog:
+		return math.Log(u), 1 / u
+	case opExp:
+		w = math.Exp(u)
+		return w, w
+	case opSqrt:
+		w = math.Sqrt(u)
+		return w, 0.5 / w
+	case opLog1p:
+		return math.Log1p(u), 1 / (1 + u)
+	case opExpm1:
+		return math.Expm1(u), math.Exp(u)
+	case opLogit:
+		return logit(u), logitDeriv(u)
+	case opExpit:
+		s, c := expitPair(u)
+		return s, s * c
+	case opTanh:
+		return math.Tanh(u), tanhDeriv(u)
+	case opAtanh:
+		return math.Atanh(u), atanhDeriv(u)
+	case opPhi:
+		return phi(u), normalDensity(u)
+	}
+	panic(fmt.Sprintf("expr: ValueGrad met opcode %d", op))
+}
+
+// zero clears a gradient row. A counted loop rather than clear(), which
+// calls the runtime's memclr: for the few entries a row has, the call
+// costs more than the stores.
+func zero(g []float64) {
+	for j := 0; j < len(g); j++ {
+		g[j] = 0
+	}
 }
 
 // combine sets g = a·g + b·h, the chain rule for a two-operand op with

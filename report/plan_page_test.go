@@ -1,0 +1,293 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"deltaprobe/sim"
+)
+
+func TestWritePlan(t *testing.T) {
+	for _, c := range planCases {
+		t.Run(c.name, func(t *testing.T) {
+			s, p := runPlan(t, c)
+			dir := t.TempDir()
+			if err := WritePlan(dir, s, p); err != nil {
+				t.Fatal(err)
+			}
+			for _, name := range []string{"plan.csv", "verdicts.csv"} {
+				b, err := os.ReadFile(filepath.Join(dir, name))
+				if err != nil {
+					t.Fatal(err)
+				}
+				if _, err := csv.NewReader(bytes.NewReader(b)).ReadAll(); err != nil {
+					t.Errorf("%s does not parse as CSV: %v", name, err)
+				}
+			}
+			page, err := os.ReadFile(filepath.Join(dir, PageFile))
+			if err != nil {
+				t.Fatal(err)
+			}
+			checkPlanPage(t, dir, page, s, p)
+		})
+	}
+}
+
+func checkPlanPage(t *testing.T, dir string, page []byte, s *sim.Study, p *sim.PlanResult) {
+	t.Helper()
+	doc := parsePage(t, page)
+	text := string(page)
+
+	// Nothing from the network, no scripts.
+	for _, bad := range []string{"http://", "https://", "<script", "//cdn", "@import", "url("} {
+		if strings.Contains(strings.ToLower(text), bad) {
+			t.Errorf("index.html contains %q", bad)
+		}
+	}
+	if !strings.Contains(text, `name="viewport"`) {
+		t.Error("index.html has no viewport meta")
+	}
+
+	// One figure per transform, each beside the page, with alt text.
+	imgs := doc.find(named("img"))
+	if len(imgs) != len(s.Transforms) {
+		t.Errorf("%d images for %d transforms, want one each", len(imgs), len(s.Transforms))
+	}
+	for _, img := range imgs {
+		src := img.attrs["src"]
+		if src == "" || strings.ContainsAny(src, "/\\:") || !strings.HasSuffix(src, "-plan.png") {
+			t.Errorf("image source %q is not a plan figure beside the page", src)
+			continue
+		}
+		if _, err := os.Stat(filepath.Join(dir, src)); err != nil {
+			t.Errorf("image %q: %v", src, err)
+		}
+		if img.attrs["alt"] == "" {
+			t.Errorf("image %q has no alt text", src)
+		}
+	}
+	// Every link goes to a single anchor on the page or a file beside it.
+	for _, a := range doc.find(named("a")) {
+		href := a.attrs["href"]
+		if strings.HasPrefix(href, "#") {
+			if len(doc.find(func(e *element) bool { return e.attrs["id"] == href[1:] })) != 1 {
+				t.Errorf("link %q has no single target", href)
+			}
+			continue
+		}
+		if strings.ContainsAny(href, "/\\:") {
+			t.Errorf("link %q leaves the folder", href)
+		}
+		if _, err := os.Stat(filepath.Join(dir, href)); err != nil {
+			t.Errorf("link %q: %v", href, err)
+		}
+	}
+
+	// The answer table comes first, one row per transform, in order.
+	tables := doc.find(named("table"))
+	if len(tables) == 0 || !hasClass("table", "verdicts")(tables[0]) {
+		t.Fatal("the first table is not the answer table")
+	}
+	rows := tables[0].find(named("tr"))[1:]
+	if len(rows) != len(s.Transforms) {
+		t.Fatalf("answer table has %d rows for %d transforms", len(rows), len(s.Transforms))
+	}
+	for i, tr := range s.Transforms {
+		cells := rows[i].find(named("td"))
+		if len(cells) != 9 {
+			t.Fatalf("answer row %d has %d cells, want 9", i, len(cells))
+		}
+		v := p.Verdicts[i]
+		checked := 0
+		for _, st := range p.Steps {
+			if st.Transform == tr.Name {
+				checked++
+			}
+		}
+		for k, want := range map[int]string{
+			0: tr.Name,
+			1: dash(formatN(v.SmallestN)),
+			2: statusText(v.Status),
+			4: strconv.Itoa(checked),
+		} {
+			if got := cells[k].text.String(); got != want {
+				t.Errorf("%s: answer column %d is %q, want %q", tr.Name, k, got, want)
+			}
+		}
+		if len(p.Undecided[i]) > 0 && cells[8].text.String() != joinInts(p.Undecided[i]) {
+			t.Errorf("%s: undecided %q, want %q", tr.Name, cells[8].text.String(), joinInts(p.Undecided[i]))
+		}
+	}
+	whys := doc.find(hasClass("ul", "why"))
+	if len(whys) != 1 || len(whys[0].find(named("li"))) != len(s.Transforms) {
+		t.Error("want one explaining sentence per transform")
+	}
+
+	// The evaluations table is plan.csv: its columns, a row per step.
+	evals := doc.find(hasClass("table", "summary"))
+	if len(evals) != 1 {
+		t.Fatalf("%d evaluation tables, want 1", len(evals))
+	}
+	var headers []string
+	for _, th := range evals[0].find(named("th")) {
+		headers = append(headers, th.text.String())
+	}
+	if strings.Join(headers, ",") != strings.Join(PlanColumns, ",") {
+		t.Errorf("evaluation table columns %q, want plan.csv's %q", headers, PlanColumns)
+	}
+	if n := len(evals[0].find(named("tr"))) - 1; n != len(p.Steps) {
+		t.Errorf("evaluation table has %d rows for %d steps", n, len(p.Steps))
+	}
+
+	// The method, the caution, the study file as run, and provenance.
+	body := doc.text.String()
+	exhausted := "no"
+	if p.Exhausted {
+		exhausted = "yes"
+	}
+	for _, must := range []string{
+		p.Method,
+		"only under the model this study states",
+		"qualified statistician",
+		"regulatory or sponsor guidance",
+		"pre-specified analysis plan",
+		s.SHA256,
+		"deltaprobe " + sim.Version,
+		strconv.FormatUint(s.Seed, 10),
+		strconv.FormatInt(p.Total, 10),
+		"Budget cap reached" + exhausted,
+	} {
+		if !strings.Contains(body, must) {
+			t.Errorf("page does not say %q", must)
+		}
+	}
+	pres := doc.find(named("pre"))
+	if len(pres) != 1 || pres[0].text.String() != string(s.Source) {
+		t.Error("the study file is not on the page exactly as run")
+	}
+	if s.Title != "" && doc.find(named("h1"))[0].text.String() != s.Title {
+		t.Errorf("heading %q, want the study title %q", doc.find(named("h1"))[0].text.String(), s.Title)
+	}
+}
+
+// The page depends on the study and the plan alone.
+func TestPlanPageDeterministic(t *testing.T) {
+	s, p := runPlan(t, planCases[0])
+	figs, err := PlanFigures(s, p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := PlanPage(s, p, figs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b, err := PlanPage(s, p, figs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.Equal(a, b) {
+		t.Error("two renderings of the same page differ")
+	}
+}
+
+// The study's title and source reach the page escaped, never as markup;
+// the style sheet is the run page's, as it is.
+func TestPlanPageEscapes(t *testing.T) {
+	s, p := runPlan(t, planCases[0])
+	page, err := PlanPage(s, p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := string(page)
+	for _, raw := range []string{"<and>", `a < b & "c"`} {
+		if strings.Contains(text, raw) {
+			t.Errorf("page carries %q unescaped", raw)
+		}
+	}
+	if !strings.Contains(text, "Plan &lt;and&gt; search &amp; co") {
+		t.Error("title not escaped as expected")
+	}
+	if len(pageStyle) < 1000 || !strings.Contains(text, string(pageStyle)) {
+		t.Error("the plan page does not carry the run page's style sheet unchanged")
+	}
+}
+
+func TestPlanExplain(t *testing.T) {
+	P, F, U := sim.Pass, sim.Fail, sim.Unclear
+	spec := sim.PlanSpec{NMin: 5, NMax: 400, MaxReplicates: 20000}
+	withRows := func(st []sim.PlanStep, rows map[int]sim.Row) []sim.PlanStep {
+		for i := range st {
+			if r, ok := rows[st[i].N]; ok {
+				st[i].Row = r
+			}
+		}
+		return st
+	}
+	tests := []struct {
+		name string
+		v    planView
+		want []string
+	}{
+		{
+			"adequate, coverage below the band just under it",
+			planView{
+				steps: withRows(steps([]int{5, 10, 20, 15, 16, 17, 18}, []sim.Verdict{F, F, P, F, P, P, P}),
+					map[int]sim.Row{15: row(15, covLow, varOK, biasOK), 16: row(16, covOK, varOK, biasOK)}),
+				verdict: sim.TransformVerdict{SmallestN: 16, Status: sim.Adequate, Limiting: "coverage"},
+				window:  3, windowTop: 19,
+			},
+			[]string{"Adequate from n = 16", "the window n = 17–19 included", "Not at n = 15, the largest n below it checked: coverage is below its band: 0.905", "interval 0.901 to 0.909; band 0.925 to 0.975"},
+		},
+		{
+			"adequate at the bottom of the range, with undecided n above",
+			planView{
+				steps:   steps([]int{5, 6, 7, 8}, []sim.Verdict{P, U, P, U}),
+				verdict: sim.TransformVerdict{SmallestN: 5, Status: sim.Adequate, Limiting: "none"},
+				window:  3, windowTop: 8, undecided: []int{6, 8},
+			},
+			[]string{"Adequate from n = 5", "smallest n searched", "2 n above it stayed undecided within 20000 replicates (6, 8)"},
+		},
+		{
+			"oscillation",
+			planView{
+				steps:   steps([]int{5, 10, 20, 21, 22, 23}, []sim.Verdict{F, P, F, P, P, P}),
+				verdict: sim.TransformVerdict{SmallestN: 21, Status: sim.Adequate, Limiting: "coverage"},
+				window:  3, windowTop: 24, oscill: []int{20},
+			},
+			[]string{"Adequate from n = 21", "Not at n = 20", "not monotone in n: n = 20 failed above an earlier passing n"},
+		},
+		{
+			"not reached",
+			planView{
+				steps:    withRows(steps([]int{5, 10, 20}, []sim.Verdict{F, F, F}), map[int]sim.Row{20: row(20, covOK, varHigh, biasBig)}),
+				verdict:  sim.TransformVerdict{Status: sim.NotReached, Limiting: "variance"},
+				largestN: 20,
+			},
+			[]string{"Not adequate at any n checked, up to 400", "At n = 20, the largest checked, the variance ratio is above its band: 1.250", "; and the standardised bias is above its band: 0.200"},
+		},
+		{
+			"undecided",
+			planView{
+				steps:    withRows(steps([]int{5, 10}, []sim.Verdict{F, U}), map[int]sim.Row{10: row(10, covEdge, varOK, biasOK)}),
+				verdict:  sim.TransformVerdict{Status: sim.StatusUncl, Limiting: "coverage"},
+				largestN: 10,
+			},
+			[]string{"Undecided", "At n = 10, the largest checked, no criterion fails, but coverage is not clearly inside its band: 0.925 (interval 0.920 to 0.930 crosses 0.925)", "20000 replicates per n could not settle it"},
+		},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			got := planExplain(tc.v, spec)
+			for _, w := range tc.want {
+				if !strings.Contains(got, w) {
+					t.Errorf("planExplain = %q\nwant it to contain %q", got, w)
+				}
+			}
+		})
+	}
+}
