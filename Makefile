@@ -24,15 +24,17 @@ fuzz:
 	$(GO) test ./sim/expr -run='^$$' -fuzz=FuzzCompile -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 	$(GO) test ./sim -run='^$$' -fuzz=FuzzParse -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 
-# The issue-6 benchmark: sim.Run against the hand-written floor loop on
-# studies/bench_reference.toml, in one process (cmd/deltabench), then the
-# parts (sampling, transforms, accumulators, one replicate) with -benchmem.
-# Both go to bench.txt; the machine is shared, so read the medians.
-bench:
-	$(GO) run ./cmd/deltabench -o bench.txt
+# The performance benchmark: sim.Run against the hand-written floor loop on
+# studies/bench_reference.toml in one process (cmd/deltabench), memory at
+# 10^4 and 10^6 replicates per n (sim.Run alone and `deltaprobe run`), then
+# the parts (sampling, transforms, accumulators, one replicate) with
+# -benchmem. All of it goes to bench.txt. The machine may be shared: read
+# the medians, and the share of CPU other processes took, which it prints.
+bench: build
+	$(GO) run ./cmd/deltabench -cli ./deltaprobe -o bench.txt
 	$(GO) test ./sim/... -run='^$$' -bench=. -benchmem -count=1 > bench.txt.tmp
 	@cat bench.txt.tmp
-	@{ echo; echo "# parts: go test ./sim/... -bench=. -benchmem"; cat bench.txt.tmp; } >> bench.txt
+	@{ echo; echo "# parts: go test ./sim/... -run='^$$' -bench=. -benchmem"; cat bench.txt.tmp; } >> bench.txt
 	@rm -f bench.txt.tmp
 
 clean:

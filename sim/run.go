@@ -123,27 +123,41 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 		want = res.Shard.Want(s)
 	}
 
-	var jobs []job
+	// pending[ni][b] marks the blocks to run. Jobs are not listed: a
+	// list of 10⁶ replicates' blocks, grown by append, is most of the
+	// memory a run would otherwise gain with its replicates.
+	per := Blocks(s.Replicates)
+	pending := make([][]bool, len(s.SampleSizes))
 	var total int64
+	var count int
 	for ni, n := range s.SampleSizes {
-		have := map[int]bool{}
+		pending[ni] = make([]bool, per)
+		for b := range pending[ni] {
+			pending[ni][b] = want == nil || want(ni, b)
+		}
 		if len(res.Cells) > 0 {
 			for _, b := range res.Cells[0][ni].Blocks {
-				have[b.Block] = true
+				if b.Block < per {
+					pending[ni][b.Block] = false
+				}
 			}
 		}
-		for b := 0; b < Blocks(s.Replicates); b++ {
-			if have[b] || (want != nil && !want(ni, b)) {
-				continue
+		for b, p := range pending[ni] {
+			if p {
+				count++
+				total += int64(blockCount(s.Replicates, b)) * int64(s.drawsPerReplicate(n))
 			}
-			count := min(BlockSize, s.Replicates-b*BlockSize)
-			jobs = append(jobs, job{ni, b, count})
-			total += int64(count) * int64(s.drawsPerReplicate(n))
 		}
 	}
-	// Largest sample sizes first, so no worker is left with a long block
+	// Job i runs block i mod per of the (i / per)-th largest sample size:
+	// largest sample sizes first, so no worker is left with a long block
 	// at the end.
-	sort.SliceStable(jobs, func(i, j int) bool { return jobs[i].ni > jobs[j].ni })
+	slots := len(s.SampleSizes) * per
+	jobAt := func(i int) (job, bool) {
+		ni := len(s.SampleSizes) - 1 - i/per
+		b := i % per
+		return job{ni, b, blockCount(s.Replicates, b)}, pending[ni][b]
+	}
 
 	lastCheckpoint := time.Now()
 	var (
@@ -155,7 +169,7 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 		errOnce  sync.Once
 	)
 	fail := func(err error) { errOnce.Do(func() { firstErr = err }) }
-	for w := 0; w < min(workers, len(jobs)); w++ {
+	for w := 0; w < min(workers, count); w++ {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
@@ -165,13 +179,16 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 					return
 				}
 				i := int(next.Add(1) - 1)
-				if i >= len(jobs) {
+				if i >= slots {
 					return
 				}
-				j := jobs[i]
+				j, ok := jobAt(i)
+				if !ok {
+					continue
+				}
 				if err := wk.safeRun(j); err != nil {
 					fail(err)
-					next.Store(int64(len(jobs)))
+					next.Store(int64(slots))
 					return
 				}
 				mu.Lock()
@@ -185,7 +202,7 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 					sortBlocks(res)
 					if err := opt.Checkpoint(res); err != nil {
 						fail(fmt.Errorf("saving the state: %w", err))
-						next.Store(int64(len(jobs)))
+						next.Store(int64(slots))
 					}
 				}
 				mu.Unlock()
@@ -244,6 +261,9 @@ func (res *Result) missingBlocks(r int) int {
 	return missing
 }
 
+// blockCount is the number of replicates in block b of r.
+func blockCount(r, b int) int { return min(BlockSize, r-b*BlockSize) }
+
 func (s *Study) drawsPerReplicate(n int) int {
 	d := 0
 	for a := range s.Arms {
@@ -254,10 +274,11 @@ func (s *Study) drawsPerReplicate(n int) int {
 
 // pad is the room kept free on each side of a worker's hot state: two
 // 64-byte cache lines, because x86 cores' adjacent-line prefetchers move
-// lines in 128-byte pairs. Without it the allocator puts two workers'
-// small buffers (PCG state, θ̂, gradient, counters) side by side, and each
-// draw by one worker invalidates a line the other is using; measured, that
-// cost more than the accumulators.
+// lines in 128-byte pairs. Without it the allocator put two workers'
+// small buffers side by side (their PCG states were 128 bytes apart, the
+// rest of their 16-byte buffers between them), so a draw by one worker
+// could invalidate a line the other was using: false sharing on every
+// draw, which no amount of work on the replicate would recover.
 const pad = 128
 
 // padded returns n zero values of T with at least pad bytes of unused

@@ -102,10 +102,12 @@ func (e *Evaluator) Value(x []float64) float64 {
 //
 // The loop handles the arithmetic instructions inline and sends every
 // function call (log, exp, pow, ...) through unaryValueDeriv and
-// powPartials. Keeping calls out of the loop body is what lets the
-// compiler hold the loop's state in registers: with the calls inline, Go's
-// calling convention (every register caller-saved) made it spill and
-// reload about a dozen values per instruction.
+// powPartials, and it clears and copies gradient rows with plain loops
+// rather than clear and copy, which call the runtime. Keeping calls out of
+// the loop body lets the compiler hold the loop's state in registers: with
+// the math calls inline, Go's calling convention (no register survives a
+// call) had it reload several values on every instruction. The split
+// measured about a fifth faster on a reciprocal and on a log odds ratio.
 func (e *Evaluator) ValueGrad(x, grad []float64) float64 {
 	e.checkLength("x", len(x))
 	e.checkLength("grad", len(grad))
