@@ -549,7 +549,7 @@ func verdictPhrase(v sim.TransformVerdict) string {
 		return fmt.Sprintf("Adequate from n = %d; %s sets it.", v.SmallestN, v.Limiting)
 	case sim.NotReached:
 		return fmt.Sprintf("Not adequate within the grid; %s fails at the largest n.", v.Limiting)
-	case sim.StatusUncl:
+	case sim.StatusUnclear:
 		return fmt.Sprintf("Undecided: %s is unclear at the largest n.", v.Limiting)
 	}
 	return ""

@@ -183,7 +183,7 @@ func statusText(s sim.Status) string {
 		return "adequate"
 	case sim.NotReached:
 		return "not reached"
-	case sim.StatusUncl:
+	case sim.StatusUnclear:
 		return "unclear"
 	}
 	return string(s)

@@ -44,7 +44,7 @@ func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
 		return s
 	case sim.NotReached:
 		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, strings.Join(problems(last, crit), "; and "))
-	case sim.StatusUncl:
+	case sim.StatusUnclear:
 		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, strings.Join(problems(last, crit), "; and "))
 	}
 	return ""

@@ -338,7 +338,7 @@ func TestExplain(t *testing.T) {
 		{
 			"unclear",
 			[]sim.Row{row(5, covLow, varOK, biasOK), row(10, covEdge, varOK, biasOK)},
-			sim.TransformVerdict{Status: sim.StatusUncl, Limiting: "coverage"},
+			sim.TransformVerdict{Status: sim.StatusUnclear, Limiting: "coverage"},
 			[]string{"Undecided", "no criterion fails", "coverage is not clearly inside its band: 0.925", "crosses the band's edge at 0.925", "More replicates"},
 		},
 	}

@@ -62,7 +62,7 @@ func newPlanView(s *sim.Study, p *sim.PlanResult, t int) planView {
 	if t < len(p.Verdicts) {
 		v.verdict = p.Verdicts[t]
 	} else {
-		v.verdict = sim.TransformVerdict{Transform: tr.Name, Status: sim.StatusUncl}
+		v.verdict = sim.TransformVerdict{Transform: tr.Name, Status: sim.StatusUnclear}
 	}
 	if t < len(p.Window) {
 		v.window = p.Window[t]

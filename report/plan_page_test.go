@@ -274,7 +274,7 @@ func TestPlanExplain(t *testing.T) {
 			"undecided",
 			planView{
 				steps:    withRows(steps([]int{5, 10}, []sim.Verdict{F, U}), map[int]sim.Row{10: row(10, covEdge, varOK, biasOK)}),
-				verdict:  sim.TransformVerdict{Status: sim.StatusUncl, Limiting: "coverage"},
+				verdict:  sim.TransformVerdict{Status: sim.StatusUnclear, Limiting: "coverage"},
 				largestN: 10,
 			},
 			[]string{"Undecided", "At n = 10, the largest checked, no criterion fails, but coverage is not clearly inside its band: 0.925 (interval 0.920 to 0.930 crosses 0.925)", "20000 replicates per n could not settle it"},

@@ -84,22 +84,36 @@ func Plan(ctx context.Context, s *Study, budget int64, opt Options) (*PlanResult
 
 func normalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }
 
-// window is how many integers above a candidate are checked: 10% of it,
-// at least 3 and at most 25 unless the study says otherwise. Coverage of
-// discrete data oscillates in n (Brown, Cai & DasGupta 2001), so a pass
-// at one n says little about the next; the window bounds what the plan
-// can vouch for, and is reported.
+// window is how many integers above a candidate are checked, unless the
+// study says: for discrete data 20% of it, from 10 to 60 integers, since
+// coverage of a Wald interval for discrete data oscillates in n (Brown,
+// Cai & DasGupta 2001), so a pass at one n says little about the next;
+// for continuous data 10%, from 3 to 25, where the check guards against
+// Monte Carlo luck rather than oscillation. The window bounds what the
+// plan can vouch for, and is reported.
 func (p *planner) window(c int) int {
 	if p.spec.Window > 0 {
 		return p.spec.Window
 	}
+	if p.s.discrete() {
+		return min(60, max(10, int(math.Ceil(0.2*float64(c)))))
+	}
 	return min(25, max(3, int(math.Ceil(0.1*float64(c)))))
+}
+
+// discrete reports whether any arm draws discrete data.
+func (s *Study) discrete() bool {
+	for _, a := range s.Arms {
+		switch a.Family {
+		case "bernoulli", "binomial", "poisson":
+			return true
+		}
+	}
+	return false
 }
 
 func (p *planner) search(t int) error {
 	lo, hi := p.spec.NMin, p.spec.NMax
-	largestFail := 0
-	var osc []int
 	window := 0
 	// bracket returns the smallest passing n found by doubling from
 	// start, and the last non-passing n before it (0 if none).
@@ -126,7 +140,7 @@ func (p *planner) search(t int) error {
 	}
 	for {
 		if pass == 0 {
-			p.finish(t, 0, window, largestFail, osc)
+			p.finish(t, 0, window, false)
 			return nil
 		}
 		// Bisect on integers between the last failure and the pass.
@@ -167,17 +181,15 @@ func (p *planner) search(t int) error {
 			// A window the budget could not look at vouches for nothing.
 			for m := pass + 1; m <= top; m++ {
 				if st := p.evals[[2]int{t, m}]; st.Budget && st.Row.Verdict == Unclear {
-					p.finish(t, -pass, window, largestFail, osc)
+					p.finish(t, pass, window, true)
 					return nil
 				}
 			}
-			p.finish(t, pass, window, largestFail, osc)
+			p.finish(t, pass, window, false)
 			return nil
 		}
-		osc = append(osc, worst)
-		largestFail = max(largestFail, worst)
 		if worst >= hi {
-			p.finish(t, 0, window, largestFail, osc)
+			p.finish(t, 0, window, false)
 			return nil
 		}
 		// Search again above the failure.
@@ -260,43 +272,87 @@ func (p *planner) grow(res *Result, n, reps int) error {
 	return nil
 }
 
-// finish records the verdict of transform t: answer is the smallest
-// adequate n, or 0 when there is none, or −n when n passed but the budget
-// ran out before its window was checked (status unclear).
-func (p *planner) finish(t, answer, window, largestFail int, osc []int) {
-	budgetCut := answer < 0
-	if budgetCut {
-		answer = 0
-	}
-	var rows []Row
-	var ns []int
+// finish records the verdict of transform t from everything evaluated
+// for it. answer is the search's smallest adequate n (0: none); budgetCut
+// says the budget ran out before answer's window was checked, which makes
+// the status unclear.
+//
+// The per-criterion columns follow the answer's own rule: the smallest
+// evaluated n where the criterion passed and above which no evaluated n
+// failed it (an undecided n does not count against it), so the limiting
+// criterion's n never exceeds smallest_n.
+func (p *planner) finish(t, answer, window int, budgetCut bool) {
+	var steps []PlanStep
 	for key, st := range p.evals {
 		if key[0] == t {
-			ns = append(ns, st.N)
+			steps = append(steps, st)
 		}
 	}
-	sort.Ints(ns)
-	for _, n := range ns {
-		rows = append(rows, p.evals[[2]int{t, n}].Row)
+	sort.Slice(steps, func(i, j int) bool { return steps[i].N < steps[j].N })
+	tv := TransformVerdict{Transform: p.s.Transforms[t].Name}
+	for c := range CriterionNames {
+		for i := len(steps) - 1; i >= 0; i-- {
+			v := steps[i].Row.Checks[c].Verdict
+			if v == Fail {
+				break
+			}
+			if v == Pass {
+				tv.PerCriterion[c] = steps[i].N
+			}
+		}
 	}
-	tv := verdictFor(rows)
-	// verdictFor sees only the evaluated points; the search's own answer
-	// (which respects the window) takes precedence.
+	top := steps[len(steps)-1].Row
 	switch {
-	case answer > 0:
+	case answer > 0 && !budgetCut:
 		tv.Status, tv.SmallestN = Adequate, answer
-	case budgetCut || tv.Status == Adequate:
-		tv.Status, tv.SmallestN = StatusUncl, 0
+		tv.Limiting = "none"
+		if answer > p.spec.NMin {
+			best := 0
+			for c := range CriterionNames {
+				if tv.PerCriterion[c] > best {
+					best, tv.Limiting = tv.PerCriterion[c], CriterionNames[c]
+				}
+			}
+		}
+	case budgetCut || top.Verdict != Fail:
+		tv.Status = StatusUnclear
+	default:
+		tv.Status = NotReached
 	}
-	var undecided []int
-	for _, n := range ns {
-		if st := p.evals[[2]int{t, n}]; answer > 0 && n > answer && st.Row.Verdict == Unclear {
-			undecided = append(undecided, n)
+	if tv.Status != Adequate {
+		want := top.Verdict
+		if tv.Status == StatusUnclear && want == Pass {
+			want = Unclear
+		}
+		for c := range CriterionNames {
+			if top.Checks[c].Verdict == want {
+				tv.Limiting = CriterionNames[c]
+				break
+			}
+		}
+	}
+	// Oscillation: a failure above the smallest n that ever passed.
+	firstPass := 0
+	for _, st := range steps {
+		if st.Row.Verdict == Pass {
+			firstPass = st.N
+			break
+		}
+	}
+	var osc, undecided []int
+	largest := 0
+	for _, st := range steps {
+		if firstPass > 0 && st.N > firstPass && st.Row.Verdict == Fail {
+			osc = append(osc, st.N)
+			largest = st.N
+		}
+		if tv.Status == Adequate && st.N > answer && st.Row.Verdict == Unclear {
+			undecided = append(undecided, st.N)
 		}
 	}
 	p.out.Undecided = append(p.out.Undecided, undecided)
 	p.out.Verdicts = append(p.out.Verdicts, tv)
 	p.out.Window = append(p.out.Window, window)
-	p.out.LargestFail = append(p.out.LargestFail, largestFail)
+	p.out.LargestFail = append(p.out.LargestFail, largest)
 	p.out.Oscillations = append(p.out.Oscillations, osc)
 }

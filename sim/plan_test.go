@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
@@ -320,7 +321,68 @@ expr = "mean"
 	if p.Steps[0].Row.Verdict != Pass {
 		t.Skipf("first look did not pass (%s); the case does not arise", p.Steps[0].Row.Verdict)
 	}
-	if v := p.Verdicts[0]; v.Status != StatusUncl || v.SmallestN != 0 {
+	if v := p.Verdicts[0]; v.Status != StatusUnclear || v.SmallestN != 0 {
 		t.Errorf("budget cut before the window: got %s at %d, want unclear", v.Status, v.SmallestN)
+	}
+}
+
+// The plan's verdicts.csv agrees with itself: when adequate, the limiting
+// criterion's own n is smallest_n and no criterion needs more.
+func TestPlanVerdictsAreConsistent(t *testing.T) {
+	for _, src := range []string{`seed = 6
+[plan]
+n_min = 5
+n_max = 400
+max_replicates = 20000
+[model]
+family = "exponential"
+rate = 0.4
+[[transform]]
+name = "rate"
+expr = "rate"
+[[transform]]
+name = "log_rate"
+expr = "log(rate)"
+`, `seed = 7
+[plan]
+n_min = 10
+n_max = 300
+max_replicates = 10000
+[model]
+family = "bernoulli"
+p = 0.1
+[[transform]]
+name = "p"
+expr = "p"
+`} {
+		_, p := runPlan(t, src)
+		for i, v := range p.Verdicts {
+			if v.Status != Adequate {
+				continue
+			}
+			for c, n := range v.PerCriterion {
+				if n == 0 || n > v.SmallestN {
+					t.Errorf("%s: %s alone from %d, but adequate from %d", v.Transform, CriterionNames[c], n, v.SmallestN)
+				}
+			}
+			if v.Limiting != "none" {
+				c := slices.Index(CriterionNames[:], v.Limiting)
+				if c < 0 || v.PerCriterion[c] != v.SmallestN {
+					t.Errorf("%s: limiting %q with n %v, smallest_n %d", v.Transform, v.Limiting, v.PerCriterion, v.SmallestN)
+				}
+			}
+			// Every failure above the first pass is reported.
+			first := 0
+			for _, st := range p.Steps {
+				if st.Transform == v.Transform && st.Row.Verdict == Pass && (first == 0 || st.N < first) {
+					first = st.N
+				}
+			}
+			for _, st := range p.Steps {
+				if st.Transform == v.Transform && st.N > first && st.Row.Verdict == Fail && !slices.Contains(p.Oscillations[i], st.N) {
+					t.Errorf("%s: failure at n=%d above the first pass %d not reported", v.Transform, st.N, first)
+				}
+			}
+		}
 	}
 }

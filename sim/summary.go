@@ -222,9 +222,9 @@ type Status string
 
 // The three statuses of verdicts.csv.
 const (
-	Adequate   Status = "adequate"
-	NotReached Status = "not_reached"
-	StatusUncl Status = "unclear"
+	Adequate      Status = "adequate"
+	NotReached    Status = "not_reached"
+	StatusUnclear Status = "unclear"
 )
 
 // TransformVerdict is one line of verdicts.csv.
@@ -288,7 +288,7 @@ func verdictFor(rows []Row) TransformVerdict {
 	if top == Fail {
 		tv.Status = NotReached
 	} else {
-		tv.Status = StatusUncl
+		tv.Status = StatusUnclear
 	}
 	last := rows[len(rows)-1]
 	for c := range CriterionNames {
