@@ -1,7 +1,6 @@
 package sim
 
 import (
-	"fmt"
 	"math/rand/v2"
 	"sort"
 )
@@ -89,6 +88,3 @@ func anyReal(v float64) bool    { return true }
 func openUnit(v float64) bool   { return v > 0 && v < 1 }
 func openSigned(v float64) bool { return v > -1 && v < 1 }
 func atLeastOne(v float64) bool { return v >= 1 }
-func unknownParam(f, p string) error {
-	return fmt.Errorf("sim: family %s has no parameter %q", f, p)
-}

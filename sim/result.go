@@ -1,6 +1,8 @@
 package sim
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -225,6 +227,9 @@ func LoadResult(path string) (*Result, error) {
 	var r Result
 	if err := json.Unmarshal(b, &r); err != nil {
 		return nil, fmt.Errorf("%s is not a valid result file: %w", path, err)
+	}
+	if sum := sha256.Sum256([]byte(r.Study.Source)); hex.EncodeToString(sum[:]) != r.Study.SHA256 {
+		return nil, fmt.Errorf("%s has been edited: its study text does not match its SHA-256 %.12s…", path, r.Study.SHA256)
 	}
 	if r.Layout != ResultVersion {
 		return nil, fmt.Errorf("%s has result layout %d; this deltaprobe reads layout %d", path, r.Layout, ResultVersion)

@@ -310,6 +310,8 @@ type worker struct {
 	evals  []*expr.Evaluator
 	accs   []cellAcc
 	useArm [][]bool // [transform][arm]: whether the transform reads the arm
+	rep    int      // replicate within the block, for panic reports
+	stage  int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
 	_      [pad]byte
 }
 
@@ -366,12 +368,25 @@ func newWorker(s *Study, res *Result) *worker {
 	return w
 }
 
+func armLabel(a Arm) string {
+	if a.Name == "" {
+		return "[model] (" + a.Family + ")"
+	}
+	return a.Name + " (" + a.Family + ")"
+}
+
 // safeRun turns a panic in a family or transform into an error that names
 // the cell, so one bad replicate fails the run instead of hanging it.
 func (w *worker) safeRun(j job) (err error) {
 	defer func() {
 		if p := recover(); p != nil {
-			err = fmt.Errorf("internal error at n=%d, block %d: %v\n%s", w.s.SampleSizes[j.ni], j.block, p, debug.Stack())
+			where := ""
+			if na := len(w.s.Arms); w.stage < na {
+				where = "fitting arm " + armLabel(w.s.Arms[w.stage])
+			} else if t := w.stage - na; t < len(w.s.Transforms) {
+				where = "scoring transform " + w.s.Transforms[t].Name
+			}
+			err = fmt.Errorf("internal error at n=%d, block %d, replicate %d, %s: %v\n%s", w.s.SampleSizes[j.ni], j.block, w.rep, where, p, debug.Stack())
 		}
 	}()
 	w.runBlock(j)
@@ -393,7 +408,7 @@ func (w *worker) runBlock(j job) {
 		acc.delta.reset()
 		acc.wald.reset()
 	}
-	for r := 0; r < j.count; r++ {
+	for w.rep = 0; w.rep < j.count; w.rep++ {
 		w.replicate()
 	}
 	// A block holds at most BlockSize replicates, so its estimates are
@@ -410,6 +425,7 @@ func (w *worker) replicate() {
 	// Arms by pointer: an Arm is several words, and this runs per replicate.
 	for a := range s.Arms {
 		arm := &s.Arms[a]
+		w.stage = a
 		theta := w.theta[arm.Offset:]
 		if !arm.Model.Fit(&w.rng, w.sizes[a], theta) {
 			fitted = false
@@ -419,6 +435,7 @@ func (w *worker) replicate() {
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]
+		w.stage = len(s.Arms) + t
 		if !fitted {
 			acc.undefined++
 			acc.fitFail++

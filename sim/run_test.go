@@ -112,7 +112,7 @@ func TestRunRecoversWorkerPanic(t *testing.T) {
 	s := mustParse(t, twoArmStudy)
 	s.Arms[0].Model = &panicModel{Model: s.Arms[0].Model}
 	_, err := Run(context.Background(), s, Options{Workers: 1})
-	if err == nil || !strings.Contains(err.Error(), "boom") || !strings.Contains(err.Error(), "n=") {
+	if err == nil || !strings.Contains(err.Error(), "boom") || !strings.Contains(err.Error(), "n=60, block 0, replicate 2, fitting arm a (normal)") {
 		t.Fatalf("err = %v, want the panic reported with its cell", err)
 	}
 }

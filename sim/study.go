@@ -613,8 +613,11 @@ func checkAtTruth(s *Study, t Transform) error {
 			return fmt.Errorf("its gradient at the true parameters is not finite; the delta method needs a differentiable transform at the truth")
 		}
 	}
-	if dv := s.deltaVar(grad, theta, s.SampleSizesOr(2)); !(dv > 0) || math.IsInf(dv, 0) {
-		return fmt.Errorf("its delta-method variance at the true parameters (%s) is %v; where the gradient vanishes the first-order method says nothing, and deltaprobe offers no higher-order one", truthText(s, theta), dv)
+	switch dv := s.deltaVar(grad, theta, s.SampleSizesOr(2)); {
+	case math.IsInf(dv, 0) || math.IsNaN(dv):
+		return fmt.Errorf("its delta-method variance at the true parameters (%s) is %v: the gradient is too large for its square to be represented; rescale the transform", truthText(s, theta), dv)
+	case !(dv > 0):
+		return fmt.Errorf("its delta-method variance at the true parameters (%s) is 0: the gradient vanishes there (or underflows), and where it vanishes the first-order method says nothing; deltaprobe offers no higher-order one", truthText(s, theta))
 	}
 	return nil
 }

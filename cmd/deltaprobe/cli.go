@@ -129,8 +129,8 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	fs := newFlagSet("run", "run STUDY.toml [flags] | run -resume DIR [flags]", stderr)
 	out := fs.String("o", "", "output folder (default out/<study name>)")
 	workers := fs.Int("workers", 0, "worker goroutines (default: all cores)")
-	replicates := fs.Int("replicates", 0, "replicates per sample size, overriding the study file")
-	seed := fs.Int64("seed", -1, "seed, overriding the study file")
+	replicates := fs.Int("replicates", 0, "replicates per sample size, overriding the study file's")
+	seed := fs.Int64("seed", -1, "seed ≥ 0, overriding the study file's")
 	force := fs.Bool("force", false, "write into a non-empty output folder; run past the time and memory limits")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
 	resume := fs.String("resume", "", "continue the interrupted run saved in this folder")
@@ -144,6 +144,15 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	}
 	if *workers < 0 {
 		fmt.Fprintf(stderr, "deltaprobe run: -workers %d is out of range: give 1 or more (0 means all cores)\n", *workers)
+		return exitUsage
+	}
+	given := givenFlags(fs)
+	if given["replicates"] && *replicates == 0 {
+		fmt.Fprintf(stderr, "deltaprobe run: -replicates 0 is out of range: accepted are %d to %d\n", sim.MinReplicates, sim.MaxReplicates)
+		return exitUsage
+	}
+	if given["seed"] && *seed < 0 {
+		fmt.Fprintf(stderr, "deltaprobe run: -seed %d is out of range: accepted are whole numbers ≥ 0\n", *seed)
 		return exitUsage
 	}
 	var (
@@ -253,6 +262,14 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	return exitOK
 }
 
+// givenFlags names the flags that were set on the command line, so a
+// value equal to a flag's "not given" default is still checked.
+func givenFlags(fs *flag.FlagSet) map[string]bool {
+	given := map[string]bool{}
+	fs.Visit(func(f *flag.Flag) { given[f.Name] = true })
+	return given
+}
+
 func applyOverrides(s *sim.Study, replicates int, seed int64, stderr io.Writer) int {
 	if replicates != 0 {
 		if replicates < sim.MinReplicates || replicates > sim.MaxReplicates {
@@ -304,7 +321,7 @@ func loadForResume(dir string, positional []string, overrides bool, stderr io.Wr
 		}
 	}
 	if res.Complete {
-		fmt.Fprintf(stderr, "deltaprobe run: %s is already complete; rewriting its report\n", dir)
+		fmt.Fprintf(stderr, "deltaprobe run: %s is already complete; nothing left to simulate\n", dir)
 	}
 	return s, res, exitOK
 }
@@ -484,7 +501,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "%s: no [plan] table; add one with n_min, n_max and max_replicates (see the README)\n", s.File)
 		return exitUsage
 	}
-	if *seed != -1 {
+	if givenFlags(fs)["seed"] {
 		if *seed < 0 {
 			fmt.Fprintf(stderr, "deltaprobe plan: -seed %d is out of range: accepted are whole numbers ≥ 0\n", *seed)
 			return exitUsage

@@ -206,6 +206,8 @@ func TestUsageErrors(t *testing.T) {
 		{"bad flag", []string{"run", study, "-wrkers", "2"}, "flag provided but not defined"},
 		{"few replicates", []string{"run", study, "-replicates", "5"}, "-replicates 5 is out of range"},
 		{"negative seed", []string{"run", study, "-seed", "-5"}, "-seed -5 is out of range"},
+		{"seed -1 given", []string{"run", study, "-seed", "-1"}, "-seed -1 is out of range"},
+		{"zero replicates given", []string{"run", study, "-replicates", "0"}, "-replicates 0 is out of range"},
 		{"missing file", []string{"predict", "no-such-file.toml"}, "no-such-file.toml"},
 		{"families with args", []string{"families", "normal"}, "takes no arguments"},
 	}
