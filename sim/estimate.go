@@ -11,9 +11,9 @@ import (
 type Estimate struct {
 	Draws       int64         // observations drawn in all
 	Replicates  int64         // replicates in all
-	PerDrawNS   float64       // measured nanoseconds per draw, fit and score included
+	PerDrawNS   float64       // expected nanoseconds per draw, fit and score included, from a calibration
 	Time        time.Duration // expected wall time with the given workers
-	MemoryBytes int64         // peak memory of the accumulators, roughly
+	MemoryBytes int64         // memory of the simulation's state, roughly (the report adds its own)
 }
 
 // EstimateWork counts the draws of s and times a short calibration run
@@ -37,7 +37,30 @@ func EstimateWork(s *Study, workers int, calibrate time.Duration) Estimate {
 	if len(s.SampleSizes) == 0 {
 		return e
 	}
-	n := s.SampleSizes[len(s.SampleSizes)-1]
+	// A replicate costs a fixed part (fit's tail, transforms, accumulators)
+	// plus a part per draw; timing the smallest and the largest n
+	// separates the two, so a grid of small n is not underestimated.
+	small, large := s.SampleSizes[0], s.SampleSizes[len(s.SampleSizes)-1]
+	dSmall, dLarge := float64(s.drawsPerReplicate(small)), float64(s.drawsPerReplicate(large))
+	tLarge := calibrateReplicate(s, large, calibrate/2)
+	perDraw, fixed := tLarge/dLarge, 0.0
+	if dLarge > dSmall {
+		tSmall := calibrateReplicate(s, small, calibrate/2)
+		perDraw = max((tLarge-tSmall)/(dLarge-dSmall), 0)
+		fixed = max(tSmall-perDraw*dSmall, 0)
+	}
+	var ns float64
+	for _, n := range s.SampleSizes {
+		ns += float64(s.Replicates) * (fixed + perDraw*float64(s.drawsPerReplicate(n)))
+	}
+	e.PerDrawNS = ns / float64(e.Draws)
+	e.Time = time.Duration(ns / float64(workers))
+	return e
+}
+
+// calibrateReplicate times replicates at n for about d and returns the
+// nanoseconds one takes.
+func calibrateReplicate(s *Study, n int, d time.Duration) float64 {
 	one := *s
 	one.SampleSizes = []int{n}
 	w := newWorker(&one, NewResult(&one))
@@ -52,13 +75,11 @@ func EstimateWork(s *Study, workers int, calibrate time.Duration) Estimate {
 	}
 	start := time.Now()
 	reps := 0
-	for time.Since(start) < calibrate || reps == 0 {
+	for time.Since(start) < d || reps == 0 {
 		for i := 0; i < 16; i++ {
 			w.replicate()
 		}
 		reps += 16
 	}
-	e.PerDrawNS = float64(time.Since(start).Nanoseconds()) / (float64(reps) * float64(s.drawsPerReplicate(n)))
-	e.Time = time.Duration(e.PerDrawNS * float64(e.Draws) / float64(workers))
-	return e
+	return float64(time.Since(start).Nanoseconds()) / float64(reps)
 }
