@@ -160,7 +160,8 @@ func buildPage(r *sim.Result, figs []Figure) pageData {
 		{"Replicates per sample size", strconv.Itoa(st.Replicates)},
 		{"Block size", strconv.Itoa(r.BlockSize)},
 		{"Workers", strconv.Itoa(r.Workers)},
-		{"Elapsed", fmt.Sprintf("%.2f s", r.Elapsed)},
+		{"Simulation time", fmt.Sprintf("%.2f s", r.Elapsed)},
+		{"Last block finished", dashIfEmpty(r.Finished)},
 		{"Run complete", yesNo(r.Complete)},
 		{"Result layout", strconv.Itoa(r.Layout)},
 	}
@@ -286,4 +287,11 @@ func summaryCellFor(r sim.Row, col string) summaryCell {
 		return num(x)
 	}
 	return summaryCell{Text: "?"}
+}
+
+func dashIfEmpty(s string) string {
+	if s == "" {
+		return "–"
+	}
+	return s
 }

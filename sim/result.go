@@ -27,6 +27,7 @@ type Result struct {
 	Cells       [][]*Cell      `json:"cells"`       // [transform][sample size]
 	Workers     int            `json:"workers"`
 	Elapsed     float64        `json:"elapsed_seconds"`
+	Finished    string         `json:"finished,omitempty"` // when the last block was added, RFC 3339 UTC
 	Complete    bool           `json:"complete"`
 	Shard       *Shard         `json:"shard,omitempty"`   // set on a shard's partial state
 	MissingNote string         `json:"missing,omitempty"` // what a partial merge lacks

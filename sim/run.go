@@ -211,6 +211,7 @@ func RunBlocks(ctx context.Context, s *Study, res *Result, want func(ni, block i
 	}
 	wg.Wait()
 	res.Elapsed += time.Since(start).Seconds()
+	res.Finished = time.Now().UTC().Format(time.RFC3339)
 	sortBlocks(res)
 	if res.Shard != nil {
 		res.Complete = res.shardComplete(s)

@@ -131,6 +131,7 @@ func Merge(parts []Part, partial bool) (*Result, error) {
 			count = p.Result.Shard.Count
 		}
 		merged.Elapsed += p.Result.Elapsed
+		merged.Finished = max(merged.Finished, p.Result.Finished) // RFC 3339 UTC sorts as text
 		for t := range p.Result.Cells {
 			for ni, c := range p.Result.Cells[t] {
 				m := merged.Cells[t][ni]
