@@ -1,31 +1,16 @@
 package sim
 
-// Moments holds a count, mean and central sums M2, M3, M4 that can be
-// updated one value at a time and merged pairwise, with the one-pass
+// Moments holds a count, mean and central sums M2, M3, M4 of a set of
+// values: computed for one block by momentsOf and merged pairwise with the
 // formulas of Pébay (2008, Sandia report SAND2008-6212, eqs. 2.1–2.4, from
-// memory) that generalise Chan, Golub & LeVeque (1979). Merging in a fixed
-// order gives the same bits whatever the number of workers.
+// memory), which generalise Chan, Golub & LeVeque (1979). Merging in a
+// fixed order gives the same bits whatever the number of workers.
 type Moments struct {
 	N    int64   `json:"n"`
 	Mean float64 `json:"mean"`
 	M2   float64 `json:"m2"`
 	M3   float64 `json:"m3"`
 	M4   float64 `json:"m4"`
-}
-
-// Add folds one value in.
-func (m *Moments) Add(x float64) {
-	n1 := float64(m.N)
-	m.N++
-	n := float64(m.N)
-	delta := x - m.Mean
-	dn := delta / n
-	dn2 := dn * dn
-	term1 := delta * dn * n1
-	m.Mean += dn
-	m.M4 += term1*dn2*(n*n-3*n+3) + 6*dn2*m.M2 - 4*dn*m.M3
-	m.M3 += term1*dn*(n-2) - 3*dn*m.M2
-	m.M2 += term1
 }
 
 // Merge folds another set of moments in, as if its values had been added
