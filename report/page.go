@@ -78,7 +78,7 @@ var summaryGroups = []struct {
 	{"Intervals and shape", []string{"transform", "n", "coverage", "coverage_mcse", "miss_below", "miss_above", "skewness", "ex_kurtosis", "ks_pivot", "verdict"}},
 }
 
-var pageTemplate = template.Must(template.New("page").Parse(pageHTML))
+var pageTemplate = template.Must(template.Must(template.New("page").Parse(pageHTML)).Parse(pageParts))
 
 // Page renders index.html for r, with figs (from Figures) as the images
 // it shows; they are referenced by file name, beside the page.

@@ -145,7 +145,17 @@ footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
 </table>
 </div>
 {{end}}</section>
-<section id="study">
+{{template "study and provenance" .}}
+</main>
+<footer>
+<p>Written by deltaprobe. The same study file and seed give the same numbers; result.json in this folder holds the full state of the run.</p>
+</footer>
+</body>
+</html>
+`
+
+// pageParts are the sections the run page and the plan page share.
+const pageParts = `{{define "study and provenance"}}<section id="study">
 <h2>Study file as run</h2>
 <p><code>{{.SourceName}}</code></p>
 <pre>{{.Source}}</pre>
@@ -156,10 +166,4 @@ footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
 {{range .Provenance}}<dt>{{.Key}}</dt><dd>{{.Value}}</dd>
 {{end}}</dl>
 </section>
-</main>
-<footer>
-<p>Written by deltaprobe. The same study file and seed give the same numbers; result.json in this folder holds the full state of the run.</p>
-</footer>
-</body>
-</html>
-`
+{{end}}`

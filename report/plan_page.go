@@ -59,7 +59,7 @@ var pageStyle = func() template.CSS {
 	return template.CSS(css)
 }()
 
-var planPageTemplate = template.Must(template.New("plan").Parse(planPageHTML))
+var planPageTemplate = template.Must(template.Must(template.New("plan").Parse(planPageHTML)).Parse(pageParts))
 
 // PlanPage renders index.html for the plan p of study s, with figs (from
 // PlanFigures) as the images it shows, referenced by file name beside

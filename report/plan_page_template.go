@@ -84,17 +84,7 @@ td.list { overflow-wrap: anywhere; min-width: 5rem; }
 </table>
 </div>
 </section>
-<section id="study">
-<h2>Study file as run</h2>
-<p><code>{{.SourceName}}</code></p>
-<pre>{{.Source}}</pre>
-</section>
-<section id="provenance">
-<h2>Provenance</h2>
-<dl class="kv">
-{{range .Provenance}}<dt>{{.Key}}</dt><dd>{{.Value}}</dd>
-{{end}}</dl>
-</section>
+{{template "study and provenance" .}}
 </main>
 <footer>
 <p>Written by deltaprobe plan. The same study file and seed give the same numbers, and a later deltaprobe run at the same n and seed reproduces them.</p>
