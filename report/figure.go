@@ -137,39 +137,29 @@ func Figures(r *sim.Result) ([]Figure, error) {
 			Figure{File: stems[t] + "-" + KindShapes + ".png", Transform: t, Kind: KindShapes})
 	}
 	nn := len(r.Study.SampleSizes)
-	errs := make([]error, len(figs))
-	var wg sync.WaitGroup
-	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
-	for i := range figs {
-		wg.Add(1)
-		sem <- struct{}{}
-		go func() {
-			defer func() { <-sem; wg.Done() }()
-			f := &figs[i]
-			t := f.Transform
-			var v sim.TransformVerdict
-			if t < len(verdicts) {
-				v = verdicts[t]
-			}
-			var err error
-			switch f.Kind {
-			case KindTrends:
-				f.PNG, f.Width, f.Height, err = trendsPNG(r, t, rows[t*nn:(t+1)*nn], v)
-				f.Alt = trendsAlt(r, t, v)
-			case KindShapes:
-				f.PNG, f.Width, f.Height, err = shapesPNG(r, t, rows[t*nn:(t+1)*nn], v)
-				f.Alt = shapesAlt(r, t)
-			}
-			if err != nil {
-				errs[i] = fmt.Errorf("drawing %s: %w", f.File, err)
-			}
-		}()
-	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return nil, err
+	err := renderEach(len(figs), func(i int) error {
+		f := &figs[i]
+		t := f.Transform
+		var v sim.TransformVerdict
+		if t < len(verdicts) {
+			v = verdicts[t]
 		}
+		var err error
+		switch f.Kind {
+		case KindTrends:
+			f.PNG, f.Width, f.Height, err = trendsPNG(r, t, rows[t*nn:(t+1)*nn], v)
+			f.Alt = trendsAlt(r, t, v)
+		case KindShapes:
+			f.PNG, f.Width, f.Height, err = shapesPNG(r, t, rows[t*nn:(t+1)*nn], v)
+			f.Alt = shapesAlt(r, t)
+		}
+		if err != nil {
+			return fmt.Errorf("drawing %s: %w", f.File, err)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	return figs, nil
 }
@@ -206,6 +196,29 @@ func SafeNames(names []string) []string {
 		out[i] = cand
 	}
 	return out
+}
+
+// renderEach calls draw(i) for i in [0, n), as many at once as there are
+// processors, and returns the first error in index order.
+func renderEach(n int, draw func(i int) error) error {
+	errs := make([]error, n)
+	var wg sync.WaitGroup
+	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
+	for i := range n {
+		wg.Add(1)
+		sem <- struct{}{}
+		go func() {
+			defer func() { <-sem; wg.Done() }()
+			errs[i] = draw(i)
+		}()
+	}
+	wg.Wait()
+	for _, err := range errs {
+		if err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // encodePNG renders a drawing of the given height onto a figure-wide

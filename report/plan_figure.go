@@ -3,11 +3,9 @@ package report
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"slices"
 	"strconv"
 	"strings"
-	"sync"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
@@ -143,29 +141,19 @@ func PlanFigures(s *sim.Study, p *sim.PlanResult) ([]Figure, error) {
 	}
 	stems := SafeNames(names)
 	figs := make([]Figure, len(names))
-	errs := make([]error, len(names))
-	var wg sync.WaitGroup
-	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
-	for t := range names {
-		wg.Add(1)
-		sem <- struct{}{}
-		go func() {
-			defer func() { <-sem; wg.Done() }()
-			v := newPlanView(s, p, t)
-			f := Figure{File: stems[t] + "-" + KindPlan + ".png", Transform: t, Kind: KindPlan, Alt: planAlt(v)}
-			var err error
-			f.PNG, f.Width, f.Height, err = planPNG(s, p, v)
-			if err != nil {
-				errs[t] = fmt.Errorf("drawing %s: %w", f.File, err)
-			}
-			figs[t] = f
-		}()
-	}
-	wg.Wait()
-	for _, err := range errs {
+	err := renderEach(len(names), func(t int) error {
+		v := newPlanView(s, p, t)
+		f := Figure{File: stems[t] + "-" + KindPlan + ".png", Transform: t, Kind: KindPlan, Alt: planAlt(v)}
+		var err error
+		f.PNG, f.Width, f.Height, err = planPNG(s, p, v)
 		if err != nil {
-			return nil, err
+			return fmt.Errorf("drawing %s: %w", f.File, err)
 		}
+		figs[t] = f
+		return nil
+	})
+	if err != nil {
+		return nil, err
 	}
 	return figs, nil
 }
