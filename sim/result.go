@@ -65,18 +65,34 @@ type TransformInfo struct {
 
 // Cell is the state of one transform at one sample size.
 type Cell struct {
-	N           int          `json:"n"`
-	Replicates  int64        `json:"replicates"`
-	Undefined   int64        `json:"undefined"`    // τ̂ or its standard error not finite, or no fit
-	FitFailures int64        `json:"fit_failures"` // of which: the estimator had no value
-	ZeroSE      int64        `json:"zero_se"`      // defined, but the plug-in standard error was 0
-	Covered     int64        `json:"covered"`
-	MissBelow   int64        `json:"miss_below"` // interval wholly below the truth
-	MissAbove   int64        `json:"miss_above"` // interval wholly above the truth
-	Blocks      []BlockStat  `json:"blocks"`     // in block order
+	N int `json:"n"`
+	Counts
+	Blocks      []BlockStat  `json:"blocks"` // in block order
 	Delta       Histogram    `json:"delta_pivot"`
 	Wald        Histogram    `json:"wald_pivot"`
 	mergedCache *cellMoments `json:"-"`
+}
+
+// Counts are the integer tallies of a cell (or of one block of it); they
+// add exactly, in any order.
+type Counts struct {
+	Replicates  int64 `json:"replicates"`
+	Undefined   int64 `json:"undefined"`    // τ̂ or its standard error not finite, or no fit
+	FitFailures int64 `json:"fit_failures"` // of which: the estimator had no value
+	ZeroSE      int64 `json:"zero_se"`      // defined, but the plug-in standard error was 0
+	Covered     int64 `json:"covered"`
+	MissBelow   int64 `json:"miss_below"` // interval wholly below the truth
+	MissAbove   int64 `json:"miss_above"` // interval wholly above the truth
+}
+
+func (c *Counts) add(o Counts) {
+	c.Replicates += o.Replicates
+	c.Undefined += o.Undefined
+	c.FitFailures += o.FitFailures
+	c.ZeroSE += o.ZeroSE
+	c.Covered += o.Covered
+	c.MissBelow += o.MissBelow
+	c.MissAbove += o.MissAbove
 }
 
 // BlockStat is the floating-point part of one block's state.

@@ -323,12 +323,12 @@ type worker struct {
 // block ends. Welford's per-value update is a dependent chain through a
 // division; the sweep is a few independent multiply-adds per value.
 type cellAcc struct {
-	truth, sdDelta                                  float64
-	undefined, fitFail, zeroSE, covered, below, abv int64
-	pluginSum                                       float64
-	vals                                            []float64 // estimates not yet in mom
-	mom                                             Moments
-	delta, wald                                     Histogram
+	truth, sdDelta float64
+	Counts         // the block's tallies; Replicates is set when it is flushed
+	pluginSum      float64
+	vals           []float64 // estimates not yet in mom
+	mom            Moments
+	delta, wald    Histogram
 }
 
 func newWorker(s *Study, res *Result) *worker {
@@ -438,8 +438,8 @@ func (w *worker) replicate() {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
 		if !fitted {
-			acc.undefined++
-			acc.fitFail++
+			acc.Undefined++
+			acc.FitFailures++
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
@@ -460,20 +460,20 @@ func (w *worker) replicate() {
 func (acc *cellAcc) add(v, pv, z float64) {
 	// |x| <= MaxFloat64 is false for NaN and ±Inf alike: one compare each.
 	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64) {
-		acc.undefined++
+		acc.Undefined++
 		return
 	}
 	se := math.Sqrt(pv)
 	if se == 0 {
-		acc.zeroSE++
+		acc.ZeroSE++
 	}
 	switch lo, hi := v-z*se, v+z*se; {
 	case hi < acc.truth:
-		acc.below++
+		acc.MissBelow++
 	case lo > acc.truth:
-		acc.abv++
+		acc.MissAbove++
 	default:
-		acc.covered++
+		acc.Covered++
 	}
 	if len(acc.vals) == cap(acc.vals) {
 		// Only when replicate is driven past a block's worth without
@@ -506,13 +506,8 @@ func (w *worker) flush(j job) {
 			// holds only some blocks, so it keeps append's growth.
 			c.Blocks = slices.Grow(c.Blocks, max(Blocks(w.s.Replicates)-len(c.Blocks), 1))
 		}
-		c.Replicates += int64(j.count)
-		c.Undefined += acc.undefined
-		c.FitFailures += acc.fitFail
-		c.ZeroSE += acc.zeroSE
-		c.Covered += acc.covered
-		c.MissBelow += acc.below
-		c.MissAbove += acc.abv
+		acc.Replicates = int64(j.count)
+		c.add(acc.Counts)
 		c.Delta.Merge(&acc.delta)
 		c.Wald.Merge(&acc.wald)
 		b := BlockStat{Block: j.block, N: acc.mom.N, Mean: acc.mom.Mean, M2: acc.mom.M2, M3: acc.mom.M3, M4: acc.mom.M4}

@@ -143,13 +143,7 @@ func Merge(parts []Part, partial bool) (*Result, error) {
 					owner[key] = p.Name
 					m.Blocks = append(m.Blocks, b)
 				}
-				m.Replicates += c.Replicates
-				m.Undefined += c.Undefined
-				m.FitFailures += c.FitFailures
-				m.ZeroSE += c.ZeroSE
-				m.Covered += c.Covered
-				m.MissBelow += c.MissBelow
-				m.MissAbove += c.MissAbove
+				m.add(c.Counts)
 				m.Delta.Merge(&c.Delta)
 				m.Wald.Merge(&c.Wald)
 			}
