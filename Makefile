@@ -22,7 +22,7 @@ examples: build
 FUZZTIME ?= 20s
 fuzz:
 	$(GO) test ./sim/expr -run='^$$' -fuzz=FuzzCompile -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
-	$(GO) test ./sim -run='^$$' -fuzz=FuzzParse -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
+	$(GO) test ./sim/study -run='^$$' -fuzz=FuzzParse -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 
 # The performance benchmark: sim.Run against the hand-written floor loop on
 # studies/bench_reference.toml in one process (cmd/deltabench), memory at

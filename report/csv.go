@@ -6,7 +6,7 @@ import (
 	"math"
 	"strconv"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
 )
 
 // SummaryColumns is the header of summary.csv (contract: names and order).
@@ -44,7 +44,7 @@ func formatN(n int) string {
 }
 
 // SummaryCSV renders summary.csv.
-func SummaryCSV(rows []sim.Row) []byte {
+func SummaryCSV(rows []measure.Row) []byte {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
 	w.Write(SummaryColumns)
@@ -64,7 +64,7 @@ func SummaryCSV(rows []sim.Row) []byte {
 }
 
 // VerdictsCSV renders verdicts.csv.
-func VerdictsCSV(vs []sim.TransformVerdict) []byte {
+func VerdictsCSV(vs []measure.TransformVerdict) []byte {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
 	w.Write(VerdictColumns)

@@ -1,10 +1,10 @@
-// Package report turns a sim.Result into what people read: summary.csv and
+// Package report turns a runner.Result into what people read: summary.csv and
 // verdicts.csv, the terminal tables, the figures and the HTML page; and a
-// sim.PlanResult into plan.csv and its own tables.
+// plan.PlanResult into plan.csv and its own tables.
 //
-// It reads a sim.Result and nothing else, so a saved or merged result
+// It reads a runner.Result and nothing else, so a saved or merged result
 // reports exactly as a fresh one. Every estimate, MCSE and verdict comes
-// from sim (Result.Summarize, sim.Verdicts); report derives only what
+// from sim (Result.Summarize, measure.Verdicts); report derives only what
 // drawing needs: error bars for the one-sided miss rates, the KS noise
 // level 1.358/√R, and rebinned histograms and quantiles for the shapes.
 package report

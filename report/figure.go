@@ -11,6 +11,10 @@ import (
 	"strings"
 	"sync"
 
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
+
 	xfont "golang.org/x/image/font"
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -18,8 +22,6 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
-
-	"deltaprobe/sim"
 )
 
 // Figure is one rendered PNG of the report.
@@ -122,9 +124,9 @@ func newPanel() *plot.Plot {
 // Figures renders every figure of r: for each transform, its trends and
 // its shapes. Figures are independent, so they render in parallel; each is
 // a pure function of r and comes out byte for byte the same every time.
-func Figures(r *sim.Result) ([]Figure, error) {
-	rows := r.Summarize()
-	verdicts := sim.Verdicts(rows)
+func Figures(r *runner.Result) ([]Figure, error) {
+	rows := measure.Summarize(r)
+	verdicts := measure.Verdicts(rows)
 	names := make([]string, len(r.Study.Transforms))
 	for i, t := range r.Study.Transforms {
 		names[i] = t.Name
@@ -140,7 +142,7 @@ func Figures(r *sim.Result) ([]Figure, error) {
 	err := renderEach(len(figs), func(i int) error {
 		f := &figs[i]
 		t := f.Transform
-		var v sim.TransformVerdict
+		var v measure.TransformVerdict
 		if t < len(verdicts) {
 			v = verdicts[t]
 		}
@@ -256,7 +258,7 @@ func drawHeading(dc draw.Canvas, title, subtitle string) draw.Canvas {
 
 // figureTitle names the transform and its expression, clipped so that a
 // long one does not run off the figure.
-func figureTitle(info sim.TransformInfo, what string) string {
+func figureTitle(info study.TransformInfo, what string) string {
 	return clip(info.Name, 40) + " = " + clip(info.Expr, 60) + what
 }
 

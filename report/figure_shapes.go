@@ -6,12 +6,13 @@ import (
 	"sort"
 	"strings"
 
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
+
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"deltaprobe/sim"
 )
 
 // The shapes figure shows, n by n, the distribution of the standardised
@@ -66,7 +67,7 @@ func shapeIndices(ns []int, smallest int) []int {
 // ±6, so the body of a heavy-tailed estimate is not squeezed into a few
 // bins; the share beyond is printed over the panel, and the quantile
 // panel shows the tail.
-func shapeRange(hs []*sim.Histogram) float64 {
+func shapeRange(hs []*runner.Histogram) float64 {
 	l := 4.0
 	for _, h := range hs {
 		if h.Total() == 0 {
@@ -75,7 +76,7 @@ func shapeRange(hs []*sim.Histogram) float64 {
 		for _, p := range []float64{0.001, 0.999} {
 			q := math.Abs(h.Quantile(p))
 			if math.IsInf(q, 0) {
-				q = sim.PivotRange
+				q = runner.PivotRange
 			}
 			l = math.Max(l, math.Ceil(q))
 		}
@@ -100,25 +101,25 @@ func shapeBinWidth(total int64) float64 {
 // rebin returns the bin edges and densities of h over [−l, l] in bins of
 // width w, and the share of values outside that range. The density is
 // over all non-NaN values, so the bars and the outside share add to one.
-func rebin(h *sim.Histogram, l, w float64) (edges, dens []float64, outside float64) {
+func rebin(h *runner.Histogram, l, w float64) (edges, dens []float64, outside float64) {
 	total := float64(h.Total())
 	if total == 0 {
 		return nil, nil, 0
 	}
-	per := int(math.Round(w * sim.BinsPerUnit))
-	first := int(math.Round((sim.PivotRange - l) * sim.BinsPerUnit))
-	last := int(math.Round((sim.PivotRange + l) * sim.BinsPerUnit))
+	per := int(math.Round(w * runner.BinsPerUnit))
+	first := int(math.Round((runner.PivotRange - l) * runner.BinsPerUnit))
+	last := int(math.Round((runner.PivotRange + l) * runner.BinsPerUnit))
 	inside := 0.0
 	for i := first; i < last; i += per {
 		var c int64
 		for j := i; j < i+per && j < last; j++ {
 			c += h.Counts[j]
 		}
-		edges = append(edges, sim.BinEdge(i))
+		edges = append(edges, runner.BinEdge(i))
 		dens = append(dens, float64(c)/(total*w))
 		inside += float64(c)
 	}
-	edges = append(edges, sim.BinEdge(last))
+	edges = append(edges, runner.BinEdge(last))
 	return edges, dens, 1 - inside/total
 }
 
@@ -170,7 +171,7 @@ var (
 // qqPoints are the histogram's quantiles at normal quantiles z spaced
 // evenly out to where about five replicates lie beyond, and no further
 // than ±3.5.
-func qqPoints(h *sim.Histogram) (plotter.XYs, float64) {
+func qqPoints(h *runner.Histogram) (plotter.XYs, float64) {
 	total := float64(h.Total())
 	if total == 0 {
 		return nil, 3
@@ -192,9 +193,9 @@ func qqPoints(h *sim.Histogram) (plotter.XYs, float64) {
 }
 
 // shapesPNG draws the shapes figure of transform t.
-func shapesPNG(r *sim.Result, t int, rows []sim.Row, v sim.TransformVerdict) ([]byte, int, int, error) {
+func shapesPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict) ([]byte, int, int, error) {
 	idx := shapeIndices(r.Study.SampleSizes, v.SmallestN)
-	hs := make([]*sim.Histogram, len(idx))
+	hs := make([]*runner.Histogram, len(idx))
 	minTotal := int64(math.MaxInt64)
 	for k, i := range idx {
 		hs[k] = &r.Cells[t][i].Delta
@@ -218,7 +219,7 @@ func shapesPNG(r *sim.Result, t int, rows []sim.Row, v sim.TransformVerdict) ([]
 			qlo, qhi = math.Min(qlo, p.Y), math.Max(qhi, p.Y)
 		}
 	}
-	qlo, qhi = math.Max(qlo, -sim.PivotRange), math.Min(qhi, sim.PivotRange)
+	qlo, qhi = math.Max(qlo, -runner.PivotRange), math.Min(qhi, runner.PivotRange)
 
 	var panels []panel
 	hmax := normalPDF(0)
@@ -328,7 +329,7 @@ type glyphThumb struct{ style draw.GlyphStyle }
 
 func (g glyphThumb) Thumbnail(c *draw.Canvas) { c.DrawGlyph(g.style, c.Center()) }
 
-func shapesAlt(r *sim.Result, t int) string {
+func shapesAlt(r *runner.Result, t int) string {
 	return fmt.Sprintf("Shapes for %s: for each sample size, a histogram of the standardised estimate under the N(0, 1) density, and its quantiles against N(0, 1) quantiles.",
 		r.Study.Transforms[t].Name)
 }

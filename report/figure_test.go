@@ -11,7 +11,7 @@ import (
 	"strings"
 	"testing"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/runner"
 )
 
 func TestSafeNames(t *testing.T) {
@@ -144,14 +144,14 @@ func TestFiguresDeterministic(t *testing.T) {
 		t.Fatal(err)
 	}
 	path := filepath.Join(t.TempDir(), "result.json")
-	if err := sim.SaveResult(path, r); err != nil {
+	if err := runner.SaveResult(path, r); err != nil {
 		t.Fatal(err)
 	}
-	loaded, err := sim.LoadResult(path)
+	loaded, err := runner.LoadResult(path)
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, res := range []*sim.Result{r, loaded} {
+	for _, res := range []*runner.Result{r, loaded} {
 		again, err := Figures(res)
 		if err != nil {
 			t.Fatal(err)

@@ -6,11 +6,13 @@ import (
 	"strconv"
 	"strings"
 
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
+
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"deltaprobe/sim"
 )
 
 // The trends figure sets every criterion against n, panel by panel, on one
@@ -42,11 +44,11 @@ type trendAxes struct {
 	dodge    float64 // factor by which a second series is shifted right
 	mark     int     // smallest adequate n, 0 if none
 	tickGap  float64
-	criteria sim.Criteria
+	criteria study.Criteria
 	level    float64
 }
 
-func newTrendAxes(r *sim.Result, v sim.TransformVerdict) trendAxes {
+func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
 	ns := r.Study.SampleSizes
 	lo, hi := float64(ns[0]), float64(ns[len(ns)-1])
 	span := math.Max(math.Log10(hi/lo), 0.3)
@@ -141,7 +143,7 @@ func (a trendAxes) finish(p *plot.Plot, yfloor float64) {
 	}
 }
 
-func xs(rows []sim.Row, factor float64) []float64 {
+func xs(rows []measure.Row, factor float64) []float64 {
 	out := make([]float64, len(rows))
 	for i, r := range rows {
 		out[i] = float64(r.N) * factor
@@ -149,7 +151,7 @@ func xs(rows []sim.Row, factor float64) []float64 {
 	return out
 }
 
-func column(rows []sim.Row, f func(sim.Row) float64) []float64 {
+func column(rows []measure.Row, f func(measure.Row) float64) []float64 {
 	out := make([]float64, len(rows))
 	for i, r := range rows {
 		out[i] = f(r)
@@ -175,7 +177,7 @@ var (
 	idealLine = draw.LineStyle{Color: colRef, Width: vg.Points(0.5)}
 )
 
-func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
+func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 	p := a.newPanel("variance ratio")
 	c := a.criteria.VarRatio
 	band := hBand{lo: c[0], hi: c[1], color: colBand}
@@ -184,24 +186,24 @@ func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
 	// The bars of the delta ratio are the interval the variance verdict
 	// uses: emp_var's Monte Carlo interval, inverted (delta_var is exact).
 	delta := series{label: "delta-method / simulated", x: xs(rows, 1),
-		y:  column(rows, func(r sim.Row) float64 { return r.VarRatio }),
-		lo: column(rows, func(r sim.Row) float64 { return r.Checks[1].Low }),
-		hi: column(rows, func(r sim.Row) float64 { return r.Checks[1].High }),
+		y:  column(rows, func(r measure.Row) float64 { return r.VarRatio }),
+		lo: column(rows, func(r measure.Row) float64 { return r.Checks[1].Low }),
+		hi: column(rows, func(r measure.Row) float64 { return r.Checks[1].High }),
 	}
 	// The plug-in ratio shares emp_var as its denominator, so it takes the
 	// same relative interval. That leaves out the Monte Carlo error of the
 	// mean plug-in variance itself, an average over every replicate and far
 	// smaller than that of emp_var.
-	scale := func(r sim.Row, end float64) float64 {
+	scale := func(r measure.Row, end float64) float64 {
 		if !(r.VarRatio > 0) {
 			return math.NaN()
 		}
 		return r.PluginRatio * end / r.VarRatio
 	}
 	plugin := series{label: "mean plug-in / simulated", x: xs(rows, a.dodge), style: 1,
-		y:  column(rows, func(r sim.Row) float64 { return r.PluginRatio }),
-		lo: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].Low) }),
-		hi: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].High) }),
+		y:  column(rows, func(r measure.Row) float64 { return r.PluginRatio }),
+		lo: column(rows, func(r measure.Row) float64 { return scale(r, r.Checks[1].Low) }),
+		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Checks[1].High) }),
 	}
 	useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, c[:])
 	for _, s := range []series{delta, plugin} {
@@ -214,7 +216,7 @@ func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
 	return panel{title: "Variance: delta method against simulation", plot: p, legend: legend}, nil
 }
 
-func (a trendAxes) coveragePanel(rows []sim.Row) (panel, error) {
+func (a trendAxes) coveragePanel(rows []measure.Row) (panel, error) {
 	p := a.newPanel("coverage (proportion)")
 	c := a.criteria.Coverage
 	band := hBand{lo: c[0], hi: c[1], color: colBand}
@@ -222,9 +224,9 @@ func (a trendAxes) coveragePanel(rows []sim.Row) (panel, error) {
 	p.Add(band, nominal)
 	legend := []legendItem{}
 	cov := series{label: "simulated coverage", x: xs(rows, 1),
-		y:  column(rows, func(r sim.Row) float64 { return r.Coverage }),
-		lo: column(rows, func(r sim.Row) float64 { return r.CoverageRange[0] }),
-		hi: column(rows, func(r sim.Row) float64 { return r.CoverageRange[1] }),
+		y:  column(rows, func(r measure.Row) float64 { return r.Coverage }),
+		lo: column(rows, func(r measure.Row) float64 { return r.CoverageRange[0] }),
+		hi: column(rows, func(r measure.Row) float64 { return r.CoverageRange[1] }),
 	}
 	if err := addSeries(p, &legend, cov); err != nil {
 		return panel{}, err
@@ -239,7 +241,7 @@ func (a trendAxes) coveragePanel(rows []sim.Row) (panel, error) {
 // missBars is the normal-approximation 95% interval of a share p of R
 // replicates, the same form as sim's coverage MCSE. The miss rates are
 // diagnostic: they enter no verdict, so no sharper interval is needed.
-func missBars(rows []sim.Row, share func(sim.Row) float64) (lo, hi []float64) {
+func missBars(rows []measure.Row, share func(measure.Row) float64) (lo, hi []float64) {
 	for _, r := range rows {
 		p, n := share(r), float64(r.Replicates)
 		h := math.NaN()
@@ -251,13 +253,13 @@ func missBars(rows []sim.Row, share func(sim.Row) float64) (lo, hi []float64) {
 	return lo, hi
 }
 
-func (a trendAxes) missPanel(rows []sim.Row) (panel, error) {
+func (a trendAxes) missPanel(rows []measure.Row) (panel, error) {
 	p := a.newPanel("miss rate (proportion)")
 	nominal := hLine{at: (1 - a.level) / 2, style: refStyle}
 	p.Add(nominal)
 	legend := []legendItem{}
-	below := func(r sim.Row) float64 { return r.MissBelow }
-	above := func(r sim.Row) float64 { return r.MissAbove }
+	below := func(r measure.Row) float64 { return r.MissBelow }
+	above := func(r measure.Row) float64 { return r.MissAbove }
 	blo, bhi := missBars(rows, below)
 	alo, ahi := missBars(rows, above)
 	for _, s := range []series{
@@ -273,19 +275,19 @@ func (a trendAxes) missPanel(rows []sim.Row) (panel, error) {
 	return panel{title: "One-sided misses of the interval", plot: p, legend: legend}, nil
 }
 
-func (a trendAxes) biasPanel(rows []sim.Row) (panel, error) {
+func (a trendAxes) biasPanel(rows []measure.Row) (panel, error) {
 	p := a.newPanel("bias / delta-method sd")
 	b := a.criteria.StdBias
 	band := hBand{lo: -b, hi: b, color: colBand}
 	p.Add(band, hLine{at: 0, style: idealLine})
 	legend := []legendItem{}
 	sim2 := series{label: "simulated bias", x: xs(rows, 1),
-		y:  column(rows, func(r sim.Row) float64 { return r.StdBias }),
-		lo: column(rows, func(r sim.Row) float64 { return r.Checks[2].Low }),
-		hi: column(rows, func(r sim.Row) float64 { return r.Checks[2].High }),
+		y:  column(rows, func(r measure.Row) float64 { return r.StdBias }),
+		lo: column(rows, func(r measure.Row) float64 { return r.Checks[2].Low }),
+		hi: column(rows, func(r measure.Row) float64 { return r.Checks[2].High }),
 	}
 	pred := series{label: "second-order prediction", x: xs(rows, a.dodge), style: 1,
-		y: column(rows, func(r sim.Row) float64 { return r.Bias2nd / math.Sqrt(r.DeltaVar) }),
+		y: column(rows, func(r measure.Row) float64 { return r.Bias2nd / math.Sqrt(r.DeltaVar) }),
 	}
 	for _, s := range []series{sim2, pred} {
 		if err := addSeries(p, &legend, s); err != nil {
@@ -303,7 +305,7 @@ func (a trendAxes) biasPanel(rows []sim.Row) (panel, error) {
 // binned KS distance errs low by about 0.002, so the line is a guide.
 const ksNoise = 1.3581
 
-func (a trendAxes) ksPanel(r *sim.Result, t int, rows []sim.Row) (panel, error) {
+func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, error) {
 	p := a.newPanel("KS distance")
 	legend := []legendItem{}
 	noise := make([]float64, len(rows))
@@ -314,7 +316,7 @@ func (a trendAxes) ksPanel(r *sim.Result, t int, rows []sim.Row) (panel, error) 
 			noise[i] = ksNoise / math.Sqrt(float64(tot))
 		}
 	}
-	ks := series{label: "Wald pivot against N(0, 1)", x: xs(rows, 1), y: column(rows, func(r sim.Row) float64 { return r.KSPivot })}
+	ks := series{label: "Wald pivot against N(0, 1)", x: xs(rows, 1), y: column(rows, func(r measure.Row) float64 { return r.KSPivot })}
 	if err := addSeries(p, &legend, ks); err != nil {
 		return panel{}, err
 	}
@@ -330,7 +332,7 @@ func (a trendAxes) ksPanel(r *sim.Result, t int, rows []sim.Row) (panel, error) 
 }
 
 // trendsPNG draws the trends figure of transform t.
-func trendsPNG(r *sim.Result, t int, rows []sim.Row, v sim.TransformVerdict) ([]byte, int, int, error) {
+func trendsPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
 	var panels []panel
 	for _, mk := range []func() (panel, error){
@@ -508,7 +510,7 @@ func drawKey(c draw.Canvas, heading string, paras []string) {
 
 // trendsKey explains the figure in words and lists the verdicts by n, so
 // the PNG can be read on its own, away from the page.
-func trendsKey(rows []sim.Row, v sim.TransformVerdict) []string {
+func trendsKey(rows []measure.Row, v measure.TransformVerdict) []string {
 	paras := []string{
 		"Bars are the Monte Carlo 95% intervals the verdict uses (Wilson intervals for the coverage). " +
 			"A criterion passes at n when its bar lies inside the grey band, fails when the bar lies wholly outside it, and is unclear otherwise.",
@@ -522,7 +524,7 @@ func trendsKey(rows []sim.Row, v sim.TransformVerdict) []string {
 }
 
 // verdictRuns condenses the verdicts by n into runs, "5–10 fail; 20–160 pass".
-func verdictRuns(rows []sim.Row) string {
+func verdictRuns(rows []measure.Row) string {
 	var parts []string
 	for i := 0; i < len(rows); {
 		j := i
@@ -540,16 +542,16 @@ func verdictRuns(rows []sim.Row) string {
 }
 
 // verdictPhrase is the one-line answer for a figure's subtitle.
-func verdictPhrase(v sim.TransformVerdict) string {
+func verdictPhrase(v measure.TransformVerdict) string {
 	switch v.Status {
-	case sim.Adequate:
+	case measure.Adequate:
 		if v.Limiting == "none" || v.Limiting == "" {
 			return fmt.Sprintf("Adequate at every n of the grid (from n = %d).", v.SmallestN)
 		}
 		return fmt.Sprintf("Adequate from n = %d; %s sets it.", v.SmallestN, v.Limiting)
-	case sim.NotReached:
+	case measure.NotReached:
 		return fmt.Sprintf("Not adequate within the grid; %s fails at the largest n.", v.Limiting)
-	case sim.StatusUnclear:
+	case measure.StatusUnclear:
 		return fmt.Sprintf("Undecided: %s is unclear at the largest n.", v.Limiting)
 	}
 	return ""
@@ -557,7 +559,7 @@ func verdictPhrase(v sim.TransformVerdict) string {
 
 func fmtBand(b [2]float64) string { return fmtG(b[0]) + "–" + fmtG(b[1]) }
 
-func trendsAlt(r *sim.Result, t int, v sim.TransformVerdict) string {
+func trendsAlt(r *runner.Result, t int, v measure.TransformVerdict) string {
 	info := r.Study.Transforms[t]
 	return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, standardised bias, one-sided miss rates and KS distance, each with its accepted band. %s",
 		info.Name, verdictPhrase(v))

@@ -5,7 +5,8 @@ import (
 	"sync"
 	"testing"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // The tests run real, small studies through sim rather than keep a
@@ -74,22 +75,22 @@ expr = "mean^2"
 
 var (
 	resultsMu sync.Mutex
-	results   = map[string]*sim.Result{}
+	results   = map[string]*runner.Result{}
 )
 
 // runStudy parses and runs src once per test binary.
-func runStudy(t testing.TB, src string) *sim.Result {
+func runStudy(t testing.TB, src string) *runner.Result {
 	t.Helper()
 	resultsMu.Lock()
 	defer resultsMu.Unlock()
 	if r, ok := results[src]; ok {
 		return r
 	}
-	s, err := sim.Parse("test.toml", []byte(src))
+	s, err := study.Parse("test.toml", []byte(src))
 	if err != nil {
 		t.Fatalf("parsing test study: %v", err)
 	}
-	r, err := sim.Run(context.Background(), s, sim.Options{Workers: 2})
+	r, err := runner.Run(context.Background(), s, runner.Options{Workers: 2})
 	if err != nil {
 		t.Fatalf("running test study: %v", err)
 	}

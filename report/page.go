@@ -9,7 +9,9 @@ import (
 	"strconv"
 	"strings"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // PageFile is the name of the HTML report inside the output folder.
@@ -82,7 +84,7 @@ var pageTemplate = template.Must(template.Must(template.New("page").Parse(pageHT
 
 // Page renders index.html for r, with figs (from Figures) as the images
 // it shows; they are referenced by file name, beside the page.
-func Page(r *sim.Result, figs []Figure) ([]byte, error) {
+func Page(r *runner.Result, figs []Figure) ([]byte, error) {
 	d := buildPage(r, figs)
 	var buf bytes.Buffer
 	if err := pageTemplate.Execute(&buf, d); err != nil {
@@ -91,9 +93,9 @@ func Page(r *sim.Result, figs []Figure) ([]byte, error) {
 	return buf.Bytes(), nil
 }
 
-func buildPage(r *sim.Result, figs []Figure) pageData {
-	rows := r.Summarize()
-	vs := sim.Verdicts(rows)
+func buildPage(r *runner.Result, figs []Figure) pageData {
+	rows := measure.Summarize(r)
+	vs := measure.Verdicts(rows)
 	st := r.Study
 	names := make([]string, len(st.Transforms))
 	for i, t := range st.Transforms {
@@ -103,7 +105,7 @@ func buildPage(r *sim.Result, figs []Figure) pageData {
 	d := pageData{
 		Title:       st.Title,
 		Description: st.Description,
-		Warnings:    r.Warnings(rows),
+		Warnings:    measure.Warnings(r, rows),
 		Source:      st.Source,
 		SourceName:  st.File,
 		Incomplete:  !r.Complete,
@@ -125,7 +127,7 @@ func buildPage(r *sim.Result, figs []Figure) pageData {
 	}
 	nn := len(st.SampleSizes)
 	for t, info := range st.Transforms {
-		var v sim.TransformVerdict
+		var v measure.TransformVerdict
 		if t < len(vs) {
 			v = vs[t]
 		}
@@ -178,13 +180,13 @@ func figureCaption(kind string) string {
 	return ""
 }
 
-func statusText(s sim.Status) string {
+func statusText(s measure.Status) string {
 	switch s {
-	case sim.Adequate:
+	case measure.Adequate:
 		return "adequate"
-	case sim.NotReached:
+	case measure.NotReached:
 		return "not reached"
-	case sim.StatusUnclear:
+	case measure.StatusUnclear:
 		return "unclear"
 	}
 	return string(s)
@@ -207,7 +209,7 @@ func joinInts(xs []int) string {
 
 // describeModel writes the arms as "normal (mean = 14, sd = 3.5)", with
 // parameters in name order so the page does not depend on map order.
-func describeModel(arms []sim.ArmInfo) string {
+func describeModel(arms []study.ArmInfo) string {
 	var parts []string
 	for _, a := range arms {
 		keys := make([]string, 0, len(a.Values))
@@ -231,7 +233,7 @@ func describeModel(arms []sim.ArmInfo) string {
 	return strings.Join(parts, "; ")
 }
 
-func summaryTables(rows []sim.Row) []summaryTable {
+func summaryTables(rows []measure.Row) []summaryTable {
 	var out []summaryTable
 	for _, g := range summaryGroups {
 		tb := summaryTable{Caption: g.caption, Columns: g.columns}
@@ -250,7 +252,7 @@ func summaryTables(rows []sim.Row) []summaryTable {
 // summaryCellFor formats one value of summary.csv for reading: four
 // significant digits (summary.csv keeps eight), a dash where the value
 // does not exist.
-func summaryCellFor(r sim.Row, col string) summaryCell {
+func summaryCellFor(r measure.Row, col string) summaryCell {
 	num := func(x float64) summaryCell {
 		switch {
 		case math.IsNaN(x):

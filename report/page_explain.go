@@ -6,20 +6,21 @@ import (
 	"strconv"
 	"strings"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/study"
 )
 
 // explain answers, for one transform, "from what n is the delta method
 // adequate here, and why not before?" in a sentence or two built from the
 // rows: the n the verdict names, and what each criterion that held it
 // back showed at the n just below, with its Monte Carlo interval and band.
-func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
+func explain(rows []measure.Row, v measure.TransformVerdict, crit study.Criteria) string {
 	if len(rows) == 0 {
 		return ""
 	}
 	first, last := rows[0], rows[len(rows)-1]
 	switch v.Status {
-	case sim.Adequate:
+	case measure.Adequate:
 		idx := -1
 		for i, r := range rows {
 			if r.N == v.SmallestN {
@@ -34,7 +35,7 @@ func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
 		s := fmt.Sprintf("Adequate from n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, strings.Join(problems(prev, crit), "; and "))
 		var passedEarlier []string
 		for _, r := range rows[:idx-1] {
-			if r.Verdict == sim.Pass {
+			if r.Verdict == measure.Pass {
 				passedEarlier = append(passedEarlier, strconv.Itoa(r.N))
 			}
 		}
@@ -42,19 +43,19 @@ func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
 			s += fmt.Sprintf(" (n = %s passes too, but adequacy needs every larger n of the grid to pass as well.)", strings.Join(passedEarlier, ", "))
 		}
 		return s
-	case sim.NotReached:
+	case measure.NotReached:
 		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, strings.Join(problems(last, crit), "; and "))
-	case sim.StatusUnclear:
+	case measure.StatusUnclear:
 		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, strings.Join(problems(last, crit), "; and "))
 	}
 	return ""
 }
 
 // problems describes every criterion that does not pass at row r.
-func problems(r sim.Row, crit sim.Criteria) []string {
+func problems(r measure.Row, crit study.Criteria) []string {
 	var out []string
 	for c, ch := range r.Checks {
-		if ch.Verdict == sim.Pass {
+		if ch.Verdict == measure.Pass {
 			continue
 		}
 		out = append(out, describeCheck(c, r, ch))
@@ -69,11 +70,11 @@ func problems(r sim.Row, crit sim.Criteria) []string {
 
 // describeCheck says what criterion c showed at row r: its value, where
 // its Monte Carlo interval lies against the band, and what that means.
-func describeCheck(c int, r sim.Row, ch sim.Check) string {
+func describeCheck(c int, r measure.Row, ch measure.Check) string {
 	iv := fmt.Sprintf("Monte Carlo 95%% interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
 	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
-	below := ch.Verdict == sim.Fail && ch.High < ch.Band[0]
-	above := ch.Verdict == sim.Fail && ch.Low > ch.Band[1]
+	below := ch.Verdict == measure.Fail && ch.High < ch.Band[0]
+	above := ch.Verdict == measure.Fail && ch.Low > ch.Band[1]
 	// An unclear check's interval crosses one edge of the band, or both.
 	var edges []string
 	for _, e := range ch.Band {
@@ -111,7 +112,7 @@ func describeCheck(c int, r sim.Row, ch sim.Check) string {
 		}
 		return fmt.Sprintf("the bias is not clearly within ±%s delta-method sd: %s (%s)", bound, v, crosses)
 	}
-	return sim.CriterionNames[c] + " does not pass"
+	return measure.CriterionNames[c] + " does not pass"
 }
 
 // fmt3 writes x to three decimals, as the page's sentences quote values.

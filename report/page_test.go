@@ -10,7 +10,9 @@ import (
 	"strings"
 	"testing"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // element is a node of the page as encoding/xml reads it.
@@ -107,7 +109,7 @@ func TestWritePage(t *testing.T) {
 	}
 }
 
-func checkPage(t *testing.T, dir string, page []byte, r *sim.Result) {
+func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 	t.Helper()
 	doc := parsePage(t, page)
 	text := string(page)
@@ -162,7 +164,7 @@ func checkPage(t *testing.T, dir string, page []byte, r *sim.Result) {
 	if len(rows) != len(r.Study.Transforms) {
 		t.Fatalf("verdict table has %d rows for %d transforms", len(rows), len(r.Study.Transforms))
 	}
-	vs := sim.Verdicts(r.Summarize())
+	vs := measure.Verdicts(measure.Summarize(r))
 	for i, tr := range r.Study.Transforms {
 		cells := rows[i].find(named("td"))
 		if got := cells[0].text.String(); got != tr.Name {
@@ -218,7 +220,7 @@ func checkPage(t *testing.T, dir string, page []byte, r *sim.Result) {
 	if r.Study.Title != "" && doc.find(named("h1"))[0].text.String() != r.Study.Title {
 		t.Errorf("heading %q, want the study title %q", doc.find(named("h1"))[0].text.String(), r.Study.Title)
 	}
-	for _, w := range r.Warnings(r.Summarize()) {
+	for _, w := range measure.Warnings(r, measure.Summarize(r)) {
 		if !strings.Contains(body, w) {
 			t.Errorf("warning %q is not on the page", w)
 		}
@@ -265,16 +267,16 @@ func TestPageEscapes(t *testing.T) {
 
 // row builds a summary row whose checks have the given verdicts and
 // intervals; the values quoted are the centres of the intervals.
-func row(n int, checks ...sim.Check) sim.Row {
-	r := sim.Row{N: n, Verdict: sim.Pass}
+func row(n int, checks ...measure.Check) measure.Row {
+	r := measure.Row{N: n, Verdict: measure.Pass}
 	for i, c := range checks {
 		r.Checks[i] = c
 		switch c.Verdict {
-		case sim.Fail:
-			r.Verdict = sim.Fail
-		case sim.Unclear:
-			if r.Verdict != sim.Fail {
-				r.Verdict = sim.Unclear
+		case measure.Fail:
+			r.Verdict = measure.Fail
+		case measure.Unclear:
+			if r.Verdict != measure.Fail {
+				r.Verdict = measure.Unclear
 			}
 		}
 	}
@@ -288,57 +290,57 @@ var (
 	covBand  = [2]float64{0.925, 0.975}
 	varBand  = [2]float64{0.9, 1.1}
 	biasBand = [2]float64{-0.1, 0.1}
-	covOK    = sim.Check{Low: 0.94, High: 0.96, Band: covBand, Verdict: sim.Pass}
-	varOK    = sim.Check{Low: 0.97, High: 1.03, Band: varBand, Verdict: sim.Pass}
-	biasOK   = sim.Check{Low: -0.02, High: 0.02, Band: biasBand, Verdict: sim.Pass}
-	covLow   = sim.Check{Low: 0.901, High: 0.909, Band: covBand, Verdict: sim.Fail}
-	covEdge  = sim.Check{Low: 0.92, High: 0.93, Band: covBand, Verdict: sim.Unclear}
-	varHigh  = sim.Check{Low: 1.2, High: 1.3, Band: varBand, Verdict: sim.Fail}
-	biasBig  = sim.Check{Low: 0.15, High: 0.25, Band: biasBand, Verdict: sim.Fail}
+	covOK    = measure.Check{Low: 0.94, High: 0.96, Band: covBand, Verdict: measure.Pass}
+	varOK    = measure.Check{Low: 0.97, High: 1.03, Band: varBand, Verdict: measure.Pass}
+	biasOK   = measure.Check{Low: -0.02, High: 0.02, Band: biasBand, Verdict: measure.Pass}
+	covLow   = measure.Check{Low: 0.901, High: 0.909, Band: covBand, Verdict: measure.Fail}
+	covEdge  = measure.Check{Low: 0.92, High: 0.93, Band: covBand, Verdict: measure.Unclear}
+	varHigh  = measure.Check{Low: 1.2, High: 1.3, Band: varBand, Verdict: measure.Fail}
+	biasBig  = measure.Check{Low: 0.15, High: 0.25, Band: biasBand, Verdict: measure.Fail}
 )
 
 func TestExplain(t *testing.T) {
-	crit := sim.Criteria{Coverage: covBand, VarRatio: varBand, StdBias: 0.1}
+	crit := study.Criteria{Coverage: covBand, VarRatio: varBand, StdBias: 0.1}
 	tests := []struct {
 		name string
-		rows []sim.Row
-		v    sim.TransformVerdict
+		rows []measure.Row
+		v    measure.TransformVerdict
 		want []string // phrases the sentence must hold
 	}{
 		{
 			"adequate throughout",
-			[]sim.Row{row(5, covOK, varOK, biasOK), row(10, covOK, varOK, biasOK)},
-			sim.TransformVerdict{SmallestN: 5, Status: sim.Adequate, Limiting: "none"},
+			[]measure.Row{row(5, covOK, varOK, biasOK), row(10, covOK, varOK, biasOK)},
+			measure.TransformVerdict{SmallestN: 5, Status: measure.Adequate, Limiting: "none"},
 			[]string{"Adequate from n = 5, the smallest n studied", "Smaller samples were not checked"},
 		},
 		{
 			"coverage below the band before",
-			[]sim.Row{row(5, covLow, varOK, biasOK), row(10, covLow, varOK, biasOK), row(20, covOK, varOK, biasOK)},
-			sim.TransformVerdict{SmallestN: 20, Status: sim.Adequate, Limiting: "coverage"},
+			[]measure.Row{row(5, covLow, varOK, biasOK), row(10, covLow, varOK, biasOK), row(20, covOK, varOK, biasOK)},
+			measure.TransformVerdict{SmallestN: 20, Status: measure.Adequate, Limiting: "coverage"},
 			[]string{"Adequate from n = 20", "at n = 10 coverage is below its band: 0.905", "interval 0.901 to 0.909", "band 0.925 to 0.975"},
 		},
 		{
 			"two criteria hold it back",
-			[]sim.Row{row(5, covLow, varHigh, biasBig), row(10, covOK, varOK, biasOK)},
-			sim.TransformVerdict{SmallestN: 10, Status: sim.Adequate, Limiting: "coverage"},
+			[]measure.Row{row(5, covLow, varHigh, biasBig), row(10, covOK, varOK, biasOK)},
+			measure.TransformVerdict{SmallestN: 10, Status: measure.Adequate, Limiting: "coverage"},
 			[]string{"at n = 5 coverage is below its band", "; and the delta-method variance is too large: 1.250 times", "; and the bias is 0.200 delta-method sd, beyond ±0.100"},
 		},
 		{
 			"an earlier pass does not count",
-			[]sim.Row{row(5, covOK, varOK, biasOK), row(10, covLow, varOK, biasOK), row(20, covOK, varOK, biasOK)},
-			sim.TransformVerdict{SmallestN: 20, Status: sim.Adequate, Limiting: "coverage"},
+			[]measure.Row{row(5, covOK, varOK, biasOK), row(10, covLow, varOK, biasOK), row(20, covOK, varOK, biasOK)},
+			measure.TransformVerdict{SmallestN: 20, Status: measure.Adequate, Limiting: "coverage"},
 			[]string{"at n = 10 coverage is below", "n = 5 passes too, but adequacy needs every larger n"},
 		},
 		{
 			"not reached",
-			[]sim.Row{row(5, covLow, varOK, biasOK), row(10, covLow, varOK, biasOK)},
-			sim.TransformVerdict{Status: sim.NotReached, Limiting: "coverage"},
+			[]measure.Row{row(5, covLow, varOK, biasOK), row(10, covLow, varOK, biasOK)},
+			measure.TransformVerdict{Status: measure.NotReached, Limiting: "coverage"},
 			[]string{"Not adequate at any n of the grid", "At the largest, n = 10, coverage is below its band"},
 		},
 		{
 			"unclear",
-			[]sim.Row{row(5, covLow, varOK, biasOK), row(10, covEdge, varOK, biasOK)},
-			sim.TransformVerdict{Status: sim.StatusUnclear, Limiting: "coverage"},
+			[]measure.Row{row(5, covLow, varOK, biasOK), row(10, covEdge, varOK, biasOK)},
+			measure.TransformVerdict{Status: measure.StatusUnclear, Limiting: "coverage"},
 			[]string{"Undecided", "no criterion fails", "coverage is not clearly inside its band: 0.925", "crosses the band's edge at 0.925", "More replicates"},
 		},
 	}

@@ -7,11 +7,13 @@ import (
 	"strconv"
 	"strings"
 
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/plan"
+	"deltaprobe/sim/study"
+
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"deltaprobe/sim"
 )
 
 // The plan figure shows the search for one transform: every n it
@@ -30,8 +32,8 @@ const KindPlan = "plan"
 const planBodyHeight = 10 * vg.Inch
 
 // planSteps returns the evaluations of transform name, in evaluation order.
-func planSteps(p *sim.PlanResult, name string) []sim.PlanStep {
-	var out []sim.PlanStep
+func planSteps(p *plan.PlanResult, name string) []plan.PlanStep {
+	var out []plan.PlanStep
 	for _, st := range p.Steps {
 		if st.Transform == name {
 			out = append(out, st)
@@ -43,9 +45,9 @@ func planSteps(p *sim.PlanResult, name string) []sim.PlanStep {
 // planView is what one transform's figure and page section need from
 // the plan, worked out once.
 type planView struct {
-	info       sim.TransformInfo
-	steps      []sim.PlanStep
-	verdict    sim.TransformVerdict
+	info       study.TransformInfo
+	steps      []plan.PlanStep
+	verdict    measure.TransformVerdict
 	window     int   // as the plan reports it
 	windowTop  int   // the largest n the window reached, 0 if none
 	oscill     []int // failing n found above a candidate
@@ -54,13 +56,13 @@ type planView struct {
 	replicates int64 // replicates behind this transform's decisions
 }
 
-func newPlanView(s *sim.Study, p *sim.PlanResult, t int) planView {
+func newPlanView(s *study.Study, p *plan.PlanResult, t int) planView {
 	tr := s.Transforms[t]
-	v := planView{info: sim.TransformInfo{Name: tr.Name, Expr: tr.Expr}, steps: planSteps(p, tr.Name)}
+	v := planView{info: study.TransformInfo{Name: tr.Name, Expr: tr.Expr}, steps: planSteps(p, tr.Name)}
 	if t < len(p.Verdicts) {
 		v.verdict = p.Verdicts[t]
 	} else {
-		v.verdict = sim.TransformVerdict{Transform: tr.Name, Status: sim.StatusUnclear}
+		v.verdict = measure.TransformVerdict{Transform: tr.Name, Status: measure.StatusUnclear}
 	}
 	if t < len(p.Window) {
 		v.window = p.Window[t]
@@ -88,18 +90,18 @@ func newPlanView(s *sim.Study, p *sim.PlanResult, t int) planView {
 }
 
 // stepAt returns the evaluation at n, if there is one.
-func (v planView) stepAt(n int) (sim.PlanStep, bool) {
+func (v planView) stepAt(n int) (plan.PlanStep, bool) {
 	for _, st := range v.steps {
 		if st.N == n {
 			return st, true
 		}
 	}
-	return sim.PlanStep{}, false
+	return plan.PlanStep{}, false
 }
 
 // below returns the largest evaluated n under n, if there is one.
-func (v planView) below(n int) (sim.PlanStep, bool) {
-	var best sim.PlanStep
+func (v planView) below(n int) (plan.PlanStep, bool) {
+	var best plan.PlanStep
 	found := false
 	for _, st := range v.steps {
 		if st.N < n && (!found || st.N > best.N) {
@@ -134,7 +136,7 @@ func (v planView) zoomRange() (lo, hi int, ok bool) {
 // PlanFigures renders the plan's figure of every transform of s, in
 // study order, in parallel; each is a pure function of s and p and comes
 // out byte for byte the same every time.
-func PlanFigures(s *sim.Study, p *sim.PlanResult) ([]Figure, error) {
+func PlanFigures(s *study.Study, p *plan.PlanResult) ([]Figure, error) {
 	names := make([]string, len(s.Transforms))
 	for i, t := range s.Transforms {
 		names[i] = t.Name
@@ -195,24 +197,24 @@ func (a planAxis) addWindow(p *plot.Plot) {
 	}
 }
 
-// measure is one of the three criteria as the plan figure draws it.
-type measure struct {
+// criterionView is one of the three criteria as the plan figure draws it.
+type criterionView struct {
 	title  string
 	ylabel string
-	value  func(sim.Row) float64
+	value  func(measure.Row) float64
 	band   [2]float64
 	ref    hLine
 	logY   bool // may switch to a log y axis (a ratio)
 }
 
-func planMeasures(s *sim.Study) []measure {
+func planMeasures(s *study.Study) []criterionView {
 	c := s.Criteria
-	return []measure{
-		{title: "Coverage of the Wald interval", ylabel: "coverage", value: func(r sim.Row) float64 { return r.Coverage },
+	return []criterionView{
+		{title: "Coverage of the Wald interval", ylabel: "coverage", value: func(r measure.Row) float64 { return r.Coverage },
 			band: c.Coverage, ref: hLine{at: s.Level, style: refStyle}},
-		{title: "Variance ratio, delta method / simulated", ylabel: "variance ratio", value: func(r sim.Row) float64 { return r.VarRatio },
+		{title: "Variance ratio, delta method / simulated", ylabel: "variance ratio", value: func(r measure.Row) float64 { return r.VarRatio },
 			band: c.VarRatio, ref: hLine{at: 1, style: idealLine}, logY: true},
-		{title: "Bias, in delta-method standard deviations", ylabel: "bias / delta sd", value: func(r sim.Row) float64 { return r.StdBias },
+		{title: "Bias, in delta-method standard deviations", ylabel: "bias / delta sd", value: func(r measure.Row) float64 { return r.StdBias },
 			band: [2]float64{-c.StdBias, c.StdBias}, ref: hLine{at: 0, style: idealLine}},
 	}
 }
@@ -220,7 +222,7 @@ func planMeasures(s *sim.Study) []measure {
 // measurePanel draws criterion c of the steps that fall on axis a: each
 // point in the look of that criterion's own verdict at that n, with the
 // interval the decision used (already widened for repeated looks).
-func (a planAxis) measurePanel(m measure, c int, steps []sim.PlanStep, title string) *panel {
+func (a planAxis) measurePanel(m criterionView, c int, steps []plan.PlanStep, title string) *panel {
 	var vp verdictPoints
 	for _, st := range steps {
 		if !a.contains(st.N) {
@@ -252,7 +254,7 @@ func (a planAxis) measurePanel(m measure, c int, steps []sim.PlanStep, title str
 // replicatesPanel draws the replicates behind each decision as bars,
 // topped by the overall verdict at that n, under a dotted line at
 // perN, the most one n may take.
-func (a planAxis) replicatesPanel(steps []sim.PlanStep, perN int, title, xlabel string) *panel {
+func (a planAxis) replicatesPanel(steps []plan.PlanStep, perN int, title, xlabel string) *panel {
 	var st stems
 	var vp verdictPoints
 	for _, s := range steps {
@@ -284,8 +286,8 @@ func (a planAxis) replicatesPanel(steps []sim.PlanStep, perN int, title, xlabel 
 }
 
 // planPNG draws the plan figure of one transform.
-func planPNG(s *sim.Study, p *sim.PlanResult, v planView) ([]byte, int, int, error) {
-	spec := sim.PlanSpec{NMin: 1, NMax: 1, MaxReplicates: 1}
+func planPNG(s *study.Study, p *plan.PlanResult, v planView) ([]byte, int, int, error) {
+	spec := study.PlanSpec{NMin: 1, NMax: 1, MaxReplicates: 1}
 	if s.Plan != nil {
 		spec = *s.Plan
 	}
@@ -392,11 +394,11 @@ func shortTitle(c int) string {
 }
 
 // planLegend is the legend row shared by every panel of the figure.
-func planLegend(v planView, spec sim.PlanSpec, level float64) []legendItem {
+func planLegend(v planView, spec study.PlanSpec, level float64) []legendItem {
 	items := []legendItem{
-		{label: "pass", thumbs: []plot.Thumbnailer{verdictThumb{sim.Pass}}},
-		{label: "fail", thumbs: []plot.Thumbnailer{verdictThumb{sim.Fail}}},
-		{label: "unclear", thumbs: []plot.Thumbnailer{verdictThumb{sim.Unclear}}},
+		{label: "pass", thumbs: []plot.Thumbnailer{verdictThumb{measure.Pass}}},
+		{label: "fail", thumbs: []plot.Thumbnailer{verdictThumb{measure.Fail}}},
+		{label: "unclear", thumbs: []plot.Thumbnailer{verdictThumb{measure.Unclear}}},
 		{label: "accepted band", thumbs: []plot.Thumbnailer{hBand{color: colBand}}},
 	}
 	if a := v.verdict.SmallestN; a > 0 {
@@ -412,10 +414,10 @@ func planLegend(v planView, spec sim.PlanSpec, level float64) []legendItem {
 }
 
 // planPhrase is the figure's one-line answer.
-func planPhrase(v planView, spec sim.PlanSpec) string {
+func planPhrase(v planView, spec study.PlanSpec) string {
 	tv := v.verdict
 	switch tv.Status {
-	case sim.Adequate:
+	case measure.Adequate:
 		s := fmt.Sprintf("Adequate from n = %d", tv.SmallestN)
 		if tv.Limiting != "" && tv.Limiting != "none" {
 			s += "; " + tv.Limiting + " sets it"
@@ -424,14 +426,14 @@ func planPhrase(v planView, spec sim.PlanSpec) string {
 			s += fmt.Sprintf("; window above it n = %d–%d", tv.SmallestN+1, v.windowTop)
 		}
 		return s + "."
-	case sim.NotReached:
+	case measure.NotReached:
 		return fmt.Sprintf("Not adequate for n up to %d: %s fails at the largest n checked, %d.", spec.NMax, tv.Limiting, v.largestN)
 	}
 	return fmt.Sprintf("Undecided: %s stays unclear at the largest n checked, %d.", dash(tv.Limiting), v.largestN)
 }
 
 // planCost says what the search took.
-func planCost(v planView, p *sim.PlanResult) string {
+func planCost(v planView, p *plan.PlanResult) string {
 	s := fmt.Sprintf("%d evaluations, %d replicates behind their decisions; intervals at z = %.3f per look.",
 		len(v.steps), v.replicates, p.Z)
 	if p.Exhausted {
@@ -442,7 +444,7 @@ func planCost(v planView, p *sim.PlanResult) string {
 
 // planKey explains the figure in words and gives the order of the
 // search, so the PNG can be read away from the page.
-func planKey(v planView, p *sim.PlanResult, spec sim.PlanSpec) []string {
+func planKey(v planView, p *plan.PlanResult, spec study.PlanSpec) []string {
 	closeUp, hatched := "", ""
 	if v.windowTop > 0 {
 		hatched = " (the hatched window)"
@@ -468,7 +470,7 @@ func planKey(v planView, p *sim.PlanResult, spec sim.PlanSpec) []string {
 
 // searchOrder lists the evaluations as "5 fail, 10 fail, 20 pass", at
 // most limit of them.
-func searchOrder(steps []sim.PlanStep, limit int) string {
+func searchOrder(steps []plan.PlanStep, limit int) string {
 	var parts []string
 	for i, st := range steps {
 		if i == limit {
@@ -526,9 +528,9 @@ func planAlt(v planView) string {
 
 func planPhraseAlt(v planView) string {
 	switch v.verdict.Status {
-	case sim.Adequate:
+	case measure.Adequate:
 		return fmt.Sprintf("Adequate from n = %d.", v.verdict.SmallestN)
-	case sim.NotReached:
+	case measure.NotReached:
 		return "Not adequate within the search range."
 	}
 	return "Undecided within the budget."

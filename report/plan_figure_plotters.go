@@ -5,11 +5,11 @@ import (
 	"math"
 	"strconv"
 
+	"deltaprobe/sim/measure"
+
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"deltaprobe/sim"
 )
 
 // The plan figure needs what the run's figures do not: points whose
@@ -42,11 +42,11 @@ type verdictLook struct {
 	radius vg.Length
 }
 
-func lookOf(v sim.Verdict) verdictLook {
+func lookOf(v measure.Verdict) verdictLook {
 	switch v {
-	case sim.Pass:
+	case measure.Pass:
 		return verdictLook{color: colSeries1, glyph: draw.CircleGlyph{}, radius: vg.Points(4)}
-	case sim.Fail:
+	case measure.Fail:
 		return verdictLook{color: colFail, glyph: boldCross{}, radius: vg.Points(4.5)}
 	}
 	return verdictLook{color: colUnclear, glyph: openDiamond{}, radius: vg.Points(4.5)}
@@ -78,14 +78,14 @@ func (openDiamond) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
 // bar when lo and hi are given, each in the look of its verdict.
 type verdictPoints struct {
 	x, y, lo, hi []float64
-	v            []sim.Verdict
+	v            []measure.Verdict
 }
 
 func (vp verdictPoints) Plot(c draw.Canvas, p *plot.Plot) {
 	trX, trY := p.Transforms(&c)
 	// Bars first, grouped by verdict, so no marker is hidden by a bar.
 	if vp.lo != nil {
-		for _, want := range []sim.Verdict{sim.Pass, sim.Unclear, sim.Fail} {
+		for _, want := range []measure.Verdict{measure.Pass, measure.Unclear, measure.Fail} {
 			var iv intervals
 			for i := range vp.x {
 				if vp.v[i] == want && !math.IsNaN(vp.lo[i]) && !math.IsNaN(vp.hi[i]) {
@@ -124,7 +124,7 @@ func (vp verdictPoints) DataRange() (xmin, xmax, ymin, ymax float64) {
 }
 
 // verdictThumb is a legend entry: a short bar through the verdict's marker.
-type verdictThumb struct{ v sim.Verdict }
+type verdictThumb struct{ v measure.Verdict }
 
 func (t verdictThumb) Thumbnail(c *draw.Canvas) {
 	lk := lookOf(t.v)

@@ -9,9 +9,12 @@ import (
 	"sync"
 	"testing"
 
-	"gonum.org/v1/plot/vg"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/plan"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 
-	"deltaprobe/sim"
+	"gonum.org/v1/plot/vg"
 )
 
 // The plan tests, like the run tests, plan small studies through sim
@@ -108,8 +111,8 @@ var planCases = []planCase{
 }
 
 type plannedStudy struct {
-	s *sim.Study
-	p *sim.PlanResult
+	s *study.Study
+	p *plan.PlanResult
 }
 
 var (
@@ -118,18 +121,18 @@ var (
 )
 
 // runPlan parses and plans a case once per test binary.
-func runPlan(t testing.TB, c planCase) (*sim.Study, *sim.PlanResult) {
+func runPlan(t testing.TB, c planCase) (*study.Study, *plan.PlanResult) {
 	t.Helper()
 	plansMu.Lock()
 	defer plansMu.Unlock()
 	if ps, ok := plans[c]; ok {
 		return ps.s, ps.p
 	}
-	s, err := sim.Parse("plan.toml", []byte(c.src))
+	s, err := study.Parse("plan.toml", []byte(c.src))
 	if err != nil {
 		t.Fatalf("parsing test plan: %v", err)
 	}
-	p, err := sim.Plan(context.Background(), s, c.budget, sim.Options{Workers: 2})
+	p, err := plan.Plan(context.Background(), s, c.budget, runner.Options{Workers: 2})
 	if err != nil {
 		t.Fatalf("running test plan: %v", err)
 	}
@@ -142,12 +145,12 @@ func runPlan(t testing.TB, c planCase) (*sim.Study, *sim.PlanResult) {
 func TestPlanCasesAreWhatTheySay(t *testing.T) {
 	tests := []struct {
 		c         planCase
-		status    []sim.Status
+		status    []measure.Status
 		exhausted bool
 	}{
-		{planCases[0], []sim.Status{sim.Adequate, sim.Adequate}, false},
-		{planCases[1], []sim.Status{sim.NotReached}, false},
-		{planCases[2], []sim.Status{sim.Adequate}, false},
+		{planCases[0], []measure.Status{measure.Adequate, measure.Adequate}, false},
+		{planCases[1], []measure.Status{measure.NotReached}, false},
+		{planCases[2], []measure.Status{measure.Adequate}, false},
 		{planCases[3], nil, true},
 	}
 	for _, tc := range tests {
@@ -220,7 +223,7 @@ func TestPlanFiguresDeterministic(t *testing.T) {
 // The three verdicts differ in shape, not colour alone, so a greyscale
 // print or a colour-blind reader can tell them apart.
 func TestVerdictLooksDifferInShape(t *testing.T) {
-	vs := []sim.Verdict{sim.Pass, sim.Fail, sim.Unclear}
+	vs := []measure.Verdict{measure.Pass, measure.Fail, measure.Unclear}
 	for i, a := range vs {
 		for _, b := range vs[i+1:] {
 			la, lb := lookOf(a), lookOf(b)
@@ -331,35 +334,35 @@ func TestZoomTicks(t *testing.T) {
 }
 
 // steps builds evaluations at the given n with the given verdicts.
-func steps(ns []int, vs []sim.Verdict) []sim.PlanStep {
-	out := make([]sim.PlanStep, len(ns))
+func steps(ns []int, vs []measure.Verdict) []plan.PlanStep {
+	out := make([]plan.PlanStep, len(ns))
 	for i, n := range ns {
-		out[i] = sim.PlanStep{Transform: "t", Step: i + 1, N: n, Replicates: 1000, Row: sim.Row{N: n, Verdict: vs[i]}}
+		out[i] = plan.PlanStep{Transform: "t", Step: i + 1, N: n, Replicates: 1000, Row: measure.Row{N: n, Verdict: vs[i]}}
 	}
 	return out
 }
 
 func TestZoomRange(t *testing.T) {
-	P, F := sim.Pass, sim.Fail
+	P, F := measure.Pass, measure.Fail
 	tests := []struct {
 		name     string
 		ns       []int
-		vs       []sim.Verdict
+		vs       []measure.Verdict
 		answer   int
 		window   int
 		top      int
 		lo, hi   int
 		wantZoom bool
 	}{
-		{"bisected to the integer below", []int{5, 10, 20, 15, 12, 13, 14, 16, 17}, []sim.Verdict{F, F, P, P, F, P, P, P, P}, 13, 3, 16, 12, 16, true},
-		{"answer at the bottom of the range", []int{5, 6, 7, 8}, []sim.Verdict{P, P, P, P}, 5, 3, 8, 4, 9, true},
-		{"nearest evaluation below is far", []int{5, 10, 20, 40, 41, 42, 43}, []sim.Verdict{F, F, F, P, P, P, P}, 40, 3, 43, 39, 43, true},
-		{"no answer", []int{5, 10}, []sim.Verdict{F, F}, 0, 0, 0, 0, 0, false},
+		{"bisected to the integer below", []int{5, 10, 20, 15, 12, 13, 14, 16, 17}, []measure.Verdict{F, F, P, P, F, P, P, P, P}, 13, 3, 16, 12, 16, true},
+		{"answer at the bottom of the range", []int{5, 6, 7, 8}, []measure.Verdict{P, P, P, P}, 5, 3, 8, 4, 9, true},
+		{"nearest evaluation below is far", []int{5, 10, 20, 40, 41, 42, 43}, []measure.Verdict{F, F, F, P, P, P, P}, 40, 3, 43, 39, 43, true},
+		{"no answer", []int{5, 10}, []measure.Verdict{F, F}, 0, 0, 0, 0, 0, false},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
 			v := planView{steps: steps(tc.ns, tc.vs), window: tc.window, windowTop: tc.top,
-				verdict: sim.TransformVerdict{SmallestN: tc.answer, Status: sim.Adequate}}
+				verdict: measure.TransformVerdict{SmallestN: tc.answer, Status: measure.Adequate}}
 			lo, hi, ok := v.zoomRange()
 			if ok != tc.wantZoom || ok && (lo != tc.lo || hi != tc.hi) {
 				t.Errorf("zoomRange = %d, %d, %v; want %d, %d, %v", lo, hi, ok, tc.lo, tc.hi, tc.wantZoom)

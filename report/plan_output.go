@@ -11,7 +11,9 @@ import (
 	"strings"
 	"text/tabwriter"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/plan"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // PlanColumns is the header of plan.csv (contract: names and order).
@@ -19,7 +21,7 @@ var PlanColumns = []string{"transform", "step", "n", "replicates", "coverage", "
 
 // PlanCSV renders plan.csv: every evaluation, per transform, in
 // evaluation order.
-func PlanCSV(p *sim.PlanResult) []byte {
+func PlanCSV(p *plan.PlanResult) []byte {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
 	w.Write(PlanColumns)
@@ -38,14 +40,14 @@ func PlanCSV(p *sim.PlanResult) []byte {
 // WritePlan writes plan.csv, verdicts.csv, the plan's figure of every
 // transform and index.html into dir, each file atomically. The page goes
 // last, so a page on disk never points at a figure that is not there yet.
-func WritePlan(dir string, s *sim.Study, p *sim.PlanResult) error {
+func WritePlan(dir string, s *study.Study, p *plan.PlanResult) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("creating output folder: %w", err)
 	}
-	if err := sim.WriteFileAtomic(filepath.Join(dir, "plan.csv"), PlanCSV(p)); err != nil {
+	if err := runner.WriteFileAtomic(filepath.Join(dir, "plan.csv"), PlanCSV(p)); err != nil {
 		return err
 	}
-	if err := sim.WriteFileAtomic(filepath.Join(dir, "verdicts.csv"), VerdictsCSV(p.Verdicts)); err != nil {
+	if err := runner.WriteFileAtomic(filepath.Join(dir, "verdicts.csv"), VerdictsCSV(p.Verdicts)); err != nil {
 		return err
 	}
 	figs, err := PlanFigures(s, p)
@@ -53,7 +55,7 @@ func WritePlan(dir string, s *sim.Study, p *sim.PlanResult) error {
 		return err
 	}
 	for _, f := range figs {
-		if err := sim.WriteFileAtomic(filepath.Join(dir, f.File), f.PNG); err != nil {
+		if err := runner.WriteFileAtomic(filepath.Join(dir, f.File), f.PNG); err != nil {
 			return err
 		}
 	}
@@ -61,12 +63,12 @@ func WritePlan(dir string, s *sim.Study, p *sim.PlanResult) error {
 	if err != nil {
 		return err
 	}
-	return sim.WriteFileAtomic(filepath.Join(dir, PageFile), page)
+	return runner.WriteFileAtomic(filepath.Join(dir, PageFile), page)
 }
 
 // PlanTable prints, per transform, the answer, what limits it, the
 // replicates its decisions used and any oscillation found.
-func PlanTable(w io.Writer, s *sim.Study, p *sim.PlanResult) {
+func PlanTable(w io.Writer, s *study.Study, p *plan.PlanResult) {
 	used := map[string]int64{}
 	evals := map[string]int{}
 	for _, st := range p.Steps {

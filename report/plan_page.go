@@ -8,7 +8,10 @@ import (
 	"strconv"
 	"strings"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/plan"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // The plan's index.html answers "from what n on is the approximation
@@ -64,7 +67,7 @@ var planPageTemplate = template.Must(template.Must(template.New("plan").Parse(pl
 // PlanPage renders index.html for the plan p of study s, with figs (from
 // PlanFigures) as the images it shows, referenced by file name beside
 // the page.
-func PlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) ([]byte, error) {
+func PlanPage(s *study.Study, p *plan.PlanResult, figs []Figure) ([]byte, error) {
 	d := buildPlanPage(s, p, figs)
 	var buf bytes.Buffer
 	if err := planPageTemplate.Execute(&buf, d); err != nil {
@@ -73,8 +76,8 @@ func PlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) ([]byte, error) {
 	return buf.Bytes(), nil
 }
 
-func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData {
-	spec := sim.PlanSpec{}
+func buildPlanPage(s *study.Study, p *plan.PlanResult, figs []Figure) planPageData {
+	spec := study.PlanSpec{}
 	if s.Plan != nil {
 		spec = *s.Plan
 	}
@@ -94,9 +97,9 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 	if d.Title == "" {
 		d.Title = s.File
 	}
-	arms := make([]sim.ArmInfo, len(s.Arms))
+	arms := make([]study.ArmInfo, len(s.Arms))
 	for i, a := range s.Arms {
-		arms[i] = sim.ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
+		arms[i] = study.ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
 	}
 	window := "10% of the answer, at least 3 and at most 25 integers"
 	if spec.Window > 0 {
@@ -164,14 +167,14 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 		exhausted = "yes: decisions marked unclear could not be made within it"
 	}
 	d.Provenance = []keyValue{
-		{"Tool", "deltaprobe " + sim.Version},
+		{"Tool", "deltaprobe " + runner.Version},
 		{"Study file", s.File},
 		{"Study file SHA-256", s.SHA256},
 		{"Seed", strconv.FormatUint(s.Seed, 10)},
 		{"Search range", fmt.Sprintf("%d to %d", spec.NMin, spec.NMax)},
 		{"Replicates per n", fmt.Sprintf("at most %d, in batches of %d", spec.MaxReplicates, spec.Batch)},
 		{"Interval quantile per look", fmt.Sprintf("z = %.3f", p.Z)},
-		{"Block size", strconv.Itoa(sim.BlockSize)},
+		{"Block size", strconv.Itoa(study.BlockSize)},
 		{"Replicates simulated in all", strconv.FormatInt(p.Total, 10)},
 		{"Budget cap reached", exhausted},
 	}
@@ -188,7 +191,7 @@ func planCaption(v planView) string {
 
 // planStepsTable is plan.csv for reading: every column, to four
 // significant digits (the file has eight).
-func planStepsTable(p *sim.PlanResult) summaryTable {
+func planStepsTable(p *plan.PlanResult) summaryTable {
 	tb := summaryTable{Caption: "Every evaluation, per transform, in the order the search made them", Columns: PlanColumns}
 	for _, st := range p.Steps {
 		cells := make([]summaryCell, len(PlanColumns))
@@ -200,7 +203,7 @@ func planStepsTable(p *sim.PlanResult) summaryTable {
 	return tb
 }
 
-func planCellFor(st sim.PlanStep, col string) summaryCell {
+func planCellFor(st plan.PlanStep, col string) summaryCell {
 	switch col {
 	case "step":
 		return summaryCell{Text: strconv.Itoa(st.Step), Class: "num"}
@@ -209,18 +212,18 @@ func planCellFor(st sim.PlanStep, col string) summaryCell {
 	case "std_bias_mcse":
 		// Formatted as summaryCellFor formats every other number, by way
 		// of a row that carries this value in a column it knows.
-		return summaryCellFor(sim.Row{StdBias: st.Row.StdBiasMCSE}, "std_bias")
+		return summaryCellFor(measure.Row{StdBias: st.Row.StdBiasMCSE}, "std_bias")
 	}
 	return summaryCellFor(st.Row, col)
 }
 
 // planExplain says, for one transform, what the plan found and why the
 // answer is not smaller, from the evaluations themselves.
-func planExplain(v planView, spec sim.PlanSpec) string {
+func planExplain(v planView, spec study.PlanSpec) string {
 	tv := v.verdict
 	var b strings.Builder
 	switch tv.Status {
-	case sim.Adequate:
+	case measure.Adequate:
 		a := tv.SmallestN
 		fmt.Fprintf(&b, "Adequate from n = %d: coverage, variance and bias all pass there, and no n checked above it fails", a)
 		if v.windowTop > 0 {
@@ -230,7 +233,7 @@ func planExplain(v planView, spec sim.PlanSpec) string {
 		switch prev, ok := v.below(a); {
 		case !ok:
 			b.WriteString(" It is the smallest n searched; smaller n were not checked.")
-		case prev.Row.Verdict != sim.Pass:
+		case prev.Row.Verdict != measure.Pass:
 			fmt.Fprintf(&b, " Not at n = %d, the largest n below it checked: %s.", prev.N, strings.Join(planProblems(prev.Row), "; and "))
 		default:
 			fmt.Fprintf(&b, " n = %d passes too, but a larger n failed, so adequacy could not start there.", prev.N)
@@ -242,7 +245,7 @@ func planExplain(v planView, spec sim.PlanSpec) string {
 		if len(v.oscill) > 0 {
 			fmt.Fprintf(&b, " The verdict is not monotone in n: n = %s failed above an earlier passing n, and the search started again above it.", joinInts(v.oscill))
 		}
-	case sim.NotReached:
+	case measure.NotReached:
 		fmt.Fprintf(&b, "Not adequate at any n checked, up to %d.", spec.NMax)
 		if last, ok := v.stepAt(v.largestN); ok {
 			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
@@ -258,10 +261,10 @@ func planExplain(v planView, spec sim.PlanSpec) string {
 }
 
 // planProblems describes every criterion that does not pass at row r.
-func planProblems(r sim.Row) []string {
+func planProblems(r measure.Row) []string {
 	var out []string
 	for c, ch := range r.Checks {
-		if ch.Verdict != sim.Pass {
+		if ch.Verdict != measure.Pass {
 			out = append(out, describePlanCheck(c, r, ch))
 		}
 	}
@@ -273,7 +276,7 @@ func planProblems(r sim.Row) []string {
 
 // describePlanCheck says where criterion c's interval lay against its
 // band at row r. The interval is the plan's, widened for repeated looks.
-func describePlanCheck(c int, r sim.Row, ch sim.Check) string {
+func describePlanCheck(c int, r measure.Row, ch measure.Check) string {
 	what := [...]string{"coverage", "the variance ratio", "the standardised bias"}[c]
 	value := fmt3([...]float64{r.Coverage, r.VarRatio, r.StdBias}[c])
 	iv := fmt.Sprintf("interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
@@ -281,9 +284,9 @@ func describePlanCheck(c int, r sim.Row, ch sim.Check) string {
 	switch {
 	case math.IsNaN(ch.Low) || math.IsNaN(ch.High):
 		return fmt.Sprintf("%s could not be estimated (%s)", what, band)
-	case ch.Verdict == sim.Fail && ch.High < ch.Band[0]:
+	case ch.Verdict == measure.Fail && ch.High < ch.Band[0]:
 		return fmt.Sprintf("%s is below its band: %s (%s; %s)", what, value, iv, band)
-	case ch.Verdict == sim.Fail && ch.Low > ch.Band[1]:
+	case ch.Verdict == measure.Fail && ch.Low > ch.Band[1]:
 		return fmt.Sprintf("%s is above its band: %s (%s; %s)", what, value, iv, band)
 	}
 	var edges []string

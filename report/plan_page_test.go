@@ -9,7 +9,10 @@ import (
 	"strings"
 	"testing"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/plan"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 func TestWritePlan(t *testing.T) {
@@ -38,7 +41,7 @@ func TestWritePlan(t *testing.T) {
 	}
 }
 
-func checkPlanPage(t *testing.T, dir string, page []byte, s *sim.Study, p *sim.PlanResult) {
+func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *plan.PlanResult) {
 	t.Helper()
 	doc := parsePage(t, page)
 	text := string(page)
@@ -157,7 +160,7 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *sim.Study, p *sim.P
 		"regulatory or sponsor guidance",
 		"pre-specified analysis plan",
 		s.SHA256,
-		"deltaprobe " + sim.Version,
+		"deltaprobe " + runner.Version,
 		strconv.FormatUint(s.Seed, 10),
 		strconv.FormatInt(p.Total, 10),
 		"Budget cap reached" + exhausted,
@@ -218,9 +221,9 @@ func TestPlanPageEscapes(t *testing.T) {
 }
 
 func TestPlanExplain(t *testing.T) {
-	P, F, U := sim.Pass, sim.Fail, sim.Unclear
-	spec := sim.PlanSpec{NMin: 5, NMax: 400, MaxReplicates: 20000}
-	withRows := func(st []sim.PlanStep, rows map[int]sim.Row) []sim.PlanStep {
+	P, F, U := measure.Pass, measure.Fail, measure.Unclear
+	spec := study.PlanSpec{NMin: 5, NMax: 400, MaxReplicates: 20000}
+	withRows := func(st []plan.PlanStep, rows map[int]measure.Row) []plan.PlanStep {
 		for i := range st {
 			if r, ok := rows[st[i].N]; ok {
 				st[i].Row = r
@@ -236,9 +239,9 @@ func TestPlanExplain(t *testing.T) {
 		{
 			"adequate, coverage below the band just under it",
 			planView{
-				steps: withRows(steps([]int{5, 10, 20, 15, 16, 17, 18}, []sim.Verdict{F, F, P, F, P, P, P}),
-					map[int]sim.Row{15: row(15, covLow, varOK, biasOK), 16: row(16, covOK, varOK, biasOK)}),
-				verdict: sim.TransformVerdict{SmallestN: 16, Status: sim.Adequate, Limiting: "coverage"},
+				steps: withRows(steps([]int{5, 10, 20, 15, 16, 17, 18}, []measure.Verdict{F, F, P, F, P, P, P}),
+					map[int]measure.Row{15: row(15, covLow, varOK, biasOK), 16: row(16, covOK, varOK, biasOK)}),
+				verdict: measure.TransformVerdict{SmallestN: 16, Status: measure.Adequate, Limiting: "coverage"},
 				window:  3, windowTop: 19,
 			},
 			[]string{"Adequate from n = 16", "the window n = 17–19 included", "Not at n = 15, the largest n below it checked: coverage is below its band: 0.905", "interval 0.901 to 0.909; band 0.925 to 0.975"},
@@ -246,8 +249,8 @@ func TestPlanExplain(t *testing.T) {
 		{
 			"adequate at the bottom of the range, with undecided n above",
 			planView{
-				steps:   steps([]int{5, 6, 7, 8}, []sim.Verdict{P, U, P, U}),
-				verdict: sim.TransformVerdict{SmallestN: 5, Status: sim.Adequate, Limiting: "none"},
+				steps:   steps([]int{5, 6, 7, 8}, []measure.Verdict{P, U, P, U}),
+				verdict: measure.TransformVerdict{SmallestN: 5, Status: measure.Adequate, Limiting: "none"},
 				window:  3, windowTop: 8, undecided: []int{6, 8},
 			},
 			[]string{"Adequate from n = 5", "smallest n searched", "2 n above it stayed undecided within 20000 replicates (6, 8)"},
@@ -255,8 +258,8 @@ func TestPlanExplain(t *testing.T) {
 		{
 			"oscillation",
 			planView{
-				steps:   steps([]int{5, 10, 20, 21, 22, 23}, []sim.Verdict{F, P, F, P, P, P}),
-				verdict: sim.TransformVerdict{SmallestN: 21, Status: sim.Adequate, Limiting: "coverage"},
+				steps:   steps([]int{5, 10, 20, 21, 22, 23}, []measure.Verdict{F, P, F, P, P, P}),
+				verdict: measure.TransformVerdict{SmallestN: 21, Status: measure.Adequate, Limiting: "coverage"},
 				window:  3, windowTop: 24, oscill: []int{20},
 			},
 			[]string{"Adequate from n = 21", "Not at n = 20", "not monotone in n: n = 20 failed above an earlier passing n"},
@@ -264,8 +267,8 @@ func TestPlanExplain(t *testing.T) {
 		{
 			"not reached",
 			planView{
-				steps:    withRows(steps([]int{5, 10, 20}, []sim.Verdict{F, F, F}), map[int]sim.Row{20: row(20, covOK, varHigh, biasBig)}),
-				verdict:  sim.TransformVerdict{Status: sim.NotReached, Limiting: "variance"},
+				steps:    withRows(steps([]int{5, 10, 20}, []measure.Verdict{F, F, F}), map[int]measure.Row{20: row(20, covOK, varHigh, biasBig)}),
+				verdict:  measure.TransformVerdict{Status: measure.NotReached, Limiting: "variance"},
 				largestN: 20,
 			},
 			[]string{"Not adequate at any n checked, up to 400", "At n = 20, the largest checked, the variance ratio is above its band: 1.250", "; and the standardised bias is above its band: 0.200"},
@@ -273,8 +276,8 @@ func TestPlanExplain(t *testing.T) {
 		{
 			"undecided",
 			planView{
-				steps:    withRows(steps([]int{5, 10}, []sim.Verdict{F, U}), map[int]sim.Row{10: row(10, covEdge, varOK, biasOK)}),
-				verdict:  sim.TransformVerdict{Status: sim.StatusUnclear, Limiting: "coverage"},
+				steps:    withRows(steps([]int{5, 10}, []measure.Verdict{F, U}), map[int]measure.Row{10: row(10, covEdge, varOK, biasOK)}),
+				verdict:  measure.TransformVerdict{Status: measure.StatusUnclear, Limiting: "coverage"},
 				largestN: 10,
 			},
 			[]string{"Undecided", "At n = 10, the largest checked, no criterion fails, but coverage is not clearly inside its band: 0.925 (interval 0.920 to 0.930 crosses 0.925)", "20000 replicates per n could not settle it"},

@@ -7,14 +7,15 @@ import (
 	"strings"
 	"text/tabwriter"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
 )
 
 // VerdictTable prints, per transform, the answer and why, in under 80
 // columns, followed by the warnings.
-func VerdictTable(w io.Writer, r *sim.Result) {
-	rows := r.Summarize()
-	vs := sim.Verdicts(rows)
+func VerdictTable(w io.Writer, r *runner.Result) {
+	rows := measure.Summarize(r)
+	vs := measure.Verdicts(rows)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimited by\tcov.\tvar.\tbias")
 	for _, v := range vs {
@@ -24,7 +25,7 @@ func VerdictTable(w io.Writer, r *sim.Result) {
 	tw.Flush()
 	wrap(w, "", fmt.Sprintf("cov., var., bias: the smallest n from which that criterion alone passes. Level %v, %d replicates per n; a study checks the approximation only under the model it states.",
 		r.Study.Level, r.Study.Replicates))
-	if ws := r.Warnings(rows); len(ws) > 0 {
+	if ws := measure.Warnings(r, rows); len(ws) > 0 {
 		fmt.Fprintf(w, "\nwarnings (%d):\n", len(ws))
 		for _, m := range ws {
 			wrap(w, "  - ", m)
@@ -69,7 +70,7 @@ func clip(s string, n int) string {
 }
 
 // PredictTable prints the delta-method predictions per transform and n.
-func PredictTable(w io.Writer, r *sim.Result) {
+func PredictTable(w io.Writer, r *runner.Result) {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "transform\tn\ttruth\tdelta_var\tdelta_sd\tbias_2nd")
 	for t, info := range r.Study.Transforms {

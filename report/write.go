@@ -5,26 +5,27 @@ import (
 	"os"
 	"path/filepath"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
 )
 
 // Write writes summary.csv, verdicts.csv, the figures and index.html for
 // r into dir, each file atomically. The page goes last, so a page on disk
 // never points at a figure that is not there yet.
-func Write(dir string, r *sim.Result) error {
+func Write(dir string, r *runner.Result) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("creating output folder: %w", err)
 	}
-	rows := r.Summarize()
+	rows := measure.Summarize(r)
 	files := []struct {
 		name string
 		data []byte
 	}{
 		{"summary.csv", SummaryCSV(rows)},
-		{"verdicts.csv", VerdictsCSV(sim.Verdicts(rows))},
+		{"verdicts.csv", VerdictsCSV(measure.Verdicts(rows))},
 	}
 	for _, f := range files {
-		if err := sim.WriteFileAtomic(filepath.Join(dir, f.name), f.data); err != nil {
+		if err := runner.WriteFileAtomic(filepath.Join(dir, f.name), f.data); err != nil {
 			return err
 		}
 	}
@@ -33,7 +34,7 @@ func Write(dir string, r *sim.Result) error {
 		return err
 	}
 	for _, f := range figs {
-		if err := sim.WriteFileAtomic(filepath.Join(dir, f.File), f.PNG); err != nil {
+		if err := runner.WriteFileAtomic(filepath.Join(dir, f.File), f.PNG); err != nil {
 			return err
 		}
 	}
@@ -41,5 +42,5 @@ func Write(dir string, r *sim.Result) error {
 	if err != nil {
 		return err
 	}
-	return sim.WriteFileAtomic(filepath.Join(dir, PageFile), page)
+	return runner.WriteFileAtomic(filepath.Join(dir, PageFile), page)
 }

@@ -1,18 +1,29 @@
-// Package sim turns a study file into Monte Carlo evidence about the
-// delta method: it loads and validates the study, draws samples from the
-// families, fits their estimators, scores each transform's Wald interval,
-// and accumulates the results in streaming, mergeable form.
+// Package sim holds deltaprobe's engine, cut by job into small packages;
+// it has no code of its own. Data flow one way:
 //
-// The package is opinionated. Estimates are maximum likelihood (unless a
+//	study file ─▶ study.Load ─▶ study.Study ─▶ runner.Run ─▶ runner.Result (saved)
+//	                                 │                             │
+//	                                 └────────▶ plan.Plan ──▶ plan.Result (saved)
+//	                                                               │
+//	                       measure: rows, checks and verdicts from a saved state
+//
+//   - [deltaprobe/sim/family]: the data-generating families and their
+//     estimators (drawing, fitting, Fisher information, O(1/n) bias).
+//   - [deltaprobe/sim/expr]: the transform language, with exact derivatives.
+//   - [deltaprobe/sim/study]: the study file: decoding, validation, errors,
+//     and the delta-method predictions at the truth.
+//   - [deltaprobe/sim/runner]: the parallel runner, its streaming
+//     accumulators and the mergeable result file (shards, resume).
+//   - [deltaprobe/sim/measure]: summary measures, their Monte Carlo errors,
+//     the criteria and the verdicts, computed from a saved result.
+//   - [deltaprobe/sim/plan]: the sequential search for the smallest
+//     adequate n.
+//
+// The engine is opinionated. Estimates are maximum likelihood (unless a
 // family says otherwise), standard errors are the plug-in delta method
 // with the inverse expected Fisher information, intervals are Wald
 // intervals, and Monte Carlo errors follow Morris, White & Crowther (2019)
 // with a kurtosis-aware variance MCSE. It offers no bootstrap, no profile
 // intervals and no higher-order corrections: it checks the first-order
 // approximation people actually report, and says plainly when that fails.
-//
-// Results are reproducible to the bit: replicates are cut into blocks of
-// BlockSize, each seeded from the study seed, the sample size and the
-// block index, and blocks are merged in block order, whatever the number
-// of workers.
 package sim

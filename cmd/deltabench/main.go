@@ -1,4 +1,4 @@
-// Command deltabench times sim.Run on the reference study against the
+// Command deltabench times runner.Run on the reference study against the
 // floor: the plain loop a user would write by hand for the same study. It
 // alternates the two in one process, one and two workers, prints
 // nanoseconds per draw, their ratio and the scaling from one worker to
@@ -33,7 +33,8 @@ import (
 	"syscall"
 	"time"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // The project's performance targets. The program reports against them but
@@ -99,8 +100,8 @@ type reference struct {
 
 // loadReference loads the study and checks that it has the one shape the
 // floor is written for, so the two can never time different work.
-func loadReference(path string) (*sim.Study, error) {
-	s, err := sim.Load(path)
+func loadReference(path string) (*study.Study, error) {
+	s, err := study.Load(path)
 	if err != nil {
 		return nil, err
 	}
@@ -110,7 +111,7 @@ func loadReference(path string) (*sim.Study, error) {
 	return s, nil
 }
 
-func floorModel(s *sim.Study) (reference, error) {
+func floorModel(s *study.Study) (reference, error) {
 	if len(s.Arms) != 1 || s.Arms[0].Family != "normal" || s.Arms[0].Allocation != 1 {
 		return reference{}, errors.New("the reference study must have one normal arm with allocation 1")
 	}
@@ -132,7 +133,7 @@ func floorModel(s *sim.Study) (reference, error) {
 	return reference{mean: v["mean"], sd: v["sd"], k: k}, nil
 }
 
-func draws(s *sim.Study) int64 {
+func draws(s *study.Study) int64 {
 	var d int64
 	for _, n := range s.SampleSizes {
 		d += int64(s.Replicates) * int64(n)
@@ -144,7 +145,7 @@ func draws(s *sim.Study) int64 {
 // the same size as sim's blocks through an atomic counter, as a careful
 // hand-written loop would, so that on a shared machine both adapt to a
 // busy core in the same way.
-const floorChunk = sim.BlockSize
+const floorChunk = study.BlockSize
 
 // floor is the hand-written loop the target is set against: for every
 // sample size and replicate, draw n normals with math/rand/v2's PCG, sum
@@ -152,7 +153,7 @@ const floorChunk = sim.BlockSize
 // delta-method standard error from the sample sd (divisor n, as sim's
 // estimator), and count the Wald intervals that cover the truth. It
 // returns the covered count per sample size.
-func floor(s *sim.Study, ref reference, workers int) []int64 {
+func floor(s *study.Study, ref reference, workers int) []int64 {
 	z := math.Sqrt2 * math.Erfinv(s.Level)
 	chunksPer := (s.Replicates + floorChunk - 1) / floorChunk
 	total := chunksPer * len(s.SampleSizes)
@@ -232,7 +233,7 @@ type timing struct {
 	covered                 []int64
 }
 
-func timed(s *sim.Study, run func() ([]int64, error)) (timing, error) {
+func timed(s *study.Study, run func() ([]int64, error)) (timing, error) {
 	runtime.GC()
 	cpu0 := cpuTime()
 	start := time.Now()
@@ -243,14 +244,14 @@ func timed(s *sim.Study, run func() ([]int64, error)) (timing, error) {
 	return timing{float64(el.Nanoseconds()) / d, float64(cpu.Nanoseconds()) / d, cov}, err
 }
 
-func timeFloor(s *sim.Study, ref reference, workers int) timing {
+func timeFloor(s *study.Study, ref reference, workers int) timing {
 	t, _ := timed(s, func() ([]int64, error) { return floor(s, ref, workers), nil })
 	return t
 }
 
-func timeSim(s *sim.Study, workers int) (timing, error) {
+func timeSim(s *study.Study, workers int) (timing, error) {
 	return timed(s, func() ([]int64, error) {
-		res, err := sim.Run(context.Background(), s, sim.Options{Workers: workers})
+		res, err := runner.Run(context.Background(), s, runner.Options{Workers: workers})
 		if err != nil {
 			return nil, err
 		}
@@ -322,10 +323,10 @@ type config struct {
 	cli          string // deltaprobe binary, or "" to skip its memory runs
 }
 
-func bench(w io.Writer, s *sim.Study, cfg config) error {
+func bench(w io.Writer, s *study.Study, cfg config) error {
 	path, rounds := cfg.path, cfg.rounds
 	ref, _ := floorModel(s)
-	fmt.Fprintf(w, "# deltabench: sim.Run against the hand-written floor loop, same process\n")
+	fmt.Fprintf(w, "# deltabench: runner.Run against the hand-written floor loop, same process\n")
 	fmt.Fprintf(w, "date: %s\n", time.Now().Format(time.RFC3339))
 	fmt.Fprintf(w, "machine: %s/%s, %d CPUs, %s, GOMAXPROCS %d\n", runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), cpuModel(), runtime.GOMAXPROCS(0))
 	fmt.Fprintf(w, "go: %s\n", runtime.Version())
@@ -336,9 +337,9 @@ func bench(w io.Writer, s *sim.Study, cfg config) error {
 	// One untimed run of each, so neither pays for first-touch page
 	// faults or a cold cache in the timings.
 	warm := *s
-	warm.Replicates = min(s.Replicates, 10*sim.BlockSize)
+	warm.Replicates = min(s.Replicates, 10*study.BlockSize)
 	floor(&warm, ref, 2)
-	if _, err := sim.Run(context.Background(), &warm, sim.Options{Workers: 2}); err != nil {
+	if _, err := runner.Run(context.Background(), &warm, runner.Options{Workers: 2}); err != nil {
 		return err
 	}
 
@@ -405,18 +406,18 @@ func bench(w io.Writer, s *sim.Study, cfg config) error {
 	fmt.Fprintf(w, "coverage_floor_by_n: %s\n", list(cf, "%.4f"))
 	fmt.Fprintf(w, "coverage_sim_by_n: %s\n", list(cs, "%.4f"))
 
-	// Allocations: the mallocs of a whole sim.Run, at the study's
+	// Allocations: the mallocs of a whole runner.Run, at the study's
 	// replicates and at a tenth of them. What a replicate costs is the
 	// growth of the count with the replicates, not the count over them,
 	// which is mostly setup.
 	var mallocs [2]uint64
 	tenth := *s
-	tenth.Replicates = max(s.Replicates/10, sim.MinReplicates)
-	for i, st := range []*sim.Study{&tenth, s} {
+	tenth.Replicates = max(s.Replicates/10, study.MinReplicates)
+	for i, st := range []*study.Study{&tenth, s} {
 		var before, after runtime.MemStats
 		runtime.GC()
 		runtime.ReadMemStats(&before)
-		if _, err := sim.Run(context.Background(), st, sim.Options{Workers: 2}); err != nil {
+		if _, err := runner.Run(context.Background(), st, runner.Options{Workers: 2}); err != nil {
 			return err
 		}
 		runtime.ReadMemStats(&after)
@@ -424,11 +425,11 @@ func bench(w io.Writer, s *sim.Study, cfg config) error {
 	}
 	dReps := float64(s.Replicates-tenth.Replicates) * float64(len(s.SampleSizes))
 	perRep := max(float64(mallocs[1])-float64(mallocs[0]), 0) / dReps
-	fmt.Fprintf(w, "allocs_per_replicate: %.6f (sim.Run at 2 workers: %d mallocs at %d replicates per n, %d at %d; the replicate itself: see BenchmarkReplicate)\n",
+	fmt.Fprintf(w, "allocs_per_replicate: %.6f (runner.Run at 2 workers: %d mallocs at %d replicates per n, %d at %d; the replicate itself: see BenchmarkReplicate)\n",
 		perRep, mallocs[0], tenth.Replicates, mallocs[1], s.Replicates)
 
 	// Memory: a fresh process per size, so each peak is its own. The
-	// strict figure is sim.Run alone in a small process; `deltaprobe run`
+	// strict figure is runner.Run alone in a small process; `deltaprobe run`
 	// (with -cli) adds the report, as users run it.
 	mem := map[int]childFigures{}
 	for _, r := range []int{cfg.small, cfg.large} {
@@ -477,7 +478,7 @@ func bench(w io.Writer, s *sim.Study, cfg config) error {
 	// A malloc per block would be 0.001 a replicate; what may remain below
 	// that is bookkeeping that grows with the logarithm of the blocks.
 	fmt.Fprintf(w, "target allocs_per_replicate<0.0001 (none per replicate, none per block): %s\n", check(perRep < 1e-4))
-	fmt.Fprintf(w, "target rss_ratio<=%.2f (sim.Run alone): %s\n", maxRSSGrow, check(rssRatio <= maxRSSGrow))
+	fmt.Fprintf(w, "target rss_ratio<=%.2f (runner.Run alone): %s\n", maxRSSGrow, check(rssRatio <= maxRSSGrow))
 	if !math.IsNaN(cliRatio) {
 		fmt.Fprintf(w, "target rss_ratio<=%.2f (deltaprobe run): %s\n", maxRSSGrow, check(cliRatio <= maxRSSGrow))
 	}
@@ -527,7 +528,7 @@ func spawnChild(path string, replicates int) (childFigures, error) {
 
 // runChild runs the study once with the given replicates and prints its
 // peak RSS and peak heap in KiB.
-func runChild(s *sim.Study, replicates int) error {
+func runChild(s *study.Study, replicates int) error {
 	s.Replicates = replicates
 	stop := make(chan struct{})
 	peak := make(chan int64)
@@ -550,7 +551,7 @@ func runChild(s *sim.Study, replicates int) error {
 			}
 		}
 	}()
-	_, err := sim.Run(context.Background(), s, sim.Options{})
+	_, err := runner.Run(context.Background(), s, runner.Options{})
 	close(stop)
 	heap := <-peak
 	if err != nil {

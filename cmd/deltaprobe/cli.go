@@ -15,7 +15,10 @@ import (
 	"time"
 
 	"deltaprobe/report"
-	"deltaprobe/sim"
+	"deltaprobe/sim/family"
+	"deltaprobe/sim/plan"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // Exit statuses.
@@ -64,7 +67,7 @@ func run(args []string, stdout, stderr io.Writer) int {
 	case "merge":
 		return cmdMerge(args[1:], stdout, stderr)
 	case "version":
-		fmt.Fprintln(stdout, "deltaprobe", sim.Version)
+		fmt.Fprintln(stdout, "deltaprobe", runner.Version)
 		return exitOK
 	case "help", "-h", "-help", "--help":
 		fmt.Fprint(stdout, usage)
@@ -106,12 +109,12 @@ func newFlagSet(name, synopsis string, stderr io.Writer) *flag.FlagSet {
 }
 
 // loadStudy loads one study file named as the only positional argument.
-func loadStudy(cmd string, positional []string, stderr io.Writer) (*sim.Study, int) {
+func loadStudy(cmd string, positional []string, stderr io.Writer) (*study.Study, int) {
 	if len(positional) != 1 {
 		fmt.Fprintf(stderr, "deltaprobe %s: give exactly one study file (got %d arguments)\n", cmd, len(positional))
 		return nil, exitUsage
 	}
-	s, err := sim.Load(positional[0])
+	s, err := study.Load(positional[0])
 	if err != nil {
 		fmt.Fprintln(stderr, err)
 		return nil, exitUsage
@@ -148,7 +151,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	}
 	given := givenFlags(fs)
 	if given["replicates"] && *replicates == 0 {
-		fmt.Fprintf(stderr, "deltaprobe run: -replicates 0 is out of range: accepted are %d to %d\n", sim.MinReplicates, sim.MaxReplicates)
+		fmt.Fprintf(stderr, "deltaprobe run: -replicates 0 is out of range: accepted are %d to %d\n", study.MinReplicates, study.MaxReplicates)
 		return exitUsage
 	}
 	if given["seed"] && *seed < 0 {
@@ -156,8 +159,8 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	var (
-		s   *sim.Study
-		res *sim.Result
+		s   *study.Study
+		res *runner.Result
 		dir string
 	)
 	if *resume != "" && *shardFlag != "" {
@@ -191,7 +194,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
 			return exitUsage
 		}
-		res = sim.NewResult(s)
+		res = runner.NewResult(s)
 		if *shardFlag != "" {
 			sh, err := parseShard(*shardFlag, *shards, os.Getenv)
 			if err != nil {
@@ -202,7 +205,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		}
 	}
 
-	est := sim.EstimateWork(s, *workers, 50*time.Millisecond)
+	est := runner.EstimateWork(s, *workers, 50*time.Millisecond)
 	if *dryRun || !*quiet {
 		printEstimate(stderr, est, *workers)
 	}
@@ -219,25 +222,25 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		return exitFailure
 	}
 	resultPath := filepath.Join(dir, "result.json")
-	if err := sim.SaveResult(resultPath, res); err != nil {
+	if err := runner.SaveResult(resultPath, res); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
 		return exitFailure
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
-	opt := sim.Options{
+	opt := runner.Options{
 		Workers:         *workers,
-		Checkpoint:      func(r *sim.Result) error { return sim.SaveResult(resultPath, r) },
+		Checkpoint:      func(r *runner.Result) error { return runner.SaveResult(resultPath, r) },
 		CheckpointEvery: *every,
 	}
 	if !*quiet {
 		opt.Progress = progressPrinter(stderr)
 	}
-	runErr := sim.RunBlocks(ctx, s, res, nil, opt)
+	runErr := runner.RunBlocks(ctx, s, res, nil, opt)
 	if !*quiet {
 		fmt.Fprintln(stderr)
 	}
-	if err := sim.SaveResult(resultPath, res); err != nil {
+	if err := runner.SaveResult(resultPath, res); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
 		return exitFailure
 	}
@@ -270,10 +273,10 @@ func givenFlags(fs *flag.FlagSet) map[string]bool {
 	return given
 }
 
-func applyOverrides(s *sim.Study, replicates int, seed int64, stderr io.Writer) int {
+func applyOverrides(s *study.Study, replicates int, seed int64, stderr io.Writer) int {
 	if replicates != 0 {
-		if replicates < sim.MinReplicates || replicates > sim.MaxReplicates {
-			fmt.Fprintf(stderr, "deltaprobe run: -replicates %d is out of range: accepted are %d to %d\n", replicates, sim.MinReplicates, sim.MaxReplicates)
+		if replicates < study.MinReplicates || replicates > study.MaxReplicates {
+			fmt.Fprintf(stderr, "deltaprobe run: -replicates %d is out of range: accepted are %d to %d\n", replicates, study.MinReplicates, study.MaxReplicates)
 			return exitUsage
 		}
 		s.Replicates = replicates
@@ -290,7 +293,7 @@ func applyOverrides(s *sim.Study, replicates int, seed int64, stderr io.Writer) 
 
 // loadForResume reads DIR/result.json and the study it was run from; a
 // study file named beside -resume must be the same file.
-func loadForResume(dir string, positional []string, overrides bool, stderr io.Writer) (*sim.Study, *sim.Result, int) {
+func loadForResume(dir string, positional []string, overrides bool, stderr io.Writer) (*study.Study, *runner.Result, int) {
 	if overrides {
 		fmt.Fprintln(stderr, "deltaprobe run: -resume continues a run as it was started; it takes no -o, -replicates or -seed")
 		return nil, nil, exitUsage
@@ -299,18 +302,18 @@ func loadForResume(dir string, positional []string, overrides bool, stderr io.Wr
 		fmt.Fprintf(stderr, "deltaprobe run: -resume takes at most one study file (got %d arguments)\n", len(positional))
 		return nil, nil, exitUsage
 	}
-	res, err := sim.LoadResult(filepath.Join(dir, "result.json"))
+	res, err := runner.LoadResult(filepath.Join(dir, "result.json"))
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: cannot resume: %v\n", err)
 		return nil, nil, exitUsage
 	}
-	s, err := sim.ResumeStudy(res)
+	s, err := runner.ResumeStudy(res)
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: %v\n", dir, err)
 		return nil, nil, exitUsage
 	}
 	if len(positional) == 1 {
-		given, err := sim.Load(positional[0])
+		given, err := study.Load(positional[0])
 		if err != nil {
 			fmt.Fprintln(stderr, err)
 			return nil, nil, exitUsage
@@ -340,7 +343,7 @@ func removeStaleTemps(dir string) {
 // of which the simulation is under 5 MiB).
 const reportMemory = 48 << 20
 
-func printEstimate(w io.Writer, e sim.Estimate, workers int) {
+func printEstimate(w io.Writer, e runner.Estimate, workers int) {
 	if workers == 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
@@ -425,7 +428,7 @@ func cmdPredict(args []string, stdout, stderr io.Writer) int {
 	if s == nil {
 		return code
 	}
-	report.PredictTable(stdout, sim.NewResult(s))
+	report.PredictTable(stdout, runner.NewResult(s))
 	return exitOK
 }
 
@@ -439,7 +442,7 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "deltaprobe families: takes no arguments (got %q)\n", positional)
 		return exitUsage
 	}
-	for _, f := range sim.Families() {
+	for _, f := range family.All() {
 		fmt.Fprintf(stdout, "%s — %s\n", f.Name, f.Summary)
 		for _, p := range f.Params {
 			fmt.Fprintf(stdout, "    %-8s %s\n", p.Name, p.Accepts)
@@ -452,7 +455,7 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 
 // familyParams names what a family estimates, building a model at
 // harmless values only to ask it.
-func familyParams(f *sim.Family) []string {
+func familyParams(f *family.Family) []string {
 	values := map[string]float64{}
 	for _, p := range f.Params {
 		values[p.Name] = representative(p)
@@ -464,7 +467,7 @@ func familyParams(f *sim.Family) []string {
 	return m.Params()
 }
 
-func representative(p sim.ParamSpec) float64 {
+func representative(p family.ParamSpec) float64 {
 	for _, v := range []float64{0.5, 1, 2, 0} {
 		if p.Check(v) && (!p.Integer || v == float64(int(v))) {
 			return v
@@ -484,7 +487,7 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 	dir := positional[0]
-	res, err := sim.LoadResult(filepath.Join(dir, "result.json"))
+	res, err := runner.LoadResult(filepath.Join(dir, "result.json"))
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
 		return exitUsage
@@ -542,7 +545,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	if !*quiet {
 		fmt.Fprintf(stderr, "planning %d transforms over n in [%d, %d]...\n", len(s.Transforms), s.Plan.NMin, s.Plan.NMax)
 	}
-	plan, err := sim.Plan(ctx, s, *budget, sim.Options{Workers: *workers})
+	plan, err := plan.Plan(ctx, s, *budget, runner.Options{Workers: *workers})
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		if errors.Is(err, context.Canceled) {
@@ -562,16 +565,16 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 // parseShard reads "K/N", or "auto": the index from a Slurm job array
 // (SLURM_ARRAY_TASK_ID, SLURM_ARRAY_TASK_MIN, SLURM_ARRAY_TASK_COUNT) or
 // an indexed job (JOB_COMPLETION_INDEX, with the count from -shards).
-func parseShard(spec string, shards int, getenv func(string) string) (sim.Shard, error) {
+func parseShard(spec string, shards int, getenv func(string) string) (runner.Shard, error) {
 	if spec != "auto" {
 		var k, n int
 		if _, err := fmt.Sscanf(spec, "%d/%d", &k, &n); err != nil || fmt.Sprintf("%d/%d", k, n) != spec {
-			return sim.Shard{}, fmt.Errorf("-shard %q: give K/N with whole numbers, e.g. 0/4, or auto", spec)
+			return runner.Shard{}, fmt.Errorf("-shard %q: give K/N with whole numbers, e.g. 0/4, or auto", spec)
 		}
 		if n < 1 || k < 0 || k >= n {
-			return sim.Shard{}, fmt.Errorf("-shard %s: need 0 ≤ K < N", spec)
+			return runner.Shard{}, fmt.Errorf("-shard %s: need 0 ≤ K < N", spec)
 		}
-		return sim.Shard{Index: k, Count: n}, nil
+		return runner.Shard{Index: k, Count: n}, nil
 	}
 	atoi := func(name string) (int, bool, error) {
 		v := getenv(name)
@@ -586,38 +589,38 @@ func parseShard(spec string, shards int, getenv func(string) string) (sim.Shard,
 	}
 	if id, ok, err := atoi("SLURM_ARRAY_TASK_ID"); ok || err != nil {
 		if err != nil {
-			return sim.Shard{}, err
+			return runner.Shard{}, err
 		}
 		count, okCount, err := atoi("SLURM_ARRAY_TASK_COUNT")
 		if err != nil || !okCount {
-			return sim.Shard{}, fmt.Errorf("-shard auto: SLURM_ARRAY_TASK_ID is set but SLURM_ARRAY_TASK_COUNT is not (%v)", err)
+			return runner.Shard{}, fmt.Errorf("-shard auto: SLURM_ARRAY_TASK_ID is set but SLURM_ARRAY_TASK_COUNT is not (%v)", err)
 		}
 		lo, _, err := atoi("SLURM_ARRAY_TASK_MIN")
 		if err != nil {
-			return sim.Shard{}, err
+			return runner.Shard{}, err
 		}
 		if shards > 0 && shards != count {
-			return sim.Shard{}, fmt.Errorf("-shards %d disagrees with SLURM_ARRAY_TASK_COUNT=%d", shards, count)
+			return runner.Shard{}, fmt.Errorf("-shards %d disagrees with SLURM_ARRAY_TASK_COUNT=%d", shards, count)
 		}
 		k := id - lo
 		if k < 0 || k >= count {
-			return sim.Shard{}, fmt.Errorf("-shard auto: task %d is outside the array's %d tasks from %d; deltaprobe needs a contiguous array such as --array=0-%d", id, count, lo, count-1)
+			return runner.Shard{}, fmt.Errorf("-shard auto: task %d is outside the array's %d tasks from %d; deltaprobe needs a contiguous array such as --array=0-%d", id, count, lo, count-1)
 		}
-		return sim.Shard{Index: k, Count: count}, nil
+		return runner.Shard{Index: k, Count: count}, nil
 	}
 	if idx, ok, err := atoi("JOB_COMPLETION_INDEX"); ok || err != nil {
 		if err != nil {
-			return sim.Shard{}, err
+			return runner.Shard{}, err
 		}
 		if shards < 1 {
-			return sim.Shard{}, fmt.Errorf("-shard auto under an indexed job needs -shards N, the job's completions")
+			return runner.Shard{}, fmt.Errorf("-shard auto under an indexed job needs -shards N, the job's completions")
 		}
 		if idx < 0 || idx >= shards {
-			return sim.Shard{}, fmt.Errorf("JOB_COMPLETION_INDEX=%d is outside 0..%d", idx, shards-1)
+			return runner.Shard{}, fmt.Errorf("JOB_COMPLETION_INDEX=%d is outside 0..%d", idx, shards-1)
 		}
-		return sim.Shard{Index: idx, Count: shards}, nil
+		return runner.Shard{Index: idx, Count: shards}, nil
 	}
-	return sim.Shard{}, fmt.Errorf("-shard auto: neither SLURM_ARRAY_TASK_ID nor JOB_COMPLETION_INDEX is set; give -shard K/N")
+	return runner.Shard{}, fmt.Errorf("-shard auto: neither SLURM_ARRAY_TASK_ID nor JOB_COMPLETION_INDEX is set; give -shard K/N")
 }
 
 func cmdMerge(args []string, stdout, stderr io.Writer) int {
@@ -633,20 +636,20 @@ func cmdMerge(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintln(stderr, "deltaprobe merge: give -o DIR and at least one part (a result.json or the folder holding it)")
 		return exitUsage
 	}
-	var parts []sim.Part
+	var parts []runner.Part
 	for _, p := range positional {
 		path := p
 		if st, err := os.Stat(p); err == nil && st.IsDir() {
 			path = filepath.Join(p, "result.json")
 		}
-		res, err := sim.LoadResult(path)
+		res, err := runner.LoadResult(path)
 		if err != nil {
 			fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
 			return exitUsage
 		}
-		parts = append(parts, sim.Part{Name: p, Result: res})
+		parts = append(parts, runner.Part{Name: p, Result: res})
 	}
-	merged, err := sim.Merge(parts, *partial)
+	merged, err := runner.Merge(parts, *partial)
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
 		return exitUsage
@@ -659,7 +662,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "deltaprobe merge: creating output folder: %v\n", err)
 		return exitFailure
 	}
-	if err := sim.SaveResult(filepath.Join(*out, "result.json"), merged); err != nil {
+	if err := runner.SaveResult(filepath.Join(*out, "result.json"), merged); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
 		return exitFailure
 	}

@@ -8,7 +8,7 @@ import (
 	"strings"
 	"testing"
 
-	"deltaprobe/sim"
+	"deltaprobe/sim/runner"
 )
 
 // shardStudy has several blocks per n so that every shard count splits
@@ -108,8 +108,8 @@ func TestMergeRefusesBadSets(t *testing.T) {
 	if code, _, stderr := runCLI(t, "run", study, "-shard", "1/3", "-o", again, "-quiet"); code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
-	r1, _ := sim.LoadResult(filepath.Join(b, "result.json"))
-	r2, _ := sim.LoadResult(filepath.Join(again, "result.json"))
+	r1, _ := runner.LoadResult(filepath.Join(b, "result.json"))
+	r2, _ := runner.LoadResult(filepath.Join(again, "result.json"))
 	if fmt.Sprint(r1.Cells[0][2].Blocks) != fmt.Sprint(r2.Cells[0][2].Blocks) {
 		t.Errorf("a re-run shard differs from the first run")
 	}

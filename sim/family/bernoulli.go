@@ -1,0 +1,44 @@
+package family
+
+import "math/rand/v2"
+
+func init() {
+	register(&Family{
+		Name:      "bernoulli",
+		Summary:   "Bernoulli(p): 1 with probability p, else 0",
+		Estimator: "MLE: proportion of ones (unbiased); it is 0 or 1 when every draw agrees",
+		Discrete:  true,
+		Params: []ParamSpec{
+			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
+		},
+		New: func(v map[string]float64) (Model, error) { return bernoulliModel{p: v["p"]}, nil },
+	})
+}
+
+// bernoulliModel is the Bernoulli family, θ = (p).
+type bernoulliModel struct{ p float64 }
+
+func (bernoulliModel) Params() []string { return []string{"p"} }
+
+func (m bernoulliModel) Truth(theta []float64) { theta[0] = m.p }
+
+// Fit draws each observation from one uniform, 1 when U < p, and returns
+// the proportion of ones. The MLE exists on the boundary too (0 or 1 when
+// the draws all agree), so Fit always reports true; a transform such as the
+// logit is then infinite, which is the runner's to handle.
+func (m bernoulliModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+	count := 0
+	for range n {
+		if rng.Float64() < m.p {
+			count++
+		}
+	}
+	theta[0] = float64(count) / float64(n)
+	return true
+}
+
+// Cov is the inverse Fisher information of one observation, p(1−p).
+func (bernoulliModel) Cov(theta, cov []float64) { cov[0] = theta[0] * (1 - theta[0]) }
+
+// Bias is zero: the proportion is unbiased.
+func (bernoulliModel) Bias(theta, bias []float64) { bias[0] = 0 }

@@ -1,0 +1,81 @@
+package family
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+)
+
+func init() {
+	register(&Family{
+		Name:      "binomial",
+		Summary:   "Binomial(size, p) per observation, size fixed and known",
+		Estimator: "MLE of p: total successes over n·size trials (unbiased)",
+		Discrete:  true,
+		Params: []ParamSpec{
+			{Name: "size", Integer: true, Accepts: "a whole number ≥ 1", Check: atLeastOne},
+			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
+		},
+		New: func(v map[string]float64) (Model, error) { return newBinomialModel(v["size"], v["p"]) },
+	})
+}
+
+// binomialSizeMax is the largest whole number a float64 holds exactly.
+const binomialSizeMax = 1 << 53
+
+// binomialModel is the binomial family with size fixed, θ = (p).
+type binomialModel struct {
+	size  float64
+	p     float64
+	table *cdfTable
+}
+
+// newBinomialModel tabulates Binomial(size, p) from its mode ⌊(size+1)p⌋
+// with f(k+1)/f(k) = (size−k)p/((k+1)(1−p)) and
+// f(k−1)/f(k) = k(1−p)/((size−k+1)p). A distribution whose table would
+// exceed maxTableLen entries (size·p·(1−p) above about 3·10⁹) is refused
+// rather than approximated.
+func newBinomialModel(size, p float64) (*binomialModel, error) {
+	if size < 1 || size != math.Floor(size) || size > binomialSizeMax {
+		return nil, fmt.Errorf("sim: binomial size %g is not a whole number in [1, %d]", size, int64(binomialSizeMax))
+	}
+	if !(p > 0 && p < 1) {
+		return nil, fmt.Errorf("sim: binomial p %g is not strictly between 0 and 1", p)
+	}
+	odds := p / (1 - p)
+	mode := int(math.Floor((size + 1) * p))
+	if mode > int(size) {
+		mode = int(size)
+	}
+	t, err := newUnimodalTable(mode, 0, int(size),
+		func(k int) float64 { return (size - float64(k)) / float64(k+1) * odds },
+		func(k int) float64 { return float64(k) / (size - float64(k) + 1) / odds })
+	if err != nil {
+		return nil, fmt.Errorf("sim: binomial(size %g, p %g): %w; accepted are sizes with size·p·(1−p) up to about 3e9", size, p, err)
+	}
+	return &binomialModel{size: size, p: p, table: t}, nil
+}
+
+func (*binomialModel) Params() []string { return []string{"p"} }
+
+func (m *binomialModel) Truth(theta []float64) { theta[0] = m.p }
+
+// Fit draws n binomial counts by table inversion and returns the total over
+// n·size trials. (The total is Binomial(n·size, p), but the design draws
+// each observation.)
+func (m *binomialModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+	var sum float64
+	for range n {
+		sum += float64(m.table.draw(rng))
+	}
+	theta[0] = sum / (float64(n) * m.size)
+	return true
+}
+
+// Cov is the inverse Fisher information of one binomial observation,
+// p(1−p)/size: the score is y/p − (size−y)/(1−p) with variance
+// size/(p(1−p)).
+func (m *binomialModel) Cov(theta, cov []float64) { cov[0] = theta[0] * (1 - theta[0]) / m.size }
+
+// Bias is zero: the proportion is unbiased.
+func (*binomialModel) Bias(theta, bias []float64) { bias[0] = 0 }

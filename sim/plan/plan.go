@@ -1,0 +1,351 @@
+package plan
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"sort"
+
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
+)
+
+// PlanStep is one evaluation of one transform at one n: the last look
+// taken there, and its verdict.
+type PlanStep struct {
+	Transform  string
+	Step       int // evaluation order within the transform, from 1
+	N          int
+	Replicates int64
+	Looks      int         // looks taken at this n
+	Row        measure.Row // measures and checks at the last look
+	Budget     bool        // stopped because the budget ran out
+}
+
+// PlanResult is the outcome of a plan.
+type PlanResult struct {
+	Steps    []PlanStep
+	Verdicts []measure.TransformVerdict
+	// Per transform, in study order:
+	Window       []int         // integers above the answer that were checked
+	LargestFail  []int         // largest n found failing above any candidate; 0 if none
+	Oscillations [][]int       // failing n found above a candidate, in order
+	Undecided    [][]int       // unclear n above the answer
+	Spent        map[int]int64 // replicates simulated per n
+	Total        int64
+	Method       string // how the error was spent over looks
+	Z            float64
+	Exhausted    bool // the -budget cap was reached
+}
+
+// planner searches, for each transform, the smallest n from which this n
+// and every larger n checked pass.
+type planner struct {
+	ctx    context.Context
+	s      *study.Study
+	spec   study.PlanSpec
+	opt    runner.Options
+	budget int64 // 0 means no cap
+	z      float64
+	cache  map[int]*runner.Result // per n: a one-point result, grown by batches
+	out    *PlanResult
+	evals  map[[2]int]PlanStep // (transform, n) → its evaluation
+	steps  []int               // next step number per transform
+}
+
+// Plan runs the sequential search of s.Plan. budget caps the replicates
+// simulated across the whole plan (0: no cap).
+//
+// Each criterion at each n is decided from a Monte Carlo interval that is
+// widened for repeated looks: the error 1 − confidence is split equally
+// (Bonferroni) over the largest number of looks max_replicates allows, so
+// every decision holds its confidence however many batches it took.
+func Plan(ctx context.Context, s *study.Study, budget int64, opt runner.Options) (*PlanResult, error) {
+	if s.Plan == nil {
+		return nil, fmt.Errorf("%s has no [plan] table", s.File)
+	}
+	spec := *s.Plan
+	looks := spec.Looks()
+	alpha := (1 - spec.Confidence) / float64(looks)
+	z := normalQuantile(1 - alpha/2)
+	p := &planner{
+		ctx: ctx, s: s, spec: spec, opt: opt, budget: budget, z: z,
+		cache: map[int]*runner.Result{}, evals: map[[2]int]PlanStep{},
+		steps: make([]int, len(s.Transforms)),
+		out: &PlanResult{
+			Spent: map[int]int64{}, Z: z,
+			Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
+		},
+	}
+	for t := range s.Transforms {
+		if err := p.search(t); err != nil {
+			return p.out, err
+		}
+	}
+	return p.out, nil
+}
+
+func normalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }
+
+// window is how many integers above a candidate are checked, unless the
+// study says: for discrete data 20% of it, from 10 to 60 integers, since
+// coverage of a Wald interval for discrete data oscillates in n (Brown,
+// Cai & DasGupta 2001), so a pass at one n says little about the next;
+// for continuous data 10%, from 3 to 25, where the check guards against
+// Monte Carlo luck rather than oscillation. The window bounds what the
+// plan can vouch for, and is reported.
+func (p *planner) window(c int) int {
+	if p.spec.Window > 0 {
+		return p.spec.Window
+	}
+	if p.s.Discrete() {
+		return min(60, max(10, int(math.Ceil(0.2*float64(c)))))
+	}
+	return min(25, max(3, int(math.Ceil(0.1*float64(c)))))
+}
+
+func (p *planner) search(t int) error {
+	lo, hi := p.spec.NMin, p.spec.NMax
+	window := 0
+	// bracket returns the smallest passing n found by doubling from
+	// start, and the last non-passing n before it (0 if none).
+	bracket := func(start int) (pass, fail int, err error) {
+		n := start
+		for {
+			v, err := p.eval(t, n)
+			if err != nil {
+				return 0, 0, err
+			}
+			if v == measure.Pass {
+				return n, fail, nil
+			}
+			fail = n
+			if n >= hi {
+				return 0, fail, nil
+			}
+			n = min(hi, 2*n)
+		}
+	}
+	pass, fail, err := bracket(lo)
+	if err != nil {
+		return err
+	}
+	for {
+		if pass == 0 {
+			p.finish(t, 0, window, false)
+			return nil
+		}
+		// Bisect on integers between the last failure and the pass.
+		for fail > 0 && pass-fail > 1 {
+			mid := fail + (pass-fail)/2
+			v, err := p.eval(t, mid)
+			if err != nil {
+				return err
+			}
+			if v == measure.Pass {
+				pass = mid
+			} else {
+				fail = mid
+			}
+		}
+		// Confirm: no integer in the window above may fail, and no n
+		// already evaluated above may either. An undecided n there is
+		// reported but does not move the answer: near the threshold the
+		// budget cannot decide, and that is not evidence of a failure.
+		window = p.window(pass)
+		top := min(hi, pass+window)
+		worst := 0
+		for m := pass + 1; m <= top; m++ {
+			v, err := p.eval(t, m)
+			if err != nil {
+				return err
+			}
+			if v == measure.Fail {
+				worst = m
+			}
+		}
+		for key, st := range p.evals {
+			if key[0] == t && st.N > pass && st.Row.Verdict == measure.Fail && st.N > worst {
+				worst = st.N
+			}
+		}
+		if worst == 0 {
+			// A window the budget could not look at vouches for nothing.
+			for m := pass + 1; m <= top; m++ {
+				if st := p.evals[[2]int{t, m}]; st.Budget && st.Row.Verdict == measure.Unclear {
+					p.finish(t, pass, window, true)
+					return nil
+				}
+			}
+			p.finish(t, pass, window, false)
+			return nil
+		}
+		if worst >= hi {
+			p.finish(t, 0, window, false)
+			return nil
+		}
+		// Search again above the failure.
+		if pass, fail, err = bracket(worst + 1); err != nil {
+			return err
+		}
+		if fail == 0 {
+			fail = worst
+		}
+	}
+}
+
+// eval decides transform t at n, adding batches until its verdict is
+// decided or the replicates per n (or the plan's budget) are spent.
+func (p *planner) eval(t, n int) (measure.Verdict, error) {
+	if st, ok := p.evals[[2]int{t, n}]; ok {
+		return st.Row.Verdict, nil
+	}
+	res := p.cache[n]
+	if res == nil {
+		one := *p.s
+		one.SampleSizes = []int{n}
+		one.Replicates = 0
+		res = runner.NewResult(&one)
+		p.cache[n] = res
+	}
+	looks := p.spec.Looks()
+	var st PlanStep
+	for k := 1; k <= looks; k++ {
+		reps := min(k*p.spec.Batch, p.spec.MaxReplicates)
+		have := res.Cells[0][0].Replicates
+		if int64(reps) < have {
+			// Other transforms already simulated more here; a look at a
+			// count already held is one of the looks the split covers.
+			continue
+		}
+		budgetHit := false
+		if int64(reps) > have {
+			if p.budget > 0 && p.out.Total+int64(reps)-have > p.budget {
+				budgetHit = true
+			} else {
+				if err := p.grow(res, n, reps); err != nil {
+					return "", err
+				}
+			}
+		}
+		row := measure.SummarizeCell(res, t, 0, p.z)
+		st = PlanStep{Transform: p.s.Transforms[t].Name, N: n, Replicates: res.Cells[t][0].Replicates, Looks: k, Row: row, Budget: budgetHit}
+		if budgetHit {
+			p.out.Exhausted = true
+			if row.Replicates == 0 {
+				st.Row.Verdict = measure.Unclear
+			}
+			break
+		}
+		if row.Verdict != measure.Unclear {
+			break
+		}
+	}
+	p.steps[t]++
+	st.Step = p.steps[t]
+	p.evals[[2]int{t, n}] = st
+	p.out.Steps = append(p.out.Steps, st)
+	return st.Row.Verdict, nil
+}
+
+// grow simulates res up to reps replicates at n.
+func (p *planner) grow(res *runner.Result, n, reps int) error {
+	one := *p.s
+	one.SampleSizes = []int{n}
+	one.Replicates = reps
+	before := res.Cells[0][0].Replicates
+	if err := runner.RunBlocks(p.ctx, &one, res, nil, p.opt); err != nil {
+		return err
+	}
+	res.Study.Replicates = reps
+	added := res.Cells[0][0].Replicates - before
+	p.out.Spent[n] += added
+	p.out.Total += added
+	return nil
+}
+
+// finish records the verdict of transform t from everything evaluated
+// for it. answer is the search's smallest adequate n (0: none); budgetCut
+// says the budget ran out before answer's window was checked, which makes
+// the status unclear.
+//
+// The per-criterion columns follow the answer's own rule: the smallest
+// evaluated n where the criterion passed and above which no evaluated n
+// failed it (an undecided n does not count against it), so the limiting
+// criterion's n never exceeds smallest_n.
+func (p *planner) finish(t, answer, window int, budgetCut bool) {
+	var steps []PlanStep
+	for key, st := range p.evals {
+		if key[0] == t {
+			steps = append(steps, st)
+		}
+	}
+	sort.Slice(steps, func(i, j int) bool { return steps[i].N < steps[j].N })
+	tv := measure.TransformVerdict{Transform: p.s.Transforms[t].Name}
+	for c := range measure.CriterionNames {
+		for i := len(steps) - 1; i >= 0; i-- {
+			v := steps[i].Row.Checks[c].Verdict
+			if v == measure.Fail {
+				break
+			}
+			if v == measure.Pass {
+				tv.PerCriterion[c] = steps[i].N
+			}
+		}
+	}
+	top := steps[len(steps)-1].Row
+	switch {
+	case answer > 0 && !budgetCut:
+		tv.Status, tv.SmallestN = measure.Adequate, answer
+		tv.Limiting = "none"
+		if answer > p.spec.NMin {
+			best := 0
+			for c := range measure.CriterionNames {
+				if tv.PerCriterion[c] > best {
+					best, tv.Limiting = tv.PerCriterion[c], measure.CriterionNames[c]
+				}
+			}
+		}
+	case budgetCut || top.Verdict != measure.Fail:
+		tv.Status = measure.StatusUnclear
+	default:
+		tv.Status = measure.NotReached
+	}
+	if tv.Status != measure.Adequate {
+		want := top.Verdict
+		if tv.Status == measure.StatusUnclear && want == measure.Pass {
+			want = measure.Unclear
+		}
+		for c := range measure.CriterionNames {
+			if top.Checks[c].Verdict == want {
+				tv.Limiting = measure.CriterionNames[c]
+				break
+			}
+		}
+	}
+	// Oscillation: a failure above the smallest n that ever passed.
+	firstPass := 0
+	for _, st := range steps {
+		if st.Row.Verdict == measure.Pass {
+			firstPass = st.N
+			break
+		}
+	}
+	var osc, undecided []int
+	largest := 0
+	for _, st := range steps {
+		if firstPass > 0 && st.N > firstPass && st.Row.Verdict == measure.Fail {
+			osc = append(osc, st.N)
+			largest = st.N
+		}
+		if tv.Status == measure.Adequate && st.N > answer && st.Row.Verdict == measure.Unclear {
+			undecided = append(undecided, st.N)
+		}
+	}
+	p.out.Undecided = append(p.out.Undecided, undecided)
+	p.out.Verdicts = append(p.out.Verdicts, tv)
+	p.out.Window = append(p.out.Window, window)
+	p.out.LargestFail = append(p.out.LargestFail, largest)
+	p.out.Oscillations = append(p.out.Oscillations, osc)
+}

@@ -1,0 +1,87 @@
+package runner
+
+import (
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"time"
+
+	"deltaprobe/sim/study"
+)
+
+// Estimate is the work a study asks for, and what it should cost here.
+type Estimate struct {
+	Draws       int64         // observations drawn in all
+	Replicates  int64         // replicates in all
+	PerDrawNS   float64       // expected nanoseconds per draw, fit and score included, from a calibration
+	Time        time.Duration // expected wall time with the given workers
+	MemoryBytes int64         // memory of the simulation's state, roughly (the report adds its own)
+}
+
+// EstimateWork counts the draws of s and times a short calibration run
+// (about calibrate long) at the largest sample size, so the estimate
+// includes fitting and scoring as well as drawing.
+func EstimateWork(s *study.Study, workers int, calibrate time.Duration) Estimate {
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	var e Estimate
+	for _, n := range s.SampleSizes {
+		e.Draws += int64(s.Replicates) * int64(s.DrawsPerReplicate(n))
+		e.Replicates += int64(s.Replicates)
+	}
+	// Per worker: two pivot histograms per transform; per result: the same
+	// per cell plus a few words per block.
+	cells := int64(len(s.Transforms) * len(s.SampleSizes))
+	hist := int64(2 * PivotBins * 8)
+	e.MemoryBytes = int64(workers)*int64(len(s.Transforms))*hist + cells*(hist+int64(Blocks(s.Replicates))*64)
+
+	if len(s.SampleSizes) == 0 {
+		return e
+	}
+	// A replicate costs a fixed part (fit's tail, transforms, accumulators)
+	// plus a part per draw; timing the smallest and the largest n
+	// separates the two, so a grid of small n is not underestimated.
+	small, large := s.SampleSizes[0], s.SampleSizes[len(s.SampleSizes)-1]
+	dSmall, dLarge := float64(s.DrawsPerReplicate(small)), float64(s.DrawsPerReplicate(large))
+	tLarge := calibrateReplicate(s, large, calibrate/2)
+	perDraw, fixed := tLarge/dLarge, 0.0
+	if dLarge > dSmall {
+		tSmall := calibrateReplicate(s, small, calibrate/2)
+		perDraw = max((tLarge-tSmall)/(dLarge-dSmall), 0)
+		fixed = max(tSmall-perDraw*dSmall, 0)
+	}
+	var ns float64
+	for _, n := range s.SampleSizes {
+		ns += float64(s.Replicates) * (fixed + perDraw*float64(s.DrawsPerReplicate(n)))
+	}
+	e.PerDrawNS = ns / float64(e.Draws)
+	e.Time = time.Duration(ns / float64(workers))
+	return e
+}
+
+// calibrateReplicate times replicates at n for about d and returns the
+// nanoseconds one takes.
+func calibrateReplicate(s *study.Study, n int, d time.Duration) float64 {
+	one := *s
+	one.SampleSizes = []int{n}
+	w := newWorker(&one, NewResult(&one))
+	// The calibration's numbers are thrown away; any stream will do.
+	w.pcg.Seed(rand.Uint64(), rand.Uint64())
+	for a := range s.Arms {
+		w.sizes[a] = s.ArmSize(a, n)
+	}
+	for t := range w.accs {
+		p := w.res.Predictions[t][0]
+		w.accs[t].truth, w.accs[t].sdDelta = p.Truth, math.Sqrt(p.DeltaVar)
+	}
+	start := time.Now()
+	reps := 0
+	for time.Since(start) < d || reps == 0 {
+		for i := 0; i < 16; i++ {
+			w.replicate()
+		}
+		reps += 16
+	}
+	return float64(time.Since(start).Nanoseconds()) / float64(reps)
+}

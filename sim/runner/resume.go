@@ -1,0 +1,63 @@
+package runner
+
+import (
+	"fmt"
+
+	"deltaprobe/sim/study"
+)
+
+// ResumeStudy rebuilds the study a saved result was run from, out of the
+// study text the result carries, with the seed and replicates it ran
+// with, and checks that the result fits it. A result that does not
+// match is refused: merging blocks of another study would be wrong
+// without any sign of it.
+func ResumeStudy(res *Result) (*study.Study, error) {
+	s, err := study.Parse(res.Study.File, []byte(res.Study.Source))
+	if err != nil {
+		return nil, fmt.Errorf("the study stored in the result no longer loads: %w", err)
+	}
+	if s.SHA256 != res.Study.SHA256 {
+		return nil, fmt.Errorf("the result's study text does not match its SHA-256 %s; the file was edited", res.Study.SHA256)
+	}
+	s.Seed = res.Study.Seed
+	s.Replicates = res.Study.Replicates
+	if err := res.Fits(s); err != nil {
+		return nil, err
+	}
+	return s, nil
+}
+
+// Fits reports whether the result can hold blocks of s: the same study
+// text, seed, replicates, block size and layout of cells.
+func (r *Result) Fits(s *study.Study) error {
+	switch {
+	case r.Study.SHA256 != s.SHA256:
+		return fmt.Errorf("the result comes from a study with SHA-256 %.12s…, not %s (SHA-256 %.12s…)", r.Study.SHA256, s.File, s.SHA256)
+	case r.Study.Seed != s.Seed:
+		return fmt.Errorf("the result was run with seed %d, not %d", r.Study.Seed, s.Seed)
+	case r.Study.Replicates != s.Replicates:
+		return fmt.Errorf("the result was run with %d replicates per n, not %d", r.Study.Replicates, s.Replicates)
+	case r.BlockSize != BlockSize:
+		return fmt.Errorf("the result uses blocks of %d replicates; this deltaprobe uses %d", r.BlockSize, BlockSize)
+	case len(r.Cells) != len(s.Transforms):
+		return fmt.Errorf("the result has %d transforms; the study has %d", len(r.Cells), len(s.Transforms))
+	}
+	for t := range r.Cells {
+		if len(r.Cells[t]) != len(s.SampleSizes) {
+			return fmt.Errorf("the result has %d sample sizes; the study has %d", len(r.Cells[t]), len(s.SampleSizes))
+		}
+		for ni, c := range r.Cells[t] {
+			if c.N != s.SampleSizes[ni] {
+				return fmt.Errorf("the result's sample size %d is %d; the study's is %d", ni+1, c.N, s.SampleSizes[ni])
+			}
+			seen := map[int]bool{}
+			for _, b := range c.Blocks {
+				if b.Block < 0 || b.Block >= Blocks(s.Replicates) || seen[b.Block] {
+					return fmt.Errorf("the result holds block %d of n=%d twice or out of range", b.Block, c.N)
+				}
+				seen[b.Block] = true
+			}
+		}
+	}
+	return nil
+}

@@ -1,0 +1,496 @@
+package runner
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"runtime/debug"
+	"slices"
+	"sort"
+	"sync"
+	"sync/atomic"
+	"time"
+	"unsafe"
+
+	"deltaprobe/sim/expr"
+	"deltaprobe/sim/study"
+)
+
+// BlockSize is the number of replicates in one block (study.BlockSize):
+// the unit of work, seeding and merging.
+const BlockSize = study.BlockSize
+
+// Version is the tool version recorded in results.
+var Version = "0.1.0"
+
+// Options control how a study runs; none of them changes its numbers.
+type Options struct {
+	Workers int // goroutines; 0 means GOMAXPROCS
+	// Progress, if set, is called after each block with the draws done
+	// and the draws in all; calls come from worker goroutines, one at a time.
+	Progress func(done, total int64)
+	// Checkpoint, if set, is called with the result's lock held after a
+	// block is merged, at most once per CheckpointEvery, so the caller can
+	// save the state a hard kill would otherwise lose.
+	Checkpoint      func(*Result) error
+	CheckpointEvery time.Duration
+}
+
+// Blocks returns the number of blocks for r replicates.
+func Blocks(r int) int { return (r + BlockSize - 1) / BlockSize }
+
+// blockSeeds derives the two PCG seeds of a block from the study seed,
+// the sample size and the block index by SplitMix64 finalisers (Steele,
+// Lea & Flood 2014), so neighbouring blocks get unrelated streams. The
+// sample size itself, not its place in the grid, enters, so adding a
+// point to the grid changes no other point's numbers.
+func blockSeeds(seed uint64, n, block int) (uint64, uint64) {
+	a := splitMix(seed ^ splitMix(uint64(n)))
+	b := splitMix(a ^ splitMix(uint64(block)+0x9e3779b97f4a7c15))
+	return a, b
+}
+
+func splitMix(x uint64) uint64 {
+	x += 0x9e3779b97f4a7c15
+	x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9
+	x = (x ^ (x >> 27)) * 0x94d049bb133111eb
+	return x ^ (x >> 31)
+}
+
+// NewResult returns an empty result for s: predictions filled in, no
+// blocks yet.
+func NewResult(s *study.Study) *Result {
+	r := &Result{
+		Layout:    ResultVersion,
+		Tool:      Version,
+		Study:     s.Info(),
+		BlockSize: BlockSize,
+	}
+	for t := range s.Transforms {
+		var preds []study.Prediction
+		var cells []*Cell
+		for _, n := range s.SampleSizes {
+			preds = append(preds, s.Predict(t, n))
+			cells = append(cells, &Cell{N: n, Delta: newHistogram(), Wald: newHistogram()})
+		}
+		r.Predictions = append(r.Predictions, preds)
+		r.Cells = append(r.Cells, cells)
+	}
+	return r
+}
+
+type job struct{ ni, block, count int }
+
+// Run simulates every block of the study and returns the merged result.
+// It stops early, returning ctx.Err() and the blocks finished so far, when
+// ctx is cancelled.
+func Run(ctx context.Context, s *study.Study, opt Options) (*Result, error) {
+	res := NewResult(s)
+	err := RunBlocks(ctx, s, res, nil, opt)
+	return res, err
+}
+
+// RunBlocks simulates the blocks of s for which want(sample size index,
+// block) is true (all blocks when want is nil) and adds them to res,
+// which must have been made by NewResult for the same study. Blocks
+// already in res are skipped.
+func RunBlocks(ctx context.Context, s *study.Study, res *Result, want func(ni, block int) bool, opt Options) error {
+	start := time.Now()
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	res.Workers = workers
+	if want == nil && res.Shard != nil {
+		want = res.Shard.Want(s)
+	}
+
+	// pending[ni][b] marks the blocks to run. Jobs are not listed: a
+	// list of 10⁶ replicates' blocks, grown by append, is most of the
+	// memory a run would otherwise gain with its replicates.
+	per := Blocks(s.Replicates)
+	pending := make([][]bool, len(s.SampleSizes))
+	var total int64
+	var count int
+	for ni, n := range s.SampleSizes {
+		pending[ni] = make([]bool, per)
+		for b := range pending[ni] {
+			pending[ni][b] = want == nil || want(ni, b)
+		}
+		if len(res.Cells) > 0 {
+			for _, b := range res.Cells[0][ni].Blocks {
+				if b.Block < per {
+					pending[ni][b.Block] = false
+				}
+			}
+		}
+		for b, p := range pending[ni] {
+			if p {
+				count++
+				total += int64(blockCount(s.Replicates, b)) * int64(s.DrawsPerReplicate(n))
+			}
+		}
+	}
+	// Job i runs block i mod per of the (i / per)-th largest sample size:
+	// largest sample sizes first, so no worker is left with a long block
+	// at the end.
+	slots := len(s.SampleSizes) * per
+	jobAt := func(i int) (job, bool) {
+		ni := len(s.SampleSizes) - 1 - i/per
+		b := i % per
+		return job{ni, b, blockCount(s.Replicates, b)}, pending[ni][b]
+	}
+
+	lastCheckpoint := time.Now()
+	var (
+		next     atomic.Int64
+		done     atomic.Int64
+		mu       sync.Mutex // guards res.Cells and the progress callback
+		wg       sync.WaitGroup
+		firstErr error
+		errOnce  sync.Once
+	)
+	fail := func(err error) { errOnce.Do(func() { firstErr = err }) }
+	for w := 0; w < min(workers, count); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			wk := newWorker(s, res)
+			for {
+				if ctx.Err() != nil {
+					return
+				}
+				i := int(next.Add(1) - 1)
+				if i >= slots {
+					return
+				}
+				j, ok := jobAt(i)
+				if !ok {
+					continue
+				}
+				if err := wk.safeRun(j); err != nil {
+					fail(err)
+					next.Store(int64(slots))
+					return
+				}
+				mu.Lock()
+				wk.flush(j)
+				d := done.Add(int64(j.count) * int64(s.DrawsPerReplicate(s.SampleSizes[j.ni])))
+				if opt.Progress != nil {
+					opt.Progress(d, total)
+				}
+				if opt.Checkpoint != nil && time.Since(lastCheckpoint) >= opt.CheckpointEvery {
+					lastCheckpoint = time.Now()
+					sortBlocks(res)
+					if err := opt.Checkpoint(res); err != nil {
+						fail(fmt.Errorf("saving the state: %w", err))
+						next.Store(int64(slots))
+					}
+				}
+				mu.Unlock()
+			}
+		}()
+	}
+	wg.Wait()
+	res.Elapsed += time.Since(start).Seconds()
+	res.Finished = time.Now().UTC().Format(time.RFC3339)
+	sortBlocks(res)
+	if res.Shard != nil {
+		res.Complete = res.shardComplete(s)
+	} else {
+		res.Complete = res.missingBlocks(s.Replicates) == 0
+	}
+	if firstErr != nil {
+		return firstErr
+	}
+	return ctx.Err()
+}
+
+// shardComplete reports whether res holds every block of its shard.
+func (res *Result) shardComplete(s *study.Study) bool {
+	want := res.Shard.Want(s)
+	for ni := range s.SampleSizes {
+		have := map[int]bool{}
+		for _, b := range res.Cells[0][ni].Blocks {
+			have[b.Block] = true
+		}
+		for b := 0; b < Blocks(s.Replicates); b++ {
+			if want(ni, b) && !have[b] {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+func sortBlocks(res *Result) {
+	for t := range res.Cells {
+		for _, c := range res.Cells[t] {
+			sort.Slice(c.Blocks, func(i, j int) bool { return c.Blocks[i].Block < c.Blocks[j].Block })
+		}
+	}
+}
+
+// missingBlocks counts the blocks of r replicates per sample size that
+// the result does not hold.
+func (res *Result) missingBlocks(r int) int {
+	if len(res.Cells) == 0 {
+		return 0
+	}
+	missing := 0
+	for _, c := range res.Cells[0] {
+		missing += Blocks(r) - len(c.Blocks)
+	}
+	return missing
+}
+
+// blockCount is the number of replicates in block b of r.
+func blockCount(r, b int) int { return min(BlockSize, r-b*BlockSize) }
+
+// pad is the room kept free on each side of a worker's hot state: two
+// 64-byte cache lines, because x86 cores' adjacent-line prefetchers move
+// lines in 128-byte pairs. Without it the allocator put two workers'
+// small buffers side by side (their PCG states were 128 bytes apart, the
+// rest of their 16-byte buffers between them), so a draw by one worker
+// could invalidate a line the other was using: false sharing on every
+// draw, which no amount of work on the replicate would recover.
+const pad = 128
+
+// padded returns n zero values of T with at least pad bytes of unused
+// room before and after them, so nothing another goroutine writes can
+// share their cache lines.
+func padded[T any](n int) []T {
+	var zero T
+	size := max(int(unsafe.Sizeof(zero)), 1)
+	p := (pad + size - 1) / size
+	buf := make([]T, p+n+p)
+	return buf[p : p+n : p+n]
+}
+
+// worker owns every buffer one goroutine needs, so a replicate allocates
+// nothing, and keeps everything it writes per replicate inside its own
+// padding (see pad).
+type worker struct {
+	_      [pad]byte
+	pcg    rand.PCG  // by value: its state is written on every draw
+	rng    rand.Rand // draws from pcg
+	s      *study.Study
+	res    *Result
+	z      float64 // normal quantile of the Wald interval
+	theta  []float64
+	grad   []float64
+	covs   [][]float64
+	dims   []int // parameters per arm
+	sizes  []int
+	evals  []*expr.Evaluator
+	accs   []cellAcc
+	useArm [][]bool // [transform][arm]: whether the transform reads the arm
+	rep    int      // replicate within the block, for panic reports
+	stage  int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
+	_      [pad]byte
+}
+
+// cellAcc accumulates one transform over one block. Counters and
+// histograms are updated per replicate; the moments are not: the block's
+// estimates are kept in vals (at most BlockSize of them, so memory does
+// not grow with replicates) and reduced in one two-pass sweep when the
+// block ends. Welford's per-value update is a dependent chain through a
+// division; the sweep is a few independent multiply-adds per value.
+type cellAcc struct {
+	truth, sdDelta float64
+	Counts         // the block's tallies; Replicates is set when it is flushed
+	pluginSum      float64
+	vals           []float64 // estimates not yet in mom
+	mom            Moments
+	delta, wald    Histogram
+}
+
+func newWorker(s *study.Study, res *Result) *worker {
+	w := &worker{s: s, res: res}
+	w.rng = *rand.New(&w.pcg)
+	w.z = math.Sqrt2 * math.Erfinv(s.Level)
+	w.sizes = make([]int, len(s.Arms))
+	// θ̂, the gradient and the arms' covariances, written per replicate,
+	// share one padded array.
+	d := s.Dim()
+	floats := d + d
+	for _, a := range s.Arms {
+		k := len(a.Model.Params())
+		w.dims = append(w.dims, k)
+		floats += k * k
+	}
+	buf := padded[float64](floats)
+	w.theta, buf = buf[:d:d], buf[d:]
+	w.grad, buf = buf[:d:d], buf[d:]
+	for _, k := range w.dims {
+		w.covs = append(w.covs, buf[:k*k:k*k])
+		buf = buf[k*k:]
+	}
+	w.accs = padded[cellAcc](len(s.Transforms))
+	for ti, t := range s.Transforms {
+		w.evals = append(w.evals, t.Program.NewEvaluator())
+		w.accs[ti] = cellAcc{vals: padded[float64](BlockSize)[:0], delta: newHistogram(), wald: newHistogram()}
+		use := make([]bool, len(s.Arms))
+		for ai, a := range s.Arms {
+			for i := range a.Model.Params() {
+				if t.Program.Uses(a.Offset + i) {
+					use[ai] = true
+				}
+			}
+		}
+		w.useArm = append(w.useArm, use)
+	}
+	return w
+}
+
+func armLabel(a study.Arm) string {
+	if a.Name == "" {
+		return "[model] (" + a.Family + ")"
+	}
+	return a.Name + " (" + a.Family + ")"
+}
+
+// safeRun turns a panic in a family or transform into an error that names
+// the cell, so one bad replicate fails the run instead of hanging it.
+func (w *worker) safeRun(j job) (err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			where := ""
+			if na := len(w.s.Arms); w.stage < na {
+				where = "fitting arm " + armLabel(w.s.Arms[w.stage])
+			} else if t := w.stage - na; t < len(w.s.Transforms) {
+				where = "scoring transform " + w.s.Transforms[t].Name
+			}
+			err = fmt.Errorf("internal error at n=%d, block %d, replicate %d, %s: %v\n%s", w.s.SampleSizes[j.ni], j.block, w.rep, where, p, debug.Stack())
+		}
+	}()
+	w.runBlock(j)
+	return nil
+}
+
+func (w *worker) runBlock(j job) {
+	s := w.s
+	n := s.SampleSizes[j.ni]
+	s1, s2 := blockSeeds(s.Seed, n, j.block)
+	w.pcg.Seed(s1, s2)
+	for a := range s.Arms {
+		w.sizes[a] = s.ArmSize(a, n)
+	}
+	for t := range w.accs {
+		acc := &w.accs[t]
+		p := w.res.Predictions[t][j.ni]
+		*acc = cellAcc{truth: p.Truth, sdDelta: math.Sqrt(p.DeltaVar), vals: acc.vals[:0], delta: acc.delta, wald: acc.wald}
+		acc.delta.reset()
+		acc.wald.reset()
+	}
+	for w.rep = 0; w.rep < j.count; w.rep++ {
+		w.replicate()
+	}
+	// A block holds at most BlockSize replicates, so its estimates are
+	// reduced here in one sweep and its moments come from vals alone.
+	for t := range w.accs {
+		w.accs[t].reduce()
+	}
+}
+
+// replicate draws every arm, fits it, and scores every transform.
+func (w *worker) replicate() {
+	s := w.s
+	fitted := true
+	// Arms by pointer: an Arm is several words, and this runs per replicate.
+	for a := range s.Arms {
+		arm := &s.Arms[a]
+		w.stage = a
+		theta := w.theta[arm.Offset:]
+		if !arm.Model.Fit(&w.rng, w.sizes[a], theta) {
+			fitted = false
+			continue
+		}
+		arm.Model.Cov(theta, w.covs[a])
+	}
+	for t := range w.accs {
+		acc := &w.accs[t]
+		w.stage = len(s.Arms) + t
+		if !fitted {
+			acc.Undefined++
+			acc.FitFailures++
+			continue
+		}
+		v := w.evals[t].ValueGrad(w.theta, w.grad)
+		var pv float64
+		use := w.useArm[t]
+		for a := range s.Arms {
+			if !use[a] {
+				continue
+			}
+			off, k := s.Arms[a].Offset, w.dims[a]
+			pv += study.QuadForm(w.grad[off:off+k], w.covs[a]) / float64(w.sizes[a])
+		}
+		acc.add(v, pv, w.z)
+	}
+}
+
+// add scores one replicate's estimate v and plug-in variance pv.
+func (acc *cellAcc) add(v, pv, z float64) {
+	// |x| <= MaxFloat64 is false for NaN and ±Inf alike: one compare each.
+	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64) {
+		acc.Undefined++
+		return
+	}
+	se := math.Sqrt(pv)
+	if se == 0 {
+		acc.ZeroSE++
+	}
+	switch lo, hi := v-z*se, v+z*se; {
+	case hi < acc.truth:
+		acc.MissBelow++
+	case lo > acc.truth:
+		acc.MissAbove++
+	default:
+		acc.Covered++
+	}
+	if len(acc.vals) == cap(acc.vals) {
+		// Only when replicate is driven past a block's worth without
+		// runBlock (a benchmark): fold early rather than allocate.
+		acc.reduce()
+	}
+	acc.vals = append(acc.vals, v)
+	acc.pluginSum += pv
+	dev := v - acc.truth
+	acc.delta.Add(dev / acc.sdDelta)
+	acc.wald.Add(dev / se)
+}
+
+// reduce folds the pending estimates into the moments.
+func (acc *cellAcc) reduce() {
+	acc.mom.Merge(momentsOf(acc.vals))
+	acc.vals = acc.vals[:0]
+}
+
+// flush merges the worker's block into the result; the caller holds the
+// result's lock.
+func (w *worker) flush(j job) {
+	for t := range w.accs {
+		acc := &w.accs[t]
+		c := w.res.Cells[t][j.ni]
+		if len(c.Blocks) == cap(c.Blocks) && w.res.Shard == nil {
+			// Room for every block still to come, once, instead of
+			// append's doubling, whose discarded arrays would make peak
+			// memory grow faster than the blocks themselves. A shard
+			// holds only some blocks, so it keeps append's growth.
+			c.Blocks = slices.Grow(c.Blocks, max(Blocks(w.s.Replicates)-len(c.Blocks), 1))
+		}
+		acc.Replicates = int64(j.count)
+		c.add(acc.Counts)
+		c.Delta.Merge(&acc.delta)
+		c.Wald.Merge(&acc.wald)
+		b := BlockStat{Block: j.block, N: acc.mom.N, Mean: acc.mom.Mean, M2: acc.mom.M2, M3: acc.mom.M3, M4: acc.mom.M4}
+		if acc.mom.N > 0 {
+			b.PluginVar = acc.pluginSum / float64(acc.mom.N)
+		}
+		c.Blocks = append(c.Blocks, b)
+		c.mergedCache = nil
+	}
+}

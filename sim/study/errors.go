@@ -1,0 +1,54 @@
+package study
+
+import (
+	"fmt"
+	"sort"
+	"strings"
+
+	"deltaprobe/internal/spelling"
+)
+
+// StudyError is one problem found in a study file, located by line (and
+// column where the TOML decoder knows it).
+type StudyError struct {
+	File string
+	Line int // 0 when the problem belongs to the whole file
+	Col  int // 0 when unknown
+	Msg  string
+}
+
+func (e *StudyError) Error() string {
+	switch {
+	case e.Line > 0 && e.Col > 0:
+		return fmt.Sprintf("%s:%d:%d: %s", e.File, e.Line, e.Col, e.Msg)
+	case e.Line > 0:
+		return fmt.Sprintf("%s:%d: %s", e.File, e.Line, e.Msg)
+	}
+	return fmt.Sprintf("%s: %s", e.File, e.Msg)
+}
+
+// StudyErrors lists every problem found in one study file, in line order.
+type StudyErrors []*StudyError
+
+func (es StudyErrors) Error() string {
+	msgs := make([]string, len(es))
+	for i, e := range es {
+		msgs[i] = e.Error()
+	}
+	return strings.Join(msgs, "\n")
+}
+
+func (es StudyErrors) sorted() StudyErrors {
+	sort.SliceStable(es, func(i, j int) bool { return es[i].Line < es[j].Line })
+	return es
+}
+
+// didYouMean formats an optional suggestion and the accepted names.
+func didYouMean(word string, accepted []string) string {
+	s := ""
+	if g, ok := spelling.Closest(word, accepted); ok {
+		s = fmt.Sprintf("; did you mean %q?", g)
+		return s + " accepted: " + strings.Join(accepted, ", ")
+	}
+	return s + "; accepted: " + strings.Join(accepted, ", ")
+}

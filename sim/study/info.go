@@ -1,0 +1,71 @@
+package study
+
+import "deltaprobe/sim/family"
+
+// Info is what a saved result records of the study that was run, and
+// all the report needs to know of it.
+type Info struct {
+	File        string          `json:"file"`
+	SHA256      string          `json:"sha256"`
+	Source      string          `json:"source"`
+	Title       string          `json:"title"`
+	Description string          `json:"description,omitempty"`
+	Seed        uint64          `json:"seed"`
+	Replicates  int             `json:"replicates"`
+	Level       float64         `json:"level"`
+	SampleSizes []int           `json:"sample_sizes"`
+	Criteria    Criteria        `json:"criteria"`
+	Arms        []ArmInfo       `json:"arms"`
+	Transforms  []TransformInfo `json:"transforms"`
+}
+
+// ArmInfo describes one arm of the model as run.
+type ArmInfo struct {
+	Name       string             `json:"name,omitempty"`
+	Family     string             `json:"family"`
+	Values     map[string]float64 `json:"values"`
+	Allocation float64            `json:"allocation"`
+}
+
+// TransformInfo names one transform as run.
+type TransformInfo struct {
+	Name string `json:"name"`
+	Expr string `json:"expr"`
+}
+
+// Info describes the study for the result file.
+func (s *Study) Info() Info {
+	info := Info{
+		File: s.File, SHA256: s.SHA256, Source: string(s.Source),
+		Title: s.Title, Description: s.Description, Seed: s.Seed,
+		Replicates: s.Replicates, Level: s.Level,
+		SampleSizes: append([]int(nil), s.SampleSizes...), Criteria: s.Criteria,
+	}
+	for _, a := range s.Arms {
+		info.Arms = append(info.Arms, ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation})
+	}
+	for _, t := range s.Transforms {
+		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr})
+	}
+	return info
+}
+
+// DrawsPerReplicate is the number of observations one replicate at n
+// draws over all arms.
+func (s *Study) DrawsPerReplicate(n int) int {
+	d := 0
+	for a := range s.Arms {
+		d += s.ArmSize(a, n)
+	}
+	return d
+}
+
+// Discrete reports whether any arm draws discrete data (counts).
+func (s *Study) Discrete() bool {
+	for _, a := range s.Arms {
+		if f, ok := family.Lookup(a.Family); ok && f.Discrete {
+			return true
+		}
+	}
+	return false
+}
