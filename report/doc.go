@@ -1,6 +1,6 @@
 // Package report turns a runner.Result into what people read: summary.csv and
 // verdicts.csv, the terminal tables, the figures and the HTML page; and a
-// plan.PlanResult into plan.csv and its own tables.
+// plan.Result into plan.csv and its own tables.
 //
 // It reads a runner.Result and nothing else, so a saved or merged result
 // reports exactly as a fresh one. Every estimate, MCSE and verdict comes

@@ -32,8 +32,8 @@ const KindPlan = "plan"
 const planBodyHeight = 10 * vg.Inch
 
 // planSteps returns the evaluations of transform name, in evaluation order.
-func planSteps(p *plan.PlanResult, name string) []plan.PlanStep {
-	var out []plan.PlanStep
+func planSteps(p *plan.Result, name string) []plan.Step {
+	var out []plan.Step
 	for _, st := range p.Steps {
 		if st.Transform == name {
 			out = append(out, st)
@@ -46,7 +46,7 @@ func planSteps(p *plan.PlanResult, name string) []plan.PlanStep {
 // the plan, worked out once.
 type planView struct {
 	info       study.TransformInfo
-	steps      []plan.PlanStep
+	steps      []plan.Step
 	verdict    measure.TransformVerdict
 	window     int   // as the plan reports it
 	windowTop  int   // the largest n the window reached, 0 if none
@@ -56,7 +56,7 @@ type planView struct {
 	replicates int64 // replicates behind this transform's decisions
 }
 
-func newPlanView(s *study.Study, p *plan.PlanResult, t int) planView {
+func newPlanView(s *study.Study, p *plan.Result, t int) planView {
 	tr := s.Transforms[t]
 	v := planView{info: study.TransformInfo{Name: tr.Name, Expr: tr.Expr}, steps: planSteps(p, tr.Name)}
 	if t < len(p.Verdicts) {
@@ -90,18 +90,18 @@ func newPlanView(s *study.Study, p *plan.PlanResult, t int) planView {
 }
 
 // stepAt returns the evaluation at n, if there is one.
-func (v planView) stepAt(n int) (plan.PlanStep, bool) {
+func (v planView) stepAt(n int) (plan.Step, bool) {
 	for _, st := range v.steps {
 		if st.N == n {
 			return st, true
 		}
 	}
-	return plan.PlanStep{}, false
+	return plan.Step{}, false
 }
 
 // below returns the largest evaluated n under n, if there is one.
-func (v planView) below(n int) (plan.PlanStep, bool) {
-	var best plan.PlanStep
+func (v planView) below(n int) (plan.Step, bool) {
+	var best plan.Step
 	found := false
 	for _, st := range v.steps {
 		if st.N < n && (!found || st.N > best.N) {
@@ -136,7 +136,7 @@ func (v planView) zoomRange() (lo, hi int, ok bool) {
 // PlanFigures renders the plan's figure of every transform of s, in
 // study order, in parallel; each is a pure function of s and p and comes
 // out byte for byte the same every time.
-func PlanFigures(s *study.Study, p *plan.PlanResult) ([]Figure, error) {
+func PlanFigures(s *study.Study, p *plan.Result) ([]Figure, error) {
 	names := make([]string, len(s.Transforms))
 	for i, t := range s.Transforms {
 		names[i] = t.Name
@@ -222,7 +222,7 @@ func planMeasures(s *study.Study) []criterionView {
 // measurePanel draws criterion c of the steps that fall on axis a: each
 // point in the look of that criterion's own verdict at that n, with the
 // interval the decision used (already widened for repeated looks).
-func (a planAxis) measurePanel(m criterionView, c int, steps []plan.PlanStep, title string) *panel {
+func (a planAxis) measurePanel(m criterionView, c int, steps []plan.Step, title string) *panel {
 	var vp verdictPoints
 	for _, st := range steps {
 		if !a.contains(st.N) {
@@ -254,7 +254,7 @@ func (a planAxis) measurePanel(m criterionView, c int, steps []plan.PlanStep, ti
 // replicatesPanel draws the replicates behind each decision as bars,
 // topped by the overall verdict at that n, under a dotted line at
 // perN, the most one n may take.
-func (a planAxis) replicatesPanel(steps []plan.PlanStep, perN int, title, xlabel string) *panel {
+func (a planAxis) replicatesPanel(steps []plan.Step, perN int, title, xlabel string) *panel {
 	var st stems
 	var vp verdictPoints
 	for _, s := range steps {
@@ -286,7 +286,7 @@ func (a planAxis) replicatesPanel(steps []plan.PlanStep, perN int, title, xlabel
 }
 
 // planPNG draws the plan figure of one transform.
-func planPNG(s *study.Study, p *plan.PlanResult, v planView) ([]byte, int, int, error) {
+func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, error) {
 	spec := study.PlanSpec{NMin: 1, NMax: 1, MaxReplicates: 1}
 	if s.Plan != nil {
 		spec = *s.Plan
@@ -433,7 +433,7 @@ func planPhrase(v planView, spec study.PlanSpec) string {
 }
 
 // planCost says what the search took.
-func planCost(v planView, p *plan.PlanResult) string {
+func planCost(v planView, p *plan.Result) string {
 	s := fmt.Sprintf("%d evaluations, %d replicates behind their decisions; intervals at z = %.3f per look.",
 		len(v.steps), v.replicates, p.Z)
 	if p.Exhausted {
@@ -444,7 +444,7 @@ func planCost(v planView, p *plan.PlanResult) string {
 
 // planKey explains the figure in words and gives the order of the
 // search, so the PNG can be read away from the page.
-func planKey(v planView, p *plan.PlanResult, spec study.PlanSpec) []string {
+func planKey(v planView, p *plan.Result, spec study.PlanSpec) []string {
 	closeUp, hatched := "", ""
 	if v.windowTop > 0 {
 		hatched = " (the hatched window)"
@@ -470,7 +470,7 @@ func planKey(v planView, p *plan.PlanResult, spec study.PlanSpec) []string {
 
 // searchOrder lists the evaluations as "5 fail, 10 fail, 20 pass", at
 // most limit of them.
-func searchOrder(steps []plan.PlanStep, limit int) string {
+func searchOrder(steps []plan.Step, limit int) string {
 	var parts []string
 	for i, st := range steps {
 		if i == limit {

@@ -112,7 +112,7 @@ var planCases = []planCase{
 
 type plannedStudy struct {
 	s *study.Study
-	p *plan.PlanResult
+	p *plan.Result
 }
 
 var (
@@ -121,7 +121,7 @@ var (
 )
 
 // runPlan parses and plans a case once per test binary.
-func runPlan(t testing.TB, c planCase) (*study.Study, *plan.PlanResult) {
+func runPlan(t testing.TB, c planCase) (*study.Study, *plan.Result) {
 	t.Helper()
 	plansMu.Lock()
 	defer plansMu.Unlock()
@@ -132,7 +132,7 @@ func runPlan(t testing.TB, c planCase) (*study.Study, *plan.PlanResult) {
 	if err != nil {
 		t.Fatalf("parsing test plan: %v", err)
 	}
-	p, err := plan.Plan(context.Background(), s, c.budget, runner.Options{Workers: 2})
+	p, err := plan.Run(context.Background(), s, c.budget, runner.Options{Workers: 2})
 	if err != nil {
 		t.Fatalf("running test plan: %v", err)
 	}
@@ -334,10 +334,10 @@ func TestZoomTicks(t *testing.T) {
 }
 
 // steps builds evaluations at the given n with the given verdicts.
-func steps(ns []int, vs []measure.Verdict) []plan.PlanStep {
-	out := make([]plan.PlanStep, len(ns))
+func steps(ns []int, vs []measure.Verdict) []plan.Step {
+	out := make([]plan.Step, len(ns))
 	for i, n := range ns {
-		out[i] = plan.PlanStep{Transform: "t", Step: i + 1, N: n, Replicates: 1000, Row: measure.Row{N: n, Verdict: vs[i]}}
+		out[i] = plan.Step{Transform: "t", Step: i + 1, N: n, Replicates: 1000, Row: measure.Row{N: n, Verdict: vs[i]}}
 	}
 	return out
 }

@@ -21,7 +21,7 @@ var PlanColumns = []string{"transform", "step", "n", "replicates", "coverage", "
 
 // PlanCSV renders plan.csv: every evaluation, per transform, in
 // evaluation order.
-func PlanCSV(p *plan.PlanResult) []byte {
+func PlanCSV(p *plan.Result) []byte {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
 	w.Write(PlanColumns)
@@ -40,7 +40,7 @@ func PlanCSV(p *plan.PlanResult) []byte {
 // WritePlan writes plan.csv, verdicts.csv, the plan's figure of every
 // transform and index.html into dir, each file atomically. The page goes
 // last, so a page on disk never points at a figure that is not there yet.
-func WritePlan(dir string, s *study.Study, p *plan.PlanResult) error {
+func WritePlan(dir string, s *study.Study, p *plan.Result) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("creating output folder: %w", err)
 	}
@@ -68,7 +68,7 @@ func WritePlan(dir string, s *study.Study, p *plan.PlanResult) error {
 
 // PlanTable prints, per transform, the answer, what limits it, the
 // replicates its decisions used and any oscillation found.
-func PlanTable(w io.Writer, s *study.Study, p *plan.PlanResult) {
+func PlanTable(w io.Writer, s *study.Study, p *plan.Result) {
 	used := map[string]int64{}
 	evals := map[string]int{}
 	for _, st := range p.Steps {

@@ -67,7 +67,7 @@ var planPageTemplate = template.Must(template.Must(template.New("plan").Parse(pl
 // PlanPage renders index.html for the plan p of study s, with figs (from
 // PlanFigures) as the images it shows, referenced by file name beside
 // the page.
-func PlanPage(s *study.Study, p *plan.PlanResult, figs []Figure) ([]byte, error) {
+func PlanPage(s *study.Study, p *plan.Result, figs []Figure) ([]byte, error) {
 	d := buildPlanPage(s, p, figs)
 	var buf bytes.Buffer
 	if err := planPageTemplate.Execute(&buf, d); err != nil {
@@ -76,7 +76,7 @@ func PlanPage(s *study.Study, p *plan.PlanResult, figs []Figure) ([]byte, error)
 	return buf.Bytes(), nil
 }
 
-func buildPlanPage(s *study.Study, p *plan.PlanResult, figs []Figure) planPageData {
+func buildPlanPage(s *study.Study, p *plan.Result, figs []Figure) planPageData {
 	spec := study.PlanSpec{}
 	if s.Plan != nil {
 		spec = *s.Plan
@@ -191,7 +191,7 @@ func planCaption(v planView) string {
 
 // planStepsTable is plan.csv for reading: every column, to four
 // significant digits (the file has eight).
-func planStepsTable(p *plan.PlanResult) summaryTable {
+func planStepsTable(p *plan.Result) summaryTable {
 	tb := summaryTable{Caption: "Every evaluation, per transform, in the order the search made them", Columns: PlanColumns}
 	for _, st := range p.Steps {
 		cells := make([]summaryCell, len(PlanColumns))
@@ -203,7 +203,7 @@ func planStepsTable(p *plan.PlanResult) summaryTable {
 	return tb
 }
 
-func planCellFor(st plan.PlanStep, col string) summaryCell {
+func planCellFor(st plan.Step, col string) summaryCell {
 	switch col {
 	case "step":
 		return summaryCell{Text: strconv.Itoa(st.Step), Class: "num"}

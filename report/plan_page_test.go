@@ -41,7 +41,7 @@ func TestWritePlan(t *testing.T) {
 	}
 }
 
-func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *plan.PlanResult) {
+func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *plan.Result) {
 	t.Helper()
 	doc := parsePage(t, page)
 	text := string(page)
@@ -223,7 +223,7 @@ func TestPlanPageEscapes(t *testing.T) {
 func TestPlanExplain(t *testing.T) {
 	P, F, U := measure.Pass, measure.Fail, measure.Unclear
 	spec := study.PlanSpec{NMin: 5, NMax: 400, MaxReplicates: 20000}
-	withRows := func(st []plan.PlanStep, rows map[int]measure.Row) []plan.PlanStep {
+	withRows := func(st []plan.Step, rows map[int]measure.Row) []plan.Step {
 		for i := range st {
 			if r, ok := rows[st[i].N]; ok {
 				st[i].Row = r

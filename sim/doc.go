@@ -1,23 +1,25 @@
 // Package sim holds deltaprobe's engine, cut by job into small packages;
 // it has no code of its own. Data flow one way:
 //
-//		study file ─▶ study.Load ─▶ study.Study ─▶ runner.Run ─▶ runner.Result (saved)
-//		                                 │                             │
-//		                                 └────────▶ plan.Plan ──▶ plan.Result (saved)
-//		                                                               │
-//		                       measure: rows, checks and verdicts from a saved state
+//	study file ─▶ study.Load ─▶ study.Study ─▶ runner.Run ─▶ runner.Result (saved)
+//	                                 │                             │
+//	                                 └────────▶ plan.Plan ──▶ plan.Result (saved)
+//	                                                               │
+//	                       measure: rows, checks and verdicts from a saved state
 //
-//	  - [deltaprobe/sim/family]: the data-generating families and their
-//	    estimators (drawing, fitting, Fisher information, O(1/n) bias).
-//	  - [deltaprobe/sim/expr]: the transform language, with exact derivatives.
-//	  - [deltaprobe/sim/study]: the study file: decoding, validation, errors,
-//	    and the delta-method predictions at the truth.
-//	  - [deltaprobe/sim/runner]: the parallel runner, its streaming
-//	    accumulators and the mergeable result file (shards, resume).
-//	  - [deltaprobe/sim/measure]: summary measures, their Monte Carlo errors,
-//	    the criteria and the verdicts, computed from a saved result.
-//	  - [deltaprobe/sim/plan]: the sequential search for the smallest
-//	    adequate n.
+// The packages, each with one job:
+//
+//   - [deltaprobe/sim/family]: the data-generating families and their
+//     estimators (drawing, fitting, Fisher information, O(1/n) bias).
+//   - [deltaprobe/sim/expr]: the transform language, with exact derivatives.
+//   - [deltaprobe/sim/study]: the study file: decoding, validation, errors,
+//     and the delta-method predictions at the truth.
+//   - [deltaprobe/sim/runner]: the parallel runner, its streaming
+//     accumulators and the mergeable result file (shards, resume).
+//   - [deltaprobe/sim/measure]: summary measures, their Monte Carlo errors,
+//     the criteria and the verdicts, computed from a saved result.
+//   - [deltaprobe/sim/plan]: the sequential search for the smallest
+//     adequate n.
 //
 // The engine is opinionated. Estimates are maximum likelihood (unless a
 // family says otherwise), standard errors are the plug-in delta method

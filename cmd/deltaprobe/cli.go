@@ -545,7 +545,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	if !*quiet {
 		fmt.Fprintf(stderr, "planning %d transforms over n in [%d, %d]...\n", len(s.Transforms), s.Plan.NMin, s.Plan.NMax)
 	}
-	plan, err := plan.Plan(ctx, s, *budget, runner.Options{Workers: *workers})
+	plan, err := plan.Run(ctx, s, *budget, runner.Options{Workers: *workers})
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		if errors.Is(err, context.Canceled) {

@@ -11,9 +11,9 @@ import (
 	"deltaprobe/sim/study"
 )
 
-// PlanStep is one evaluation of one transform at one n: the last look
+// Step is one evaluation of one transform at one n: the last look
 // taken there, and its verdict.
-type PlanStep struct {
+type Step struct {
 	Transform  string
 	Step       int // evaluation order within the transform, from 1
 	N          int
@@ -23,9 +23,9 @@ type PlanStep struct {
 	Budget     bool        // stopped because the budget ran out
 }
 
-// PlanResult is the outcome of a plan.
-type PlanResult struct {
-	Steps    []PlanStep
+// Result is the outcome of a plan.
+type Result struct {
+	Steps    []Step
 	Verdicts []measure.TransformVerdict
 	// Per transform, in study order:
 	Window       []int         // integers above the answer that were checked
@@ -49,19 +49,19 @@ type planner struct {
 	budget int64 // 0 means no cap
 	z      float64
 	cache  map[int]*runner.Result // per n: a one-point result, grown by batches
-	out    *PlanResult
-	evals  map[[2]int]PlanStep // (transform, n) → its evaluation
+	out    *Result
+	evals  map[[2]int]Step // (transform, n) → its evaluation
 	steps  []int               // next step number per transform
 }
 
-// Plan runs the sequential search of s.Plan. budget caps the replicates
+// Run runs the sequential search of s.Plan. budget caps the replicates
 // simulated across the whole plan (0: no cap).
 //
 // Each criterion at each n is decided from a Monte Carlo interval that is
 // widened for repeated looks: the error 1 − confidence is split equally
 // (Bonferroni) over the largest number of looks max_replicates allows, so
 // every decision holds its confidence however many batches it took.
-func Plan(ctx context.Context, s *study.Study, budget int64, opt runner.Options) (*PlanResult, error) {
+func Run(ctx context.Context, s *study.Study, budget int64, opt runner.Options) (*Result, error) {
 	if s.Plan == nil {
 		return nil, fmt.Errorf("%s has no [plan] table", s.File)
 	}
@@ -71,9 +71,9 @@ func Plan(ctx context.Context, s *study.Study, budget int64, opt runner.Options)
 	z := normalQuantile(1 - alpha/2)
 	p := &planner{
 		ctx: ctx, s: s, spec: spec, opt: opt, budget: budget, z: z,
-		cache: map[int]*runner.Result{}, evals: map[[2]int]PlanStep{},
+		cache: map[int]*runner.Result{}, evals: map[[2]int]Step{},
 		steps: make([]int, len(s.Transforms)),
-		out: &PlanResult{
+		out: &Result{
 			Spent: map[int]int64{}, Z: z,
 			Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
 		},
@@ -210,7 +210,7 @@ func (p *planner) eval(t, n int) (measure.Verdict, error) {
 		p.cache[n] = res
 	}
 	looks := p.spec.Looks()
-	var st PlanStep
+	var st Step
 	for k := 1; k <= looks; k++ {
 		reps := min(k*p.spec.Batch, p.spec.MaxReplicates)
 		have := res.Cells[0][0].Replicates
@@ -230,7 +230,7 @@ func (p *planner) eval(t, n int) (measure.Verdict, error) {
 			}
 		}
 		row := measure.SummarizeCell(res, t, 0, p.z)
-		st = PlanStep{Transform: p.s.Transforms[t].Name, N: n, Replicates: res.Cells[t][0].Replicates, Looks: k, Row: row, Budget: budgetHit}
+		st = Step{Transform: p.s.Transforms[t].Name, N: n, Replicates: res.Cells[t][0].Replicates, Looks: k, Row: row, Budget: budgetHit}
 		if budgetHit {
 			p.out.Exhausted = true
 			if row.Replicates == 0 {
@@ -275,7 +275,7 @@ func (p *planner) grow(res *runner.Result, n, reps int) error {
 // failed it (an undecided n does not count against it), so the limiting
 // criterion's n never exceeds smallest_n.
 func (p *planner) finish(t, answer, window int, budgetCut bool) {
-	var steps []PlanStep
+	var steps []Step
 	for key, st := range p.evals {
 		if key[0] == t {
 			steps = append(steps, st)

@@ -14,10 +14,10 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-func runPlan(t *testing.T, src string) (*study.Study, *PlanResult) {
+func runPlan(t *testing.T, src string) (*study.Study, *Result) {
 	t.Helper()
 	s := mustParse(t, src)
-	p, err := Plan(context.Background(), s, 0, runner.Options{Workers: 2})
+	p, err := Run(context.Background(), s, 0, runner.Options{Workers: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -228,7 +228,7 @@ expr = "logit(p)"
 `
 	_, a := runPlan(t, src)
 	s := mustParse(t, src)
-	b, err := Plan(context.Background(), s, 0, runner.Options{Workers: 1})
+	b, err := Run(context.Background(), s, 0, runner.Options{Workers: 1})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -288,7 +288,7 @@ rate = 1.0
 name = "rate"
 expr = "rate"
 `)
-	p, err := Plan(context.Background(), s, 5000, runner.Options{Workers: 2})
+	p, err := Run(context.Background(), s, 5000, runner.Options{Workers: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -318,7 +318,7 @@ expr = "mean"
 `)
 	// The first look at n_min passes (the mean of normal data is exact);
 	// a budget of one look leaves the window unchecked.
-	p, err := Plan(context.Background(), s, 2000, runner.Options{Workers: 2})
+	p, err := Run(context.Background(), s, 2000, runner.Options{Workers: 2})
 	if err != nil {
 		t.Fatal(err)
 	}
