@@ -239,49 +239,10 @@ func encodePNG(height vg.Length, drawFn func(dc draw.Canvas)) ([]byte, int, int,
 	return buf.Bytes(), b.Dx(), b.Dy(), nil
 }
 
-// drawHeading sets the figure's title and subtitle at the top of dc and
-// returns the canvas left below them.
-func drawHeading(dc draw.Canvas, title, subtitle string) draw.Canvas {
-	const margin = 14
-	x := dc.Min.X + vg.Points(margin)
-	y := dc.Max.Y - vg.Points(margin)
-	ts := textStyle(sansBold, fontTitle)
-	dc.FillText(ts, vg.Point{X: x, Y: y}, title)
-	y -= ts.Height(title) + vg.Points(6)
-	if subtitle != "" {
-		ss := textStyle(sans, fontLabel)
-		dc.FillText(ss, vg.Point{X: x, Y: y}, subtitle)
-		y -= ss.Height(subtitle)
-	}
-	return draw.Crop(dc, 0, 0, 0, y-dc.Max.Y-vg.Points(8))
-}
-
 // figureTitle names the transform and its expression, clipped so that a
 // long one does not run off the figure.
 func figureTitle(info study.TransformInfo, what string) string {
 	return clip(info.Name, 40) + " = " + clip(info.Expr, 60) + what
-}
-
-// wrapText breaks s into lines no wider than w in style st.
-func wrapText(st text.Style, s string, w vg.Length) []string {
-	var lines []string
-	var cur string
-	for _, word := range strings.Fields(s) {
-		try := word
-		if cur != "" {
-			try = cur + " " + word
-		}
-		if cur != "" && st.Width(try) > w {
-			lines = append(lines, cur)
-			cur = word
-			continue
-		}
-		cur = try
-	}
-	if cur != "" {
-		lines = append(lines, cur)
-	}
-	return lines
 }
 
 // finite reports whether every x is a finite number.

@@ -229,62 +229,6 @@ func (s series) add(p *plot.Plot) ([]plot.Thumbnailer, error) {
 	return thumbs, nil
 }
 
-// legendItem is one entry of a panel's legend row.
-type legendItem struct {
-	label  string
-	thumbs []plot.Thumbnailer
-}
-
-// drawLegendRow sets items side by side from the top left of c, wrapping
-// to a new line when one would run past the right edge, and returns the
-// height used. A row above the panel keeps the legend off the data.
-func drawLegendRow(c draw.Canvas, items []legendItem) vg.Length {
-	st := textStyle(sans, fontSmall)
-	st.YAlign = draw.YCenter
-	thumbW, gap, itemGap := vg.Points(24), vg.Points(5), vg.Points(16)
-	lineH := st.Height("Mg") + vg.Points(5)
-	x, y := c.Min.X, c.Max.Y-lineH/2
-	for _, it := range items {
-		w := thumbW + gap + st.Width(it.label)
-		if x > c.Min.X && x+w > c.Max.X {
-			x = c.Min.X
-			y -= lineH
-		}
-		tc := draw.Canvas{Canvas: c.Canvas, Rectangle: vg.Rectangle{
-			Min: vg.Point{X: x, Y: y - lineH/2 + vg.Points(3)},
-			Max: vg.Point{X: x + thumbW, Y: y + lineH/2 - vg.Points(3)},
-		}}
-		for _, t := range it.thumbs {
-			t.Thumbnail(&tc)
-		}
-		c.FillText(st, vg.Point{X: x + thumbW + gap, Y: y}, it.label)
-		x += w + itemGap
-	}
-	return c.Max.Y - (y - lineH/2)
-}
-
-// legendRowHeight is the height drawLegendRow will use for items in a
-// strip of width w.
-func legendRowHeight(items []legendItem, w vg.Length) vg.Length {
-	if len(items) == 0 {
-		return 0
-	}
-	st := textStyle(sans, fontSmall)
-	thumbW, gap, itemGap := vg.Points(24), vg.Points(5), vg.Points(16)
-	lineH := st.Height("Mg") + vg.Points(5)
-	lines := 1
-	x := vg.Length(0)
-	for _, it := range items {
-		iw := thumbW + gap + st.Width(it.label)
-		if x > 0 && x+iw > w {
-			x = 0
-			lines++
-		}
-		x += iw + itemGap
-	}
-	return vg.Length(lines) * lineH
-}
-
 // sampleSizeTicks labels the grid's own sample sizes on a log axis, so a
 // reader reads n off the axis rather than interpolating between powers of
 // ten. When labels would crowd, only those at least minGap decades apart

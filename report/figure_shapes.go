@@ -304,9 +304,9 @@ func shapesPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformV
 	}
 	height := vg.Length(rowsN)*shapeRowHeight + 1.1*vg.Inch
 	return encodePNG(height, func(dc draw.Canvas) {
-		rest := drawHeading(dc, figureTitle(info, ": shape of the standardised estimate"), sub)
+		rest := oneLineHeading(figureTitle(info, ": shape of the standardised estimate"), sub).draw(dc)
 		lc := draw.Crop(rest, vg.Points(14), vg.Points(-14), 0, 0)
-		used := drawLegendRow(lc, legend)
+		used := drawLegend(lc, legend)
 		rest = draw.Crop(rest, 0, 0, 0, -used-vg.Points(10))
 		const gap = 36
 		w := (rest.Max.X - rest.Min.X - vg.Length(pairCols-1)*vg.Points(gap)) / vg.Length(pairCols)
@@ -319,7 +319,7 @@ func shapesPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformV
 			sub := draw.Canvas{Canvas: rest.Canvas, Rectangle: vg.Rectangle{
 				Min: vg.Point{X: x0, Y: rest.Min.Y}, Max: vg.Point{X: x0 + w, Y: rest.Max.Y},
 			}}
-			drawPanels(sub, mine, rowsN, 2, nil)
+			runPanelGrid(panelRows(mine, rowsN, 2)).draw(sub)
 		}
 	})
 }

@@ -26,15 +26,6 @@ const trendsHeight = 10 * vg.Inch
 // Two-sided 95% normal quantile, as sim uses for its Monte Carlo intervals.
 const z95 = 1.959963984540054
 
-// panel is one tile of a figure: a plot, the title above it and the
-// legend row under the title.
-type panel struct {
-	title  string
-	note   string // set after the title in regular type
-	plot   *plot.Plot
-	legend []legendItem
-}
-
 // trendAxes holds what every trends panel shares: the x positions and the
 // smallest adequate n.
 type trendAxes struct {
@@ -354,10 +345,17 @@ func trendsPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformV
 		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
 	key := trendsKey(rows, v)
 	png, w, h, err := encodePNG(trendsHeight, func(dc draw.Canvas) {
-		rest := drawHeading(dc, title, sub)
-		drawPanels(rest, panels, 3, 2, func(c draw.Canvas) { drawKey(c, "How to read this figure", key) })
+		grid := runPanelGrid(panelRows(panels, 3, 2))
+		grid.extra = func(c draw.Canvas) { drawKey(c, key) }
+		grid.draw(oneLineHeading(title, sub).draw(dc))
 	})
 	return png, w, h, err
+}
+
+// runPanelGrid spaces the panels of the run's figures, the trends and the
+// shapes alike.
+func runPanelGrid(panels [][]*panel) panelGrid {
+	return panelGrid{panels: panels, gapX: vg.Points(30), gapY: vg.Points(16), titleGap: vg.Points(6), stripGap: vg.Points(6)}
 }
 
 // noiseSeries draws the Monte Carlo noise level as a dotted black line.
@@ -377,135 +375,6 @@ func noiseSeries(p *plot.Plot, x, y []float64) ([]plot.Thumbnailer, error) {
 	}
 	p.Add(l)
 	return []plot.Thumbnailer{l}, nil
-}
-
-// drawPanels lays panels out in a rows×cols grid, each under its title
-// and legend, with every data area of a row the same height at the same
-// place, and every data area of a column the same width at the same place,
-// so that n lines up down a column. (plot.Align aligns the data areas but
-// leaves the canvases' tops uneven, with no room kept for a strip above
-// each.) A slot past the last panel, if any, is handed to extra.
-func drawPanels(dc draw.Canvas, panels []panel, rows, cols int, extra func(draw.Canvas)) {
-	const (
-		padOuter = 8
-		gapX     = 30
-		gapY     = 16
-	)
-	titleH := textStyle(sansBold, fontPanel).Height("Mg") + vg.Points(6)
-
-	// Measure what each plot needs around its data area (axes, tick
-	// labels) on a trial canvas the size of a tile; it does not depend on
-	// the canvas size.
-	tileW := (dc.Max.X - dc.Min.X) / vg.Length(cols)
-	tileH := (dc.Max.Y - dc.Min.Y) / vg.Length(rows)
-	type pads struct{ l, r, b, t vg.Length }
-	own := make([]pads, len(panels))
-	colL, colR := make([]vg.Length, cols), make([]vg.Length, cols)
-	rowB, rowT := make([]vg.Length, rows), make([]vg.Length, rows)
-	// The y-axis labels are set here, not by gonum/plot: on a log axis it
-	// places the label's box by the linear midpoint of the range, near the
-	// top, and pads the plot for it.
-	ylabels := make([]string, len(panels))
-	ls := textStyle(sans, fontLabel)
-	ls.Rotation = math.Pi / 2
-	ls.XAlign, ls.YAlign = draw.XCenter, draw.YCenter
-	labelW := ls.Height("Mg") + vg.Points(8)
-	for k, pn := range panels {
-		ylabels[k], pn.plot.Y.Label.Text = pn.plot.Y.Label.Text, ""
-		c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{Max: vg.Point{X: tileW, Y: tileH}}}
-		d := pn.plot.DataCanvas(c)
-		own[k] = pads{l: d.Min.X - c.Min.X, r: c.Max.X - d.Max.X, b: d.Min.Y - c.Min.Y, t: c.Max.Y - d.Max.Y}
-		i, j := k%cols, k/cols
-		colL[i], colR[i] = max(colL[i], own[k].l+labelW), max(colR[i], own[k].r)
-		rowB[j], rowT[j] = max(rowB[j], own[k].b), max(rowT[j], own[k].t)
-	}
-	// Legends wrap within the width over their data area.
-	var sumX, sumY vg.Length
-	for i := range cols {
-		sumX += colL[i] + colR[i]
-	}
-	dataW := (dc.Max.X - dc.Min.X - 2*vg.Points(padOuter) - sumX - vg.Length(cols-1)*vg.Points(gapX)) / vg.Length(cols)
-	legendH := vg.Length(0)
-	for k, pn := range panels {
-		legendH = max(legendH, legendRowHeight(pn.legend, dataW+colR[k%cols]))
-	}
-	strip := titleH + legendH + vg.Points(6)
-	for j := range rows {
-		sumY += strip + rowT[j] + rowB[j]
-	}
-	dataH := (dc.Max.Y - dc.Min.Y - 2*vg.Points(padOuter) - sumY - vg.Length(rows-1)*vg.Points(gapY)) / vg.Length(rows)
-
-	left := make([]vg.Length, cols) // data area's left edge, per column
-	x := dc.Min.X + vg.Points(padOuter)
-	for i := range cols {
-		left[i] = x + colL[i]
-		x = left[i] + dataW + colR[i] + vg.Points(gapX)
-	}
-	blockTop := make([]vg.Length, rows) // top of the strip, per row
-	y := dc.Max.Y - vg.Points(padOuter)
-	for j := range rows {
-		blockTop[j] = y
-		y -= strip + rowT[j] + dataH + rowB[j] + vg.Points(gapY)
-	}
-
-	for j := range rows {
-		for i := range cols {
-			k := j*cols + i
-			top := blockTop[j]
-			dataTop := top - strip - rowT[j]
-			if k >= len(panels) {
-				if extra != nil {
-					extra(draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
-						Min: vg.Point{X: left[i] - colL[i], Y: dataTop - dataH - rowB[j]},
-						Max: vg.Point{X: left[i] + dataW + colR[i], Y: top},
-					}})
-				}
-				continue
-			}
-			pn, o := panels[k], own[k]
-			c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
-				Min: vg.Point{X: left[i] - o.l, Y: dataTop - dataH - o.b},
-				Max: vg.Point{X: left[i] + dataW + o.r, Y: dataTop + o.t},
-			}}
-			ts := textStyle(sansBold, fontPanel)
-			c.FillText(ts, vg.Point{X: left[i], Y: top}, pn.title)
-			if pn.note != "" {
-				// Share the title's baseline: drop the smaller type by the
-				// difference of the ascents.
-				ns := textStyle(sans, fontSmall)
-				ny := top - (ts.FontExtents().Ascent - ns.FontExtents().Ascent)
-				c.FillText(ns, vg.Point{X: left[i] + ts.Width(pn.title) + vg.Points(6), Y: ny}, pn.note)
-			}
-			legendArea := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
-				Min: vg.Point{X: left[i], Y: top - strip}, Max: vg.Point{X: left[i] + dataW + colR[i], Y: top - titleH},
-			}}
-			drawLegendRow(legendArea, pn.legend)
-			pn.plot.Draw(c)
-			if ylabels[k] != "" {
-				c.FillText(ls, vg.Point{X: left[i] - colL[i] + labelW/2, Y: dataTop - dataH/2}, ylabels[k])
-			}
-		}
-	}
-}
-
-// drawKey sets a heading and paragraphs of text in c.
-func drawKey(c draw.Canvas, heading string, paras []string) {
-	c = draw.Crop(c, vg.Points(12), 0, 0, 0)
-	hs := textStyle(sansBold, fontPanel)
-	c.FillText(hs, vg.Point{X: c.Min.X, Y: c.Max.Y}, heading)
-	y := c.Max.Y - hs.Height(heading) - vg.Points(8)
-	st := textStyle(sans, fontSmall)
-	lineH := st.Height("Mg") + vg.Points(2)
-	for _, para := range paras {
-		for _, line := range wrapText(st, para, c.Max.X-c.Min.X) {
-			if y-lineH < c.Min.Y {
-				return
-			}
-			c.FillText(st, vg.Point{X: c.Min.X, Y: y}, line)
-			y -= lineH
-		}
-		y -= vg.Points(5)
-	}
 }
 
 // trendsKey explains the figure in words and lists the verdicts by n, so

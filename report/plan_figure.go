@@ -311,8 +311,8 @@ func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, erro
 		colW = []float64{0.6, 0.4}
 	}
 	// How long a decade is on the log axis, near enough to keep tick
-	// labels apart: the column's share of the width less what drawGrid
-	// takes for axes, padding and gaps (about 96 points for one column,
+	// labels apart: the column's share of the width less what the panel
+	// grid takes for axes, padding and gaps (about 96 points for one column,
 	// 82 more for a second), over the axis's span in decades.
 	dataLen := vg.Length(colW[0]) * (figWidth - vg.Points(96) - vg.Points(82)*vg.Length(len(colW)-1))
 	logAxis.ticks = planTicks{ns: ns, must: []int{a, spec.NMin, spec.NMax},
@@ -356,36 +356,32 @@ func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, erro
 		}
 		grid[len(measures)] = append(grid[len(measures)], pn)
 	}
-	rowW := []float64{1, 1, 1, 0.62}
+	body := panelGrid{panels: grid, colWeights: colW, rowWeights: []float64{1, 1, 1, 0.62},
+		gapX: vg.Points(34), gapY: vg.Points(14), titleGap: vg.Points(8)}
 
-	title := figureTitle(v.info, " — search for the smallest adequate n")
-	sub := planPhrase(v, spec) + " " + planCost(v, p)
+	head := wrappedHeading(figureTitle(v.info, " — search for the smallest adequate n"), planPhrase(v, spec)+" "+planCost(v, p))
 	legend := planLegend(v, spec, s.Level)
 	key := planKey(v, p, spec)
 
 	// The key's height depends on how its text wraps; measure it first,
-	// at the width drawKey will set it in (the key canvas below, less
-	// drawKey's own indent).
-	keyW := figWidth - vg.Points(16) - vg.Points(12)
-	keyH := keyHeight(key, keyW)
-	headH := headingHeight(title, sub, figWidth-2*vg.Points(14))
-	legH := legendRowHeight(legend, figWidth-2*vg.Points(22)) + vg.Points(8)
-	height := headH + legH + planBodyHeight + keyH
+	// at the width of the key canvas below.
+	keyH := keyHeight(key, figWidth-vg.Points(16))
+	legH := legendHeight(legend, figWidth-2*vg.Points(22)) + vg.Points(8)
+	height := head.height() + legH + planBodyHeight + keyH
 	// Whole pixels, so the reported size is the decoded size.
 	height = vg.Length(math.Ceil(float64(height.Dots(figDPI)))) / figDPI * vg.Inch
 
 	return encodePNG(height, func(dc draw.Canvas) {
-		rest := drawWrappedHeading(dc, title, sub)
+		rest := head.draw(dc)
 		lc := draw.Crop(rest, vg.Points(22), -vg.Points(22), 0, 0)
-		used := drawLegendRow(lc, legend)
+		used := drawLegend(lc, legend)
 		rest = draw.Crop(rest, 0, 0, 0, -(used + vg.Points(8)))
-		body := draw.Crop(rest, 0, 0, keyH, 0)
-		drawGrid(body, grid, colW, rowW)
+		body.draw(draw.Crop(rest, 0, 0, keyH, 0))
 		kc := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
 			Min: vg.Point{X: dc.Min.X + vg.Points(2), Y: dc.Min.Y},
 			Max: vg.Point{X: dc.Max.X - vg.Points(14), Y: dc.Min.Y + keyH - vg.Points(6)},
 		}}
-		drawKey(kc, "How to read this figure", key)
+		drawKey(kc, key)
 	})
 }
 
@@ -480,45 +476,6 @@ func searchOrder(steps []plan.Step, limit int) string {
 		parts = append(parts, strconv.Itoa(st.N)+" "+string(st.Row.Verdict))
 	}
 	return strings.Join(parts, ", ")
-}
-
-// keyHeight is the height drawKey takes for paras in width w, with a
-// little to spare.
-func keyHeight(paras []string, w vg.Length) vg.Length {
-	hs := textStyle(sansBold, fontPanel)
-	st := textStyle(sans, fontSmall)
-	lineH := st.Height("Mg") + vg.Points(2)
-	h := hs.Height("Mg") + vg.Points(8)
-	for _, para := range paras {
-		h += vg.Length(len(wrapText(st, para, w))) * lineH
-		h += vg.Points(5)
-	}
-	return h + vg.Points(14)
-}
-
-// headingHeight is the height drawWrappedHeading takes.
-func headingHeight(title, sub string, w vg.Length) vg.Length {
-	ts, ss := textStyle(sansBold, fontTitle), textStyle(sans, fontLabel)
-	h := vg.Points(14) + ts.Height(title) + vg.Points(6)
-	h += vg.Length(len(wrapText(ss, sub, w))) * (ss.Height("Mg") + vg.Points(2))
-	return h + vg.Points(8)
-}
-
-// drawWrappedHeading is drawHeading with a subtitle that may run to more
-// than one line, and returns the canvas left below it.
-func drawWrappedHeading(dc draw.Canvas, title, sub string) draw.Canvas {
-	const margin = 14
-	x := dc.Min.X + vg.Points(margin)
-	y := dc.Max.Y - vg.Points(margin)
-	ts := textStyle(sansBold, fontTitle)
-	dc.FillText(ts, vg.Point{X: x, Y: y}, title)
-	y -= ts.Height(title) + vg.Points(6)
-	ss := textStyle(sans, fontLabel)
-	for _, line := range wrapText(ss, sub, dc.Max.X-dc.Min.X-2*vg.Points(margin)) {
-		dc.FillText(ss, vg.Point{X: x, Y: y}, line)
-		y -= ss.Height("Mg") + vg.Points(2)
-	}
-	return draw.Crop(dc, 0, 0, 0, y-dc.Max.Y-vg.Points(8))
 }
 
 func planAlt(v planView) string {

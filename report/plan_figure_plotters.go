@@ -14,8 +14,7 @@ import (
 
 // The plan figure needs what the run's figures do not: points whose
 // marker says how each was decided, a window of n shaded across the
-// panel, bars for the replicates spent, and a grid whose rows and columns
-// need not be the same size.
+// panel, and bars for the replicates spent.
 
 // The three verdicts are told apart by shape first: a filled circle for
 // pass, a bold cross for fail, an open diamond for unclear, so a
@@ -297,107 +296,4 @@ func (t zoomTicks) Ticks(lo, hi float64) []plot.Tick {
 		}
 	}
 	return ticks
-}
-
-// drawGrid lays panels out in rows and columns whose sizes are in the
-// given proportions, each panel under its title, with every data area of
-// a row at the same height and every data area of a column at the same
-// place and width, so n lines up down a column. A nil panel leaves its
-// slot empty. As in drawPanels, y-axis labels are set here rather than by
-// gonum/plot, which places them badly on a log axis.
-func drawGrid(dc draw.Canvas, grid [][]*panel, colW, rowW []float64) {
-	const (
-		padOuter = 8
-		gapX     = 34
-		gapY     = 14
-	)
-	rows, cols := len(rowW), len(colW)
-	sum := func(ws []float64) float64 {
-		var s float64
-		for _, w := range ws {
-			s += w
-		}
-		return s
-	}
-	sumC, sumR := sum(colW), sum(rowW)
-	titleH := textStyle(sansBold, fontPanel).Height("Mg") + vg.Points(8)
-	ls := textStyle(sans, fontLabel)
-	ls.Rotation = math.Pi / 2
-	ls.XAlign, ls.YAlign = draw.XCenter, draw.YCenter
-	labelW := ls.Height("Mg") + vg.Points(8)
-
-	W, H := dc.Max.X-dc.Min.X, dc.Max.Y-dc.Min.Y
-	type pads struct{ l, r, b, t vg.Length }
-	own := make([][]pads, rows)
-	ylabels := make([][]string, rows)
-	colL, colR := make([]vg.Length, cols), make([]vg.Length, cols)
-	rowB, rowT := make([]vg.Length, rows), make([]vg.Length, rows)
-	for j := range rows {
-		own[j], ylabels[j] = make([]pads, cols), make([]string, cols)
-		for i := range cols {
-			pn := grid[j][i]
-			if pn == nil {
-				continue
-			}
-			ylabels[j][i], pn.plot.Y.Label.Text = pn.plot.Y.Label.Text, ""
-			c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{Max: vg.Point{
-				X: W * vg.Length(colW[i]/sumC), Y: H * vg.Length(rowW[j]/sumR)}}}
-			d := pn.plot.DataCanvas(c)
-			o := pads{l: d.Min.X - c.Min.X, r: c.Max.X - d.Max.X, b: d.Min.Y - c.Min.Y, t: c.Max.Y - d.Max.Y}
-			own[j][i] = o
-			lw := o.l
-			if ylabels[j][i] != "" {
-				lw += labelW
-			}
-			colL[i], colR[i] = max(colL[i], lw), max(colR[i], o.r)
-			rowB[j], rowT[j] = max(rowB[j], o.b), max(rowT[j], o.t)
-		}
-	}
-	fixedX := 2*vg.Points(padOuter) + vg.Length(cols-1)*vg.Points(gapX)
-	for i := range cols {
-		fixedX += colL[i] + colR[i]
-	}
-	fixedY := 2*vg.Points(padOuter) + vg.Length(rows-1)*vg.Points(gapY)
-	for j := range rows {
-		fixedY += titleH + rowT[j] + rowB[j]
-	}
-	dataW, dataH := W-fixedX, H-fixedY
-
-	left := make([]vg.Length, cols)
-	widths := make([]vg.Length, cols)
-	x := dc.Min.X + vg.Points(padOuter)
-	for i := range cols {
-		widths[i] = dataW * vg.Length(colW[i]/sumC)
-		left[i] = x + colL[i]
-		x = left[i] + widths[i] + colR[i] + vg.Points(gapX)
-	}
-	y := dc.Max.Y - vg.Points(padOuter)
-	ts := textStyle(sansBold, fontPanel)
-	for j := range rows {
-		top := y
-		h := dataH * vg.Length(rowW[j]/sumR)
-		dataTop := top - titleH - rowT[j]
-		for i := range cols {
-			pn := grid[j][i]
-			if pn == nil {
-				continue
-			}
-			o := own[j][i]
-			c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
-				Min: vg.Point{X: left[i] - o.l, Y: dataTop - h - o.b},
-				Max: vg.Point{X: left[i] + widths[i] + o.r, Y: dataTop + o.t},
-			}}
-			c.FillText(ts, vg.Point{X: left[i], Y: top}, pn.title)
-			if pn.note != "" {
-				ns := textStyle(sans, fontSmall)
-				ny := top - (ts.FontExtents().Ascent - ns.FontExtents().Ascent)
-				c.FillText(ns, vg.Point{X: left[i] + ts.Width(pn.title) + vg.Points(6), Y: ny}, pn.note)
-			}
-			pn.plot.Draw(c)
-			if ylabels[j][i] != "" {
-				c.FillText(ls, vg.Point{X: left[i] - colL[i] + labelW/2, Y: dataTop - h/2}, ylabels[j][i])
-			}
-		}
-		y = dataTop - h - rowB[j] - vg.Points(gapY)
-	}
 }
