@@ -9,17 +9,41 @@ import (
 	"deltaprobe/sim/measure"
 )
 
-// SummaryColumns is the header of summary.csv (contract: names and order).
-var SummaryColumns = []string{
-	"transform", "n", "replicates", "undefined", "truth", "mean", "bias", "bias_mcse",
-	"rel_bias", "std_bias", "bias_2nd", "emp_var", "emp_var_mcse", "delta_var",
-	"var_ratio", "var_ratio_mcse", "plugin_var", "plugin_ratio", "coverage",
-	"coverage_mcse", "miss_below", "miss_above", "robust_se", "skewness",
-	"ex_kurtosis", "ks_pivot", "verdict",
+// SummaryColumns is the header of summary.csv: the transform and n, every
+// measure of measure.Measures that has a group, in table order, and the
+// verdict last (contract: names and order).
+var SummaryColumns = summaryColumns()
+
+func summaryColumns() []string {
+	cols := []string{"transform", "n"}
+	for _, m := range summaryMeasures() {
+		cols = append(cols, m.Name)
+	}
+	return append(cols, "verdict")
 }
 
-// VerdictColumns is the header of verdicts.csv (contract: names and order).
-var VerdictColumns = []string{"transform", "smallest_n", "status", "limiting", "n_coverage", "n_variance", "n_bias"}
+// summaryMeasures are the measures summary.csv writes, in table order.
+func summaryMeasures() []*measure.Measure {
+	var out []*measure.Measure
+	for _, m := range measure.Measures() {
+		if m.Group != measure.Internal {
+			out = append(out, m)
+		}
+	}
+	return out
+}
+
+// VerdictColumns is the header of verdicts.csv: n_NAME for each criterion
+// of measure.Criteria (contract: names and order).
+var VerdictColumns = verdictColumns()
+
+func verdictColumns() []string {
+	cols := []string{"transform", "smallest_n", "status", "limiting"}
+	for _, c := range measure.Criteria() {
+		cols = append(cols, "n_"+c.Name)
+	}
+	return cols
+}
 
 // formatFloat writes 8 significant digits: far more than any Monte Carlo
 // estimate here can claim, and stable to the byte. A value that does not
@@ -36,6 +60,14 @@ func formatFloat(x float64) string {
 	return strconv.FormatFloat(x, 'g', 8, 64)
 }
 
+// formatMeasure writes one measure's value for a CSV file.
+func formatMeasure(m *measure.Measure, r measure.Row) string {
+	if m.Count {
+		return strconv.FormatInt(r.Count(m), 10)
+	}
+	return formatFloat(r.Get(m))
+}
+
 func formatN(n int) string {
 	if n == 0 {
 		return ""
@@ -48,16 +80,13 @@ func SummaryCSV(rows []measure.Row) []byte {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
 	w.Write(SummaryColumns)
+	ms := summaryMeasures()
 	for _, r := range rows {
-		w.Write([]string{
-			r.Transform, strconv.Itoa(r.N), strconv.FormatInt(r.Replicates, 10), strconv.FormatInt(r.Undefined, 10),
-			formatFloat(r.Truth), formatFloat(r.Mean), formatFloat(r.Bias), formatFloat(r.BiasMCSE),
-			formatFloat(r.RelBias), formatFloat(r.StdBias), formatFloat(r.Bias2nd), formatFloat(r.EmpVar),
-			formatFloat(r.EmpVarMCSE), formatFloat(r.DeltaVar), formatFloat(r.VarRatio), formatFloat(r.VarRatioMCSE),
-			formatFloat(r.PluginVar), formatFloat(r.PluginRatio), formatFloat(r.Coverage), formatFloat(r.CoverageMCSE),
-			formatFloat(r.MissBelow), formatFloat(r.MissAbove), formatFloat(r.RobustSE), formatFloat(r.Skewness),
-			formatFloat(r.ExKurtosis), formatFloat(r.KSPivot), string(r.Verdict),
-		})
+		rec := []string{r.Transform, strconv.Itoa(r.N)}
+		for _, m := range ms {
+			rec = append(rec, formatMeasure(m, r))
+		}
+		w.Write(append(rec, string(r.Verdict)))
 	}
 	w.Flush()
 	return buf.Bytes()
@@ -69,10 +98,11 @@ func VerdictsCSV(vs []measure.TransformVerdict) []byte {
 	w := csv.NewWriter(&buf)
 	w.Write(VerdictColumns)
 	for _, v := range vs {
-		w.Write([]string{
-			v.Transform, formatN(v.SmallestN), string(v.Status), v.Limiting,
-			formatN(v.PerCriterion[0]), formatN(v.PerCriterion[1]), formatN(v.PerCriterion[2]),
-		})
+		rec := []string{v.Transform, formatN(v.SmallestN), string(v.Status), v.Limiting}
+		for _, n := range v.PerCriterion {
+			rec = append(rec, formatN(n))
+		}
+		w.Write(rec)
 	}
 	w.Flush()
 	return buf.Bytes()

@@ -177,24 +177,24 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 	// The bars of the delta ratio are the interval the variance verdict
 	// uses: emp_var's Monte Carlo interval, inverted (delta_var is exact).
 	delta := series{label: "delta-method / simulated", x: xs(rows, 1),
-		y:  column(rows, func(r measure.Row) float64 { return r.VarRatio }),
-		lo: column(rows, func(r measure.Row) float64 { return r.Checks[1].Low }),
-		hi: column(rows, func(r measure.Row) float64 { return r.Checks[1].High }),
+		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.VarRatio) }),
+		lo: column(rows, func(r measure.Row) float64 { return r.Check(measure.VarianceCheck).Low }),
+		hi: column(rows, func(r measure.Row) float64 { return r.Check(measure.VarianceCheck).High }),
 	}
 	// The plug-in ratio shares emp_var as its denominator, so it takes the
 	// same relative interval. That leaves out the Monte Carlo error of the
 	// mean plug-in variance itself, an average over every replicate and far
 	// smaller than that of emp_var.
 	scale := func(r measure.Row, end float64) float64 {
-		if !(r.VarRatio > 0) {
+		if !(r.Get(measure.VarRatio) > 0) {
 			return math.NaN()
 		}
-		return r.PluginRatio * end / r.VarRatio
+		return r.Get(measure.PluginRatio) * end / r.Get(measure.VarRatio)
 	}
 	plugin := series{label: "mean plug-in / simulated", x: xs(rows, a.dodge), style: 1,
-		y:  column(rows, func(r measure.Row) float64 { return r.PluginRatio }),
-		lo: column(rows, func(r measure.Row) float64 { return scale(r, r.Checks[1].Low) }),
-		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Checks[1].High) }),
+		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.PluginRatio) }),
+		lo: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).Low) }),
+		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).High) }),
 	}
 	useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, c[:])
 	for _, s := range []series{delta, plugin} {
@@ -215,9 +215,9 @@ func (a trendAxes) coveragePanel(rows []measure.Row) (panel, error) {
 	p.Add(band, nominal)
 	legend := []legendItem{}
 	cov := series{label: "simulated coverage", x: xs(rows, 1),
-		y:  column(rows, func(r measure.Row) float64 { return r.Coverage }),
-		lo: column(rows, func(r measure.Row) float64 { return r.CoverageRange[0] }),
-		hi: column(rows, func(r measure.Row) float64 { return r.CoverageRange[1] }),
+		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.Coverage) }),
+		lo: column(rows, func(r measure.Row) float64 { return r.Check(measure.CoverageCheck).Low }),
+		hi: column(rows, func(r measure.Row) float64 { return r.Check(measure.CoverageCheck).High }),
 	}
 	if err := addSeries(p, &legend, cov); err != nil {
 		return panel{}, err
@@ -234,7 +234,7 @@ func (a trendAxes) coveragePanel(rows []measure.Row) (panel, error) {
 // diagnostic: they enter no verdict, so no sharper interval is needed.
 func missBars(rows []measure.Row, share func(measure.Row) float64) (lo, hi []float64) {
 	for _, r := range rows {
-		p, n := share(r), float64(r.Replicates)
+		p, n := share(r), float64(r.Count(measure.Replicates))
 		h := math.NaN()
 		if n > 0 {
 			h = z95 * math.Sqrt(p*(1-p)/n)
@@ -249,8 +249,8 @@ func (a trendAxes) missPanel(rows []measure.Row) (panel, error) {
 	nominal := hLine{at: (1 - a.level) / 2, style: refStyle}
 	p.Add(nominal)
 	legend := []legendItem{}
-	below := func(r measure.Row) float64 { return r.MissBelow }
-	above := func(r measure.Row) float64 { return r.MissAbove }
+	below := func(r measure.Row) float64 { return r.Get(measure.MissBelow) }
+	above := func(r measure.Row) float64 { return r.Get(measure.MissAbove) }
 	blo, bhi := missBars(rows, below)
 	alo, ahi := missBars(rows, above)
 	for _, s := range []series{
@@ -273,12 +273,12 @@ func (a trendAxes) biasPanel(rows []measure.Row) (panel, error) {
 	p.Add(band, hLine{at: 0, style: idealLine})
 	legend := []legendItem{}
 	sim2 := series{label: "simulated bias", x: xs(rows, 1),
-		y:  column(rows, func(r measure.Row) float64 { return r.StdBias }),
-		lo: column(rows, func(r measure.Row) float64 { return r.Checks[2].Low }),
-		hi: column(rows, func(r measure.Row) float64 { return r.Checks[2].High }),
+		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.StdBias) }),
+		lo: column(rows, func(r measure.Row) float64 { return r.Check(measure.BiasCheck).Low }),
+		hi: column(rows, func(r measure.Row) float64 { return r.Check(measure.BiasCheck).High }),
 	}
 	pred := series{label: "second-order prediction", x: xs(rows, a.dodge), style: 1,
-		y: column(rows, func(r measure.Row) float64 { return r.Bias2nd / math.Sqrt(r.DeltaVar) }),
+		y: column(rows, func(r measure.Row) float64 { return r.Get(measure.Bias2nd) / math.Sqrt(r.Get(measure.DeltaVar)) }),
 	}
 	for _, s := range []series{sim2, pred} {
 		if err := addSeries(p, &legend, s); err != nil {
@@ -307,7 +307,7 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 			noise[i] = ksNoise / math.Sqrt(float64(tot))
 		}
 	}
-	ks := series{label: "Wald pivot against N(0, 1)", x: xs(rows, 1), y: column(rows, func(r measure.Row) float64 { return r.KSPivot })}
+	ks := series{label: "Wald pivot against N(0, 1)", x: xs(rows, 1), y: column(rows, func(r measure.Row) float64 { return r.Get(measure.KSPivot) })}
 	if err := addSeries(p, &legend, ks); err != nil {
 		return panel{}, err
 	}

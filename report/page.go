@@ -26,14 +26,16 @@ type pageData struct {
 	Description string
 	Glance      []keyValue
 	Criteria    []string
-	Verdicts    []verdictLine
-	Warnings    []string
-	Sections    []transformSection
-	Tables      []summaryTable
-	Source      string
-	SourceName  string
-	Provenance  []keyValue
-	Incomplete  bool
+	// CriterionNames head the verdict table's per-criterion columns.
+	CriterionNames []string
+	Verdicts       []verdictLine
+	Warnings       []string
+	Sections       []transformSection
+	Tables         []summaryTable
+	Source         string
+	SourceName     string
+	Provenance     []keyValue
+	Incomplete     bool
 }
 
 type keyValue struct{ Key, Value string }
@@ -44,7 +46,7 @@ type verdictLine struct {
 	Status             string
 	StatusClass        string
 	Limiting           string
-	PerCriterion       [3]string
+	PerCriterion       []string
 	Why                string
 }
 
@@ -68,16 +70,33 @@ type summaryCell struct {
 	Text, Class string
 }
 
-// The summary is split into three tables, each under a dozen columns, so
-// each fits a printed page and a reader finds a quantity among its kin.
-// Together they hold every column of summary.csv, under the same names.
+// The summary is split into three tables, one per measure group, each
+// under a dozen columns, so each fits a printed page and a reader finds a
+// quantity among its kin. Together they hold every column of summary.csv,
+// under the same names.
 var summaryGroups = []struct {
 	caption string
-	columns []string
+	group   measure.Group
+	verdict bool // ends with the verdict column
 }{
-	{"Estimate and bias", []string{"transform", "n", "replicates", "undefined", "truth", "mean", "bias", "bias_mcse", "rel_bias", "std_bias", "bias_2nd", "verdict"}},
-	{"Variance", []string{"transform", "n", "emp_var", "emp_var_mcse", "delta_var", "var_ratio", "var_ratio_mcse", "plugin_var", "plugin_ratio", "robust_se"}},
-	{"Intervals and shape", []string{"transform", "n", "coverage", "coverage_mcse", "miss_below", "miss_above", "skewness", "ex_kurtosis", "ks_pivot", "verdict"}},
+	{"Estimate and bias", measure.Estimate, true},
+	{"Variance", measure.Variance, false},
+	{"Intervals and shape", measure.Intervals, true},
+}
+
+// groupColumns lists a page table's columns: the transform and n, the
+// group's measures in table order, and the verdict if asked.
+func groupColumns(g measure.Group, verdict bool) []string {
+	cols := []string{"transform", "n"}
+	for _, m := range measure.Measures() {
+		if m.Group == g {
+			cols = append(cols, m.Name)
+		}
+	}
+	if verdict {
+		cols = append(cols, "verdict")
+	}
+	return cols
 }
 
 var pageTemplate = template.Must(template.Must(template.New("page").Parse(pageHTML)).Parse(pageParts))
@@ -113,6 +132,9 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 	if d.Title == "" {
 		d.Title = st.File
 	}
+	for _, c := range measure.Criteria() {
+		d.CriterionNames = append(d.CriterionNames, c.Name)
+	}
 	d.Glance = []keyValue{
 		{"Model", describeModel(st.Arms)},
 		{"Sample sizes", joinInts(st.SampleSizes)},
@@ -140,8 +162,8 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 			Limiting:    dash(v.Limiting),
 			Why:         explain(trows, v, c),
 		}
-		for k := range line.PerCriterion {
-			line.PerCriterion[k] = dash(formatN(v.PerCriterion[k]))
+		for _, n := range v.PerCriterion {
+			line.PerCriterion = append(line.PerCriterion, dash(formatN(n)))
 		}
 		d.Verdicts = append(d.Verdicts, line)
 		sec := transformSection{Name: info.Name, Expr: info.Expr, Anchor: line.Anchor}
@@ -236,10 +258,11 @@ func describeModel(arms []study.ArmInfo) string {
 func summaryTables(rows []measure.Row) []summaryTable {
 	var out []summaryTable
 	for _, g := range summaryGroups {
-		tb := summaryTable{Caption: g.caption, Columns: g.columns}
+		cols := groupColumns(g.group, g.verdict)
+		tb := summaryTable{Caption: g.caption, Columns: cols}
 		for _, r := range rows {
-			cells := make([]summaryCell, len(g.columns))
-			for i, col := range g.columns {
+			cells := make([]summaryCell, len(cols))
+			for i, col := range cols {
 				cells[i] = summaryCellFor(r, col)
 			}
 			tb.Rows = append(tb.Rows, cells)
@@ -269,24 +292,17 @@ func summaryCellFor(r measure.Row, col string) summaryCell {
 		return summaryCell{Text: r.Transform, Class: "name"}
 	case "n":
 		return summaryCell{Text: strconv.Itoa(r.N), Class: "num"}
-	case "replicates":
-		return summaryCell{Text: strconv.FormatInt(r.Replicates, 10), Class: "num"}
-	case "undefined":
-		return summaryCell{Text: strconv.FormatInt(r.Undefined, 10), Class: "num"}
 	case "verdict":
 		return summaryCell{Text: string(r.Verdict), Class: "v-" + string(r.Verdict)}
 	}
-	values := map[string]float64{
-		"truth": r.Truth, "mean": r.Mean, "bias": r.Bias, "bias_mcse": r.BiasMCSE,
-		"rel_bias": r.RelBias, "std_bias": r.StdBias, "bias_2nd": r.Bias2nd, "emp_var": r.EmpVar,
-		"emp_var_mcse": r.EmpVarMCSE, "delta_var": r.DeltaVar, "var_ratio": r.VarRatio,
-		"var_ratio_mcse": r.VarRatioMCSE, "plugin_var": r.PluginVar, "plugin_ratio": r.PluginRatio,
-		"coverage": r.Coverage, "coverage_mcse": r.CoverageMCSE, "miss_below": r.MissBelow,
-		"miss_above": r.MissAbove, "robust_se": r.RobustSE, "skewness": r.Skewness,
-		"ex_kurtosis": r.ExKurtosis, "ks_pivot": r.KSPivot,
-	}
-	if x, ok := values[col]; ok {
-		return num(x)
+	for _, m := range measure.Measures() {
+		switch {
+		case m.Name != col:
+		case m.Count:
+			return summaryCell{Text: strconv.FormatInt(r.Count(m), 10), Class: "num"}
+		default:
+			return num(r.Get(m))
+		}
 	}
 	return summaryCell{Text: "?"}
 }

@@ -54,11 +54,10 @@ func explain(rows []measure.Row, v measure.TransformVerdict, crit study.Criteria
 // problems describes every criterion that does not pass at row r.
 func problems(r measure.Row, crit study.Criteria) []string {
 	var out []string
-	for c, ch := range r.Checks {
-		if ch.Verdict == measure.Pass {
-			continue
+	for _, cr := range measure.Criteria() {
+		if ch := r.Check(cr); ch.Verdict != measure.Pass {
+			out = append(out, describeCheck(cr, r, ch))
 		}
-		out = append(out, describeCheck(c, r, ch))
 	}
 	if len(out) == 0 {
 		// Cannot happen for a row whose verdict is not pass; say so
@@ -68,13 +67,12 @@ func problems(r measure.Row, crit study.Criteria) []string {
 	return out
 }
 
-// describeCheck says what criterion c showed at row r: its value, where
-// its Monte Carlo interval lies against the band, and what that means.
-func describeCheck(c int, r measure.Row, ch measure.Check) string {
+// describeCheck says what criterion cr showed at row r: its value, where
+// its Monte Carlo interval lies against the band, and what that means, in
+// the criterion's own words.
+func describeCheck(cr *measure.Criterion, r measure.Row, ch measure.Check) string {
 	iv := fmt.Sprintf("Monte Carlo 95%% interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
 	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
-	below := ch.Verdict == measure.Fail && ch.High < ch.Band[0]
-	above := ch.Verdict == measure.Fail && ch.Low > ch.Band[1]
 	// An unclear check's interval crosses one edge of the band, or both.
 	var edges []string
 	for _, e := range ch.Band {
@@ -86,33 +84,17 @@ func describeCheck(c int, r measure.Row, ch measure.Check) string {
 	if len(edges) == 0 {
 		crosses = iv + ", " + band // a NaN interval: say what is known
 	}
-	switch c {
-	case 0:
-		v := fmt3(r.Coverage)
-		switch {
-		case below:
-			return fmt.Sprintf("coverage is below its band: %s (%s; %s)", v, iv, band)
-		case above:
-			return fmt.Sprintf("coverage is above its band, the interval too wide: %s (%s; %s)", v, iv, band)
-		}
-		return fmt.Sprintf("coverage is not clearly inside its band: %s (%s)", v, crosses)
-	case 1:
-		v := fmt3(r.VarRatio)
-		switch {
-		case below:
-			return fmt.Sprintf("the delta-method variance is too small: %s of the simulated variance (%s; %s)", v, iv, band)
-		case above:
-			return fmt.Sprintf("the delta-method variance is too large: %s times the simulated variance (%s; %s)", v, iv, band)
-		}
-		return fmt.Sprintf("the variance ratio is not clearly inside its band: %s (%s)", v, crosses)
-	case 2:
-		v, bound := fmt3(r.StdBias), fmt3(ch.Band[1])
-		if below || above {
-			return fmt.Sprintf("the bias is %s delta-method sd, beyond ±%s (%s)", v, bound, iv)
-		}
-		return fmt.Sprintf("the bias is not clearly within ±%s delta-method sd: %s (%s)", bound, v, crosses)
+	words := cr.Unclear
+	switch {
+	case ch.Verdict == measure.Fail && ch.High < ch.Band[0]:
+		words = cr.Below
+	case ch.Verdict == measure.Fail && ch.Low > ch.Band[1]:
+		words = cr.Above
 	}
-	return measure.CriterionNames[c] + " does not pass"
+	return strings.NewReplacer(
+		"{value}", fmt3(r.Get(cr.Measure)), "{interval}", iv, "{band}", band,
+		"{bound}", fmt3(ch.Band[1]), "{crosses}", crosses,
+	).Replace(words)
 }
 
 // fmt3 writes x to three decimals, as the page's sentences quote values.

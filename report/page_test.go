@@ -268,7 +268,8 @@ func TestPageEscapes(t *testing.T) {
 // row builds a summary row whose checks have the given verdicts and
 // intervals; the values quoted are the centres of the intervals.
 func row(n int, checks ...measure.Check) measure.Row {
-	r := measure.Row{N: n, Verdict: measure.Pass}
+	r := measure.NewRow("t", n)
+	r.Verdict = measure.Pass
 	for i, c := range checks {
 		r.Checks[i] = c
 		switch c.Verdict {
@@ -280,9 +281,9 @@ func row(n int, checks ...measure.Check) measure.Row {
 			}
 		}
 	}
-	r.Coverage = (r.Checks[0].Low + r.Checks[0].High) / 2
-	r.VarRatio = (r.Checks[1].Low + r.Checks[1].High) / 2
-	r.StdBias = (r.Checks[2].Low + r.Checks[2].High) / 2
+	for i, cr := range measure.Criteria() {
+		r.Set(cr.Measure, (r.Checks[i].Low+r.Checks[i].High)/2)
+	}
 	return r
 }
 

@@ -197,50 +197,34 @@ func (a planAxis) addWindow(p *plot.Plot) {
 	}
 }
 
-// criterionView is one of the three criteria as the plan figure draws it.
-type criterionView struct {
-	title  string
-	ylabel string
-	value  func(measure.Row) float64
-	band   [2]float64
-	ref    hLine
-	logY   bool // may switch to a log y axis (a ratio)
-}
-
-func planMeasures(s *study.Study) []criterionView {
-	c := s.Criteria
-	return []criterionView{
-		{title: "Coverage of the Wald interval", ylabel: "coverage", value: func(r measure.Row) float64 { return r.Coverage },
-			band: c.Coverage, ref: hLine{at: s.Level, style: refStyle}},
-		{title: "Variance ratio, delta method / simulated", ylabel: "variance ratio", value: func(r measure.Row) float64 { return r.VarRatio },
-			band: c.VarRatio, ref: hLine{at: 1, style: idealLine}, logY: true},
-		{title: "Bias, in delta-method standard deviations", ylabel: "bias / delta sd", value: func(r measure.Row) float64 { return r.StdBias },
-			band: [2]float64{-c.StdBias, c.StdBias}, ref: hLine{at: 0, style: idealLine}},
-	}
-}
-
-// measurePanel draws criterion c of the steps that fall on axis a: each
+// measurePanel draws criterion cr of the steps that fall on axis a: each
 // point in the look of that criterion's own verdict at that n, with the
-// interval the decision used (already widened for repeated looks).
-func (a planAxis) measurePanel(m criterionView, c int, steps []plan.Step, title string) *panel {
+// interval the decision used (already widened for repeated looks), over
+// the band of crit and a line at the ideal value for the nominal level.
+func (a planAxis) measurePanel(cr *measure.Criterion, crit study.Criteria, level float64, steps []plan.Step, title string) *panel {
 	var vp verdictPoints
 	for _, st := range steps {
 		if !a.contains(st.N) {
 			continue
 		}
-		ch := st.Row.Checks[c]
+		ch := st.Row.Check(cr)
 		vp.x = append(vp.x, float64(st.N))
-		vp.y = append(vp.y, m.value(st.Row))
+		vp.y = append(vp.y, st.Row.Get(cr.Measure))
 		vp.lo, vp.hi = append(vp.lo, ch.Low), append(vp.hi, ch.High)
 		vp.v = append(vp.v, ch.Verdict)
 	}
 	ylabel := ""
 	if a.log {
-		ylabel = m.ylabel
+		ylabel = cr.Axis
 	}
 	p := a.newPlot("", ylabel)
-	p.Add(hBand{lo: m.band[0], hi: m.band[1], color: colBand}, m.ref)
-	if m.logY && useLogY(p, vp.y, vp.lo, vp.hi, m.band[:]) && !a.log {
+	band := cr.Band(crit)
+	ref := hLine{at: cr.Ideal(level), style: idealLine}
+	if cr.Nominal {
+		ref.style = refStyle
+	}
+	p.Add(hBand{lo: band[0], hi: band[1], color: colBand}, ref)
+	if cr.Ratio && useLogY(p, vp.y, vp.lo, vp.hi, band[:]) && !a.log {
 		// useLogY names the scale in the label; the zoom column has none.
 		p.Y.Label.Text = ""
 	}
@@ -320,7 +304,7 @@ func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, erro
 	if v.windowTop > 0 {
 		logAxis.winLo, logAxis.winHi = float64(a)+0.5, float64(v.windowTop)+0.5
 	}
-	measures := planMeasures(s)
+	criteria := measure.Criteria()
 	cols := []planAxis{logAxis}
 	if zoom {
 		za := planAxis{xmin: float64(zlo) - 0.6, xmax: float64(zhi) + 0.6, ticks: zoomTicks{answer: a}, answer: a,
@@ -331,14 +315,16 @@ func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, erro
 	if zoom {
 		zoomNote = fmt.Sprintf("n = %d–%d", zlo, zhi)
 	}
-	grid := make([][]*panel, len(measures)+1)
-	for c, m := range measures {
+	grid := make([][]*panel, len(criteria)+1)
+	rowWeights := make([]float64, 0, len(criteria)+1)
+	for c, cr := range criteria {
+		rowWeights = append(rowWeights, 1)
 		for k, ax := range cols {
-			title := m.title
+			title := cr.Heading
 			if k == 1 {
-				title = shortTitle(c)
+				title = cr.Title
 			}
-			pn := ax.measurePanel(m, c, v.steps, title)
+			pn := ax.measurePanel(cr, s.Criteria, s.Level, v.steps, title)
 			if k == 1 {
 				pn.note = zoomNote
 			}
@@ -354,9 +340,10 @@ func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, erro
 		if k == 1 {
 			pn.note = zoomNote
 		}
-		grid[len(measures)] = append(grid[len(measures)], pn)
+		grid[len(criteria)] = append(grid[len(criteria)], pn)
 	}
-	body := panelGrid{panels: grid, colWeights: colW, rowWeights: []float64{1, 1, 1, 0.62},
+	rowWeights = append(rowWeights, 0.62)
+	body := panelGrid{panels: grid, colWeights: colW, rowWeights: rowWeights,
 		gapX: vg.Points(34), gapY: vg.Points(14), titleGap: vg.Points(8)}
 
 	head := wrappedHeading(figureTitle(v.info, " — search for the smallest adequate n"), planPhrase(v, spec)+" "+planCost(v, p))
@@ -383,10 +370,6 @@ func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, erro
 		}}
 		drawKey(kc, key)
 	})
-}
-
-func shortTitle(c int) string {
-	return [...]string{"Coverage", "Variance ratio", "Bias"}[c]
 }
 
 // planLegend is the legend row shared by every panel of the figure.

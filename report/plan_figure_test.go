@@ -337,7 +337,7 @@ func TestZoomTicks(t *testing.T) {
 func steps(ns []int, vs []measure.Verdict) []plan.Step {
 	out := make([]plan.Step, len(ns))
 	for i, n := range ns {
-		out[i] = plan.Step{Transform: "t", Step: i + 1, N: n, Replicates: 1000, Row: measure.Row{N: n, Verdict: vs[i]}}
+		out[i] = plan.Step{Transform: "t", Step: i + 1, N: n, Replicates: 1000, Row: verdictRow(n, vs[i])}
 	}
 	return out
 }
@@ -369,4 +369,11 @@ func TestZoomRange(t *testing.T) {
 			}
 		})
 	}
+}
+
+// verdictRow is a row at n whose overall verdict is v, every measure missing.
+func verdictRow(n int, v measure.Verdict) measure.Row {
+	r := measure.NewRow("t", n)
+	r.Verdict = v
+	return r
 }

@@ -11,13 +11,24 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
 	"deltaprobe/sim/runner"
 	"deltaprobe/sim/study"
 )
 
-// PlanColumns is the header of plan.csv (contract: names and order).
-var PlanColumns = []string{"transform", "step", "n", "replicates", "coverage", "coverage_mcse", "var_ratio", "var_ratio_mcse", "std_bias", "std_bias_mcse", "verdict"}
+// PlanColumns is the header of plan.csv: each criterion's measure and its
+// Monte Carlo standard error, in the order of measure.Criteria, between
+// the evaluation and its verdict (contract: names and order).
+var PlanColumns = planColumns()
+
+func planColumns() []string {
+	cols := []string{"transform", "step", "n", "replicates"}
+	for _, c := range measure.Criteria() {
+		cols = append(cols, c.Measure.Name, c.MCSE.Name)
+	}
+	return append(cols, "verdict")
+}
 
 // PlanCSV renders plan.csv: every evaluation, per transform, in
 // evaluation order.
@@ -26,12 +37,11 @@ func PlanCSV(p *plan.Result) []byte {
 	w := csv.NewWriter(&buf)
 	w.Write(PlanColumns)
 	for _, st := range p.Steps {
-		r := st.Row
-		w.Write([]string{
-			st.Transform, strconv.Itoa(st.Step), strconv.Itoa(st.N), strconv.FormatInt(st.Replicates, 10),
-			formatFloat(r.Coverage), formatFloat(r.CoverageMCSE), formatFloat(r.VarRatio), formatFloat(r.VarRatioMCSE),
-			formatFloat(r.StdBias), formatFloat(r.StdBiasMCSE), string(r.Verdict),
-		})
+		rec := []string{st.Transform, strconv.Itoa(st.Step), strconv.Itoa(st.N), strconv.FormatInt(st.Replicates, 10)}
+		for _, c := range measure.Criteria() {
+			rec = append(rec, formatMeasure(c.Measure, st.Row), formatMeasure(c.MCSE, st.Row))
+		}
+		w.Write(append(rec, string(st.Row.Verdict)))
 	}
 	w.Flush()
 	return buf.Bytes()

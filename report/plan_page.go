@@ -209,10 +209,6 @@ func planCellFor(st plan.Step, col string) summaryCell {
 		return summaryCell{Text: strconv.Itoa(st.Step), Class: "num"}
 	case "replicates":
 		return summaryCell{Text: strconv.FormatInt(st.Replicates, 10), Class: "num"}
-	case "std_bias_mcse":
-		// Formatted as summaryCellFor formats every other number, by way
-		// of a row that carries this value in a column it knows.
-		return summaryCellFor(measure.Row{StdBias: st.Row.StdBiasMCSE}, "std_bias")
 	}
 	return summaryCellFor(st.Row, col)
 }
@@ -263,9 +259,9 @@ func planExplain(v planView, spec study.PlanSpec) string {
 // planProblems describes every criterion that does not pass at row r.
 func planProblems(r measure.Row) []string {
 	var out []string
-	for c, ch := range r.Checks {
-		if ch.Verdict != measure.Pass {
-			out = append(out, describePlanCheck(c, r, ch))
+	for _, cr := range measure.Criteria() {
+		if ch := r.Check(cr); ch.Verdict != measure.Pass {
+			out = append(out, describePlanCheck(cr, r, ch))
 		}
 	}
 	if len(out) == 0 {
@@ -274,11 +270,10 @@ func planProblems(r measure.Row) []string {
 	return out
 }
 
-// describePlanCheck says where criterion c's interval lay against its
+// describePlanCheck says where criterion cr's interval lay against its
 // band at row r. The interval is the plan's, widened for repeated looks.
-func describePlanCheck(c int, r measure.Row, ch measure.Check) string {
-	what := [...]string{"coverage", "the variance ratio", "the standardised bias"}[c]
-	value := fmt3([...]float64{r.Coverage, r.VarRatio, r.StdBias}[c])
+func describePlanCheck(cr *measure.Criterion, r measure.Row, ch measure.Check) string {
+	what, value := cr.Noun, fmt3(r.Get(cr.Measure))
 	iv := fmt.Sprintf("interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
 	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
 	switch {

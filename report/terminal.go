@@ -17,14 +17,21 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	rows := measure.Summarize(r)
 	vs := measure.Verdicts(rows)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimited by\tcov.\tvar.\tbias")
+	var shorts []string
+	for _, c := range measure.Criteria() {
+		shorts = append(shorts, c.Short)
+	}
+	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimited by\t"+strings.Join(shorts, "\t"))
 	for _, v := range vs {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\n", clip(v.Transform, 22), dash(formatN(v.SmallestN)), v.Status, v.Limiting,
-			dash(formatN(v.PerCriterion[0])), dash(formatN(v.PerCriterion[1])), dash(formatN(v.PerCriterion[2])))
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s", clip(v.Transform, 22), dash(formatN(v.SmallestN)), v.Status, v.Limiting)
+		for _, n := range v.PerCriterion {
+			fmt.Fprintf(tw, "\t%s", dash(formatN(n)))
+		}
+		fmt.Fprintln(tw)
 	}
 	tw.Flush()
-	wrap(w, "", fmt.Sprintf("cov., var., bias: the smallest n from which that criterion alone passes. Level %v, %d replicates per n; a study checks the approximation only under the model it states.",
-		r.Study.Level, r.Study.Replicates))
+	wrap(w, "", fmt.Sprintf("%s: the smallest n from which that criterion alone passes. Level %v, %d replicates per n; a study checks the approximation only under the model it states.",
+		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates))
 	if ws := measure.Warnings(r, rows); len(ws) > 0 {
 		fmt.Fprintf(w, "\nwarnings (%d):\n", len(ws))
 		for _, m := range ws {

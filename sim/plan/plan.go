@@ -51,7 +51,7 @@ type planner struct {
 	cache  map[int]*runner.Result // per n: a one-point result, grown by batches
 	out    *Result
 	evals  map[[2]int]Step // (transform, n) → its evaluation
-	steps  []int               // next step number per transform
+	steps  []int           // next step number per transform
 }
 
 // Run runs the sequential search of s.Plan. budget caps the replicates
@@ -233,7 +233,7 @@ func (p *planner) eval(t, n int) (measure.Verdict, error) {
 		st = Step{Transform: p.s.Transforms[t].Name, N: n, Replicates: res.Cells[t][0].Replicates, Looks: k, Row: row, Budget: budgetHit}
 		if budgetHit {
 			p.out.Exhausted = true
-			if row.Replicates == 0 {
+			if row.Count(measure.Replicates) == 0 {
 				st.Row.Verdict = measure.Unclear
 			}
 			break
@@ -270,10 +270,10 @@ func (p *planner) grow(res *runner.Result, n, reps int) error {
 // says the budget ran out before answer's window was checked, which makes
 // the status unclear.
 //
-// The per-criterion columns follow the answer's own rule: the smallest
-// evaluated n where the criterion passed and above which no evaluated n
-// failed it (an undecided n does not count against it), so the limiting
-// criterion's n never exceeds smallest_n.
+// measure.Conclude, the aggregation a grid run uses too, decides it; the
+// per-criterion columns follow the answer's own rule (an undecided n does
+// not count against a criterion), so the limiting criterion's n never
+// exceeds smallest_n.
 func (p *planner) finish(t, answer, window int, budgetCut bool) {
 	var steps []Step
 	for key, st := range p.evals {
@@ -282,48 +282,11 @@ func (p *planner) finish(t, answer, window int, budgetCut bool) {
 		}
 	}
 	sort.Slice(steps, func(i, j int) bool { return steps[i].N < steps[j].N })
-	tv := measure.TransformVerdict{Transform: p.s.Transforms[t].Name}
-	for c := range measure.CriterionNames {
-		for i := len(steps) - 1; i >= 0; i-- {
-			v := steps[i].Row.Checks[c].Verdict
-			if v == measure.Fail {
-				break
-			}
-			if v == measure.Pass {
-				tv.PerCriterion[c] = steps[i].N
-			}
-		}
+	rows := make([]measure.Row, len(steps))
+	for i, st := range steps {
+		rows[i] = st.Row
 	}
-	top := steps[len(steps)-1].Row
-	switch {
-	case answer > 0 && !budgetCut:
-		tv.Status, tv.SmallestN = measure.Adequate, answer
-		tv.Limiting = "none"
-		if answer > p.spec.NMin {
-			best := 0
-			for c := range measure.CriterionNames {
-				if tv.PerCriterion[c] > best {
-					best, tv.Limiting = tv.PerCriterion[c], measure.CriterionNames[c]
-				}
-			}
-		}
-	case budgetCut || top.Verdict != measure.Fail:
-		tv.Status = measure.StatusUnclear
-	default:
-		tv.Status = measure.NotReached
-	}
-	if tv.Status != measure.Adequate {
-		want := top.Verdict
-		if tv.Status == measure.StatusUnclear && want == measure.Pass {
-			want = measure.Unclear
-		}
-		for c := range measure.CriterionNames {
-			if top.Checks[c].Verdict == want {
-				tv.Limiting = measure.CriterionNames[c]
-				break
-			}
-		}
-	}
+	tv := measure.Conclude(rows, measure.Answer{N: answer, Undecided: budgetCut, Lowest: p.spec.NMin, SkipUnclear: true})
 	// Oscillation: a failure above the smallest n that ever passed.
 	firstPass := 0
 	for _, st := range steps {

@@ -199,7 +199,7 @@ expr = "p"
 	for _, st := range p.Steps {
 		c := exactWaldCoverage(st.N, 0.1, z)
 		se := math.Sqrt(c * (1 - c) / R)
-		switch st.Row.Checks[0].Verdict {
+		switch st.Row.Check(measure.CoverageCheck).Verdict {
 		case measure.Pass:
 			if c+p.Z*se < band[0] || c-p.Z*se > band[1] {
 				t.Errorf("n=%d: coverage passed, exact %.4f is clearly outside", st.N, c)
@@ -237,7 +237,7 @@ expr = "logit(p)"
 	}
 	for i := range a.Steps {
 		x, y := a.Steps[i], b.Steps[i]
-		if x.N != y.N || x.Replicates != y.Replicates || x.Row.Coverage != y.Row.Coverage || x.Row.VarRatio != y.Row.VarRatio || x.Row.Verdict != y.Row.Verdict {
+		if x.N != y.N || x.Replicates != y.Replicates || x.Row.Get(measure.Coverage) != y.Row.Get(measure.Coverage) || x.Row.Get(measure.VarRatio) != y.Row.Get(measure.VarRatio) || x.Row.Verdict != y.Row.Verdict {
 			t.Errorf("step %d differs: %+v vs %+v", i, x, y)
 		}
 	}
@@ -270,8 +270,8 @@ expr = "1 / mean"
 		t.Fatal(err)
 	}
 	row := measure.Summarize(res)[0]
-	if row.Coverage != st.Row.Coverage || row.Mean != st.Row.Mean || row.EmpVar != st.Row.EmpVar {
-		t.Errorf("run at n=%d: coverage %v mean %v var %v; plan: %v %v %v", st.N, row.Coverage, row.Mean, row.EmpVar, st.Row.Coverage, st.Row.Mean, st.Row.EmpVar)
+	if row.Get(measure.Coverage) != st.Row.Get(measure.Coverage) || row.Get(measure.Mean) != st.Row.Get(measure.Mean) || row.Get(measure.EmpVar) != st.Row.Get(measure.EmpVar) {
+		t.Errorf("run at n=%d: coverage %v mean %v var %v; plan: %v %v %v", st.N, row.Get(measure.Coverage), row.Get(measure.Mean), row.Get(measure.EmpVar), st.Row.Get(measure.Coverage), st.Row.Get(measure.Mean), st.Row.Get(measure.EmpVar))
 	}
 }
 
@@ -366,11 +366,11 @@ expr = "p"
 			}
 			for c, n := range v.PerCriterion {
 				if n == 0 || n > v.SmallestN {
-					t.Errorf("%s: %s alone from %d, but adequate from %d", v.Transform, measure.CriterionNames[c], n, v.SmallestN)
+					t.Errorf("%s: %s alone from %d, but adequate from %d", v.Transform, measure.Criteria()[c].Name, n, v.SmallestN)
 				}
 			}
 			if v.Limiting != "none" {
-				c := slices.Index(measure.CriterionNames[:], v.Limiting)
+				c := slices.IndexFunc(measure.Criteria(), func(c *measure.Criterion) bool { return c.Name == v.Limiting })
 				if c < 0 || v.PerCriterion[c] != v.SmallestN {
 					t.Errorf("%s: limiting %q with n %v, smallest_n %d", v.Transform, v.Limiting, v.PerCriterion, v.SmallestN)
 				}

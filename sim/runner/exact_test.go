@@ -120,12 +120,12 @@ func exactMomentsDiscrete(ks []float64, w []float64) exactDist {
 // the exact distribution d over the row's defined replicates.
 func exactCheckMoments(t *testing.T, label string, row measure.Row, d exactDist, source string, withVar bool) {
 	t.Helper()
-	r := float64(row.Replicates - row.Undefined)
+	r := float64(row.Count(measure.Replicates) - row.Count(measure.Undefined))
 	mcse := math.Sqrt(d.variance / r)
-	exactCheckValue(t, label+" mean", row.Mean, d.mean, mcse, row.BiasMCSE, source)
+	exactCheckValue(t, label+" mean", row.Get(measure.Mean), d.mean, mcse, row.Get(measure.BiasMCSE), source)
 	if withVar {
 		vmcse := math.Sqrt((d.mu4 - d.variance*d.variance*(r-3)/(r-1)) / r)
-		exactCheckValue(t, label+" emp_var", row.EmpVar, d.variance, vmcse, row.EmpVarMCSE, source)
+		exactCheckValue(t, label+" emp_var", row.Get(measure.EmpVar), d.variance, vmcse, row.Get(measure.EmpVarMCSE), source)
 	}
 }
 
@@ -229,8 +229,8 @@ expr = "rate"
 		d.mean = fn * lambda / (fn - 1)
 		d.variance = fn * fn * lambda * lambda / ((fn - 1) * (fn - 1) * (fn - 2))
 		label := fmt.Sprintf("exp rate n=%d", n)
-		if row.Undefined != 0 {
-			t.Errorf("%s: %d undefined replicates; λ̂ = 1/Ȳ is finite for every sample", label, row.Undefined)
+		if row.Count(measure.Undefined) != 0 {
+			t.Errorf("%s: %d undefined replicates; λ̂ = 1/Ȳ is finite for every sample", label, row.Count(measure.Undefined))
 		}
 		exactCheckMoments(t, label, row, d, "derived: nȲ ~ Gamma(n, λ), inverse-gamma moments", n > 6)
 
@@ -244,9 +244,9 @@ expr = "rate"
 		pBelow := 1 - S.CDF(hiS)
 		pCover := S.CDF(hiS) - pAbove
 		src := "derived: Gamma(n, λ) CDF, gonum distuv.Gamma"
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, pCover, src)
-		exactCheckShare(t, label+" miss_below", row.MissBelow, row.Replicates, pBelow, src)
-		exactCheckShare(t, label+" miss_above", row.MissAbove, row.Replicates, pAbove, src)
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), pCover, src)
+		exactCheckShare(t, label+" miss_below", row.Get(measure.MissBelow), row.Count(measure.Replicates), pBelow, src)
+		exactCheckShare(t, label+" miss_above", row.Get(measure.MissAbove), row.Count(measure.Replicates), pAbove, src)
 	}
 }
 
@@ -301,9 +301,9 @@ expr = "mean"
 			pAbove = 1 - W.CDF(fn/(1-c))
 		}
 		src := "derived: χ²(n−1) CDF, gonum distuv.ChiSquared"
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, 1-pBelow-pAbove, src)
-		exactCheckShare(t, label+" miss_below", row.MissBelow, row.Replicates, pBelow, src)
-		exactCheckShare(t, label+" miss_above", row.MissAbove, row.Replicates, pAbove, src)
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), 1-pBelow-pAbove, src)
+		exactCheckShare(t, label+" miss_below", row.Get(measure.MissBelow), row.Count(measure.Replicates), pBelow, src)
+		exactCheckShare(t, label+" miss_above", row.Get(measure.MissAbove), row.Count(measure.Replicates), pAbove, src)
 
 		row = exactRow(t, rows, "mean", n)
 		label = fmt.Sprintf("normal mean n=%d", n)
@@ -312,9 +312,9 @@ expr = "mean"
 		T := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: k}
 		ct := z * math.Sqrt(k/fn)
 		src = "derived: t(n−1) CDF, gonum distuv.StudentsT"
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, T.CDF(ct)-T.CDF(-ct), src)
-		exactCheckShare(t, label+" miss_below", row.MissBelow, row.Replicates, T.CDF(-ct), src)
-		exactCheckShare(t, label+" miss_above", row.MissAbove, row.Replicates, 1-T.CDF(ct), src)
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), T.CDF(ct)-T.CDF(-ct), src)
+		exactCheckShare(t, label+" miss_below", row.Get(measure.MissBelow), row.Count(measure.Replicates), T.CDF(-ct), src)
+		exactCheckShare(t, label+" miss_above", row.Get(measure.MissAbove), row.Count(measure.Replicates), 1-T.CDF(ct), src)
 	}
 }
 
@@ -371,15 +371,15 @@ expr = "p"
 		}
 		d := exactMomentsDiscrete(ks, w) // for μ4 only
 		d.mean, d.variance = p, p*(1-p)/float64(n)
-		if row.Undefined != 0 {
-			t.Errorf("%s: %d undefined replicates; p̂ and its se are finite for every sample", label, row.Undefined)
+		if row.Count(measure.Undefined) != 0 {
+			t.Errorf("%s: %d undefined replicates; p̂ and its se are finite for every sample", label, row.Count(measure.Undefined))
 		}
 		exactCheckMoments(t, label, row, d, "derived: K ~ Binomial(n, p)", true)
 		src := "Σ Binom(k; n, p)·1[covers], gonum distuv.Binomial"
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, pCover, src)
-		exactCheckShare(t, label+" miss_below", row.MissBelow, row.Replicates, pBelow, src)
-		exactCheckShare(t, label+" miss_above", row.MissAbove, row.Replicates, pAbove, src)
-		exactCheckShare(t, label+" zero_se", float64(row.ZeroSE)/float64(row.Replicates), row.Replicates,
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), pCover, src)
+		exactCheckShare(t, label+" miss_below", row.Get(measure.MissBelow), row.Count(measure.Replicates), pBelow, src)
+		exactCheckShare(t, label+" miss_above", row.Get(measure.MissAbove), row.Count(measure.Replicates), pAbove, src)
+		exactCheckShare(t, label+" zero_se", float64(row.Count(measure.ZeroSE))/float64(row.Count(measure.Replicates)), row.Count(measure.Replicates),
 			math.Pow(1-p, float64(n))+math.Pow(p, float64(n)), "derived: P(K = 0) + P(K = n)")
 	}
 }
@@ -411,13 +411,13 @@ expr = "log(p)"
 	for _, n := range sizes {
 		row := exactRow(t, rows, "log_p", n)
 		label := fmt.Sprintf("bernoulli log(p) n=%d", n)
-		R := float64(row.Replicates)
+		R := float64(row.Count(measure.Replicates))
 		B := distuv.Binomial{N: float64(n), P: p}
 		p0 := math.Pow(1-p, float64(n))
-		exactCheckShare(t, label+" undefined", float64(row.Undefined)/R, row.Replicates, p0, "derived: P(K = 0) = (1−p)^n")
-		if row.Coverage+float64(row.Undefined)/R > 1+1e-15 {
+		exactCheckShare(t, label+" undefined", float64(row.Count(measure.Undefined))/R, row.Count(measure.Replicates), p0, "derived: P(K = 0) = (1−p)^n")
+		if row.Get(measure.Coverage)+float64(row.Count(measure.Undefined))/R > 1+1e-15 {
 			t.Errorf("%s: coverage %v + undefined share %v exceeds 1: undefined replicates must count as not covering",
-				label, row.Coverage, float64(row.Undefined)/R)
+				label, row.Get(measure.Coverage), float64(row.Count(measure.Undefined))/R)
 		}
 		var ks, w []float64
 		var pCover float64
@@ -430,7 +430,7 @@ expr = "log(p)"
 			}
 		}
 		exactCheckMoments(t, label, row, exactMomentsDiscrete(ks, w), "derived: log(K/n) given K ≥ 1", true)
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, pCover,
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), pCover,
 			"Σ_{k≥1} Binom(k; n, p)·1[covers], gonum distuv.Binomial")
 	}
 }
@@ -491,13 +491,13 @@ expr = "log(mean)"
 			}
 		}
 		src := "Σ Pois(k; nμ)·1[covers], gonum distuv.Poisson"
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, pCover, src)
-		exactCheckShare(t, label+" miss_below", row.MissBelow, row.Replicates, pBelow, src)
-		exactCheckShare(t, label+" miss_above", row.MissAbove, row.Replicates, pAbove, src)
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), pCover, src)
+		exactCheckShare(t, label+" miss_below", row.Get(measure.MissBelow), row.Count(measure.Replicates), pBelow, src)
+		exactCheckShare(t, label+" miss_above", row.Get(measure.MissAbove), row.Count(measure.Replicates), pAbove, src)
 
 		row = exactRow(t, rows, "log_mean", n)
 		label = fmt.Sprintf("poisson log(mean) n=%d", n)
-		exactCheckShare(t, label+" undefined", float64(row.Undefined)/float64(row.Replicates), row.Replicates, p0,
+		exactCheckShare(t, label+" undefined", float64(row.Count(measure.Undefined))/float64(row.Count(measure.Replicates)), row.Count(measure.Replicates), p0,
 			"derived: P(S = 0) = exp(−nμ)")
 		var ks, w []float64
 		pCover = 0
@@ -510,7 +510,7 @@ expr = "log(mean)"
 			}
 		}
 		exactCheckMoments(t, label, row, exactMomentsDiscrete(ks, w), "derived: log(S/n) given S ≥ 1", true)
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, pCover,
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), pCover,
 			"Σ_{k≥1} Pois(k; nμ)·1[covers], gonum distuv.Poisson")
 	}
 }
@@ -541,9 +541,9 @@ expr = "shape / rate"
 	for _, n := range sizes {
 		row := exactRow(t, rows, "mean", n)
 		label := fmt.Sprintf("gamma shape/rate n=%d", n)
-		if row.Undefined != 0 {
+		if row.Count(measure.Undefined) != 0 {
 			t.Errorf("%s: %d undefined replicates (%d fit failures); the gamma MLE exists for every sample of distinct values",
-				label, row.Undefined, row.FitFailures)
+				label, row.Count(measure.Undefined), row.Count(measure.FitFailures))
 		}
 		k, r := float64(n)*alpha, float64(n)*beta
 		d := exactDist{mean: alpha / beta, variance: k / (r * r), mu4: (6*k + 3*k*k) / (r * r * r * r)}
@@ -624,8 +624,8 @@ expr = "rho"
 		ts := rs * math.Sqrt(fn-2) / math.Sqrt(1-rs*rs)
 		T := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: fn - 2}
 		src := "t(n−2) CDF, gonum distuv.StudentsT"
-		exactCheckShare(t, label+" coverage", row.Coverage, row.Replicates, T.CDF(ts)-T.CDF(-ts), src)
-		exactCheckShare(t, label+" miss_below", row.MissBelow, row.Replicates, T.CDF(-ts), src)
-		exactCheckShare(t, label+" miss_above", row.MissAbove, row.Replicates, 1-T.CDF(ts), src)
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), T.CDF(ts)-T.CDF(-ts), src)
+		exactCheckShare(t, label+" miss_below", row.Get(measure.MissBelow), row.Count(measure.Replicates), T.CDF(-ts), src)
+		exactCheckShare(t, label+" miss_above", row.Get(measure.MissAbove), row.Count(measure.Replicates), 1-T.CDF(ts), src)
 	}
 }

@@ -1,0 +1,90 @@
+package measure
+
+import (
+	"math"
+
+	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
+)
+
+// A Measure is one number computed for each transform at each n. The
+// measures form one table, in the order of their declarations in
+// table.go; summary.csv writes those with a Group, in that order, between
+// the transform and n in front and the verdict at the end, and the page
+// and figures find them by group. Adding a measure is one declaration
+// there (and a test); nothing else lists the columns.
+type Measure struct {
+	Name  string // column name in summary.csv (contract for the listed ones)
+	Group Group  // the page table that shows it; Internal: not a column
+	Count bool   // a whole number, written without a decimal point
+	// Value computes the measure of one cell. It may read the measures
+	// declared before it from row, but no later ones.
+	Value func(c *Cell, row *Row) float64
+	index int
+}
+
+// Group is the page table a measure appears in.
+type Group int
+
+// The groups, in the order of the page's tables.
+const (
+	Internal  Group = iota // computed and kept, but no column of summary.csv
+	Estimate               // estimate and bias
+	Variance               // variance and its ratios
+	Intervals              // interval coverage and the shape of τ̂
+)
+
+// Cell is what one transform's measures at one n are computed from: the
+// saved tallies, the moments folded over blocks, and the prediction.
+type Cell struct {
+	Cell      *runner.Cell
+	Pred      study.Prediction
+	Moments   runner.Moments // of the defined estimates
+	PluginVar float64        // mean plug-in variance over the defined replicates
+	SDDelta   float64        // √delta_var
+}
+
+// defined says the cell has at least k defined estimates.
+func (c *Cell) defined(k int64) bool { return c.Moments.N >= k }
+
+// table holds every measure in declaration order.
+var table []*Measure
+
+func define(m Measure) *Measure {
+	m.index = len(table)
+	p := &m
+	table = append(table, p)
+	return p
+}
+
+// Measures returns every measure, in table order.
+func Measures() []*Measure { return table }
+
+var nan = math.NaN()
+
+// ifDefined returns x when the cell has at least k defined estimates, and
+// NaN (no value) otherwise.
+func ifDefined(c *Cell, k int64, x float64) float64 {
+	if !c.defined(k) {
+		return nan
+	}
+	return x
+}
+
+// share is k over all replicates, undefined ones included.
+func share(c *Cell, k int64) float64 {
+	if c.Cell.Replicates == 0 {
+		return nan
+	}
+	return float64(k) / float64(c.Cell.Replicates)
+}
+
+// centralM2 is the second central moment with divisor R, when the shape
+// measures exist (two defined estimates and some spread).
+func centralM2(c *Cell) (float64, bool) {
+	if !c.defined(2) {
+		return 0, false
+	}
+	m2 := c.Moments.M2 / float64(c.Moments.N)
+	return m2, m2 > 0
+}

@@ -1,0 +1,177 @@
+package measure
+
+import (
+	"math"
+
+	"deltaprobe/sim/study"
+)
+
+// This file is the table of measures and criteria: everything that
+// summary.csv, plan.csv, verdicts.csv, the page and the figures show is
+// declared here, once. Order matters and is kept by the language: Go
+// initialises package variables in declaration order, each after the
+// variables it depends on (The Go Programming Language Specification,
+// "Package initialization"). Every measure depends only on measures above
+// it and every criterion only on measures, so the tables list them in the
+// order written here; TestTableOrder holds them to the contract.
+
+// The measures. Monte Carlo standard errors follow Morris, White &
+// Crowther (2019, Statistics in Medicine 38:2074–2102).
+var (
+	Replicates = define(Measure{Name: "replicates", Group: Estimate, Count: true,
+		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.Replicates) }})
+	Undefined = define(Measure{Name: "undefined", Group: Estimate, Count: true,
+		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.Undefined) }})
+	Truth = define(Measure{Name: "truth", Group: Estimate,
+		Value: func(c *Cell, _ *Row) float64 { return c.Pred.Truth }})
+	Mean = define(Measure{Name: "mean", Group: Estimate,
+		Value: func(c *Cell, _ *Row) float64 { return ifDefined(c, 1, c.Moments.Mean) }})
+	Bias = define(Measure{Name: "bias", Group: Estimate,
+		Value: func(c *Cell, _ *Row) float64 { return ifDefined(c, 1, c.Moments.Mean-c.Pred.Truth) }})
+	// bias_mcse is sqrt(s²/R) (Morris et al. 2019, Table 6).
+	BiasMCSE = define(Measure{Name: "bias_mcse", Group: Estimate,
+		Value: func(c *Cell, _ *Row) float64 {
+			return ifDefined(c, 2, math.Sqrt(c.Moments.Var()/float64(c.Moments.N)))
+		}})
+	RelBias = define(Measure{Name: "rel_bias", Group: Estimate,
+		Value: func(c *Cell, r *Row) float64 {
+			if !c.defined(1) || c.Pred.Truth == 0 {
+				return nan
+			}
+			return r.Get(Bias) / c.Pred.Truth
+		}})
+	StdBias = define(Measure{Name: "std_bias", Group: Estimate,
+		Value: func(c *Cell, r *Row) float64 { return ifDefined(c, 1, r.Get(Bias)/c.SDDelta) }})
+	StdBiasMCSE = define(Measure{Name: "std_bias_mcse", Group: Internal,
+		Value: func(c *Cell, r *Row) float64 { return ifDefined(c, 2, r.Get(BiasMCSE)/c.SDDelta) }})
+	Bias2nd = define(Measure{Name: "bias_2nd", Group: Estimate,
+		Value: func(c *Cell, _ *Row) float64 { return c.Pred.Bias2nd }})
+	EmpVar = define(Measure{Name: "emp_var", Group: Variance,
+		Value: func(c *Cell, _ *Row) float64 { return ifDefined(c, 2, c.Moments.Var()) }})
+	// emp_var_mcse is the kurtosis-aware √Var(s²), Var(s²) =
+	// (μ4 − σ⁴(R−3)/(R−1))/R, which is 2σ⁴/(R−1) for normal data (Morris et
+	// al. 2019, Table 6's normal-theory form; general form e.g. Cho et al.
+	// 2005, from memory).
+	EmpVarMCSE = define(Measure{Name: "emp_var_mcse", Group: Variance,
+		Value: func(c *Cell, r *Row) float64 {
+			if !c.defined(2) {
+				return nan
+			}
+			rd, s2 := float64(c.Moments.N), r.Get(EmpVar)
+			m4 := c.Moments.M4 / rd
+			varS2 := (m4 - s2*s2*(rd-3)/(rd-1)) / rd
+			return math.Sqrt(math.Max(varS2, 0))
+		}})
+	DeltaVar = define(Measure{Name: "delta_var", Group: Variance,
+		Value: func(c *Cell, _ *Row) float64 { return c.Pred.DeltaVar }})
+	VarRatio = define(Measure{Name: "var_ratio", Group: Variance,
+		Value: func(c *Cell, r *Row) float64 { return ifDefined(c, 2, c.Pred.DeltaVar/r.Get(EmpVar)) }})
+	VarRatioMCSE = define(Measure{Name: "var_ratio_mcse", Group: Variance,
+		Value: func(c *Cell, r *Row) float64 {
+			return ifDefined(c, 2, r.Get(VarRatio)*r.Get(EmpVarMCSE)/r.Get(EmpVar))
+		}})
+	PluginVar = define(Measure{Name: "plugin_var", Group: Variance,
+		Value: func(c *Cell, _ *Row) float64 { return ifDefined(c, 1, c.PluginVar) }})
+	PluginRatio = define(Measure{Name: "plugin_ratio", Group: Variance,
+		Value: func(c *Cell, r *Row) float64 { return ifDefined(c, 2, c.PluginVar/r.Get(EmpVar)) }})
+	// coverage_mcse is sqrt(p(1 − p)/R) (Morris et al. 2019, Table 6).
+	Coverage = define(Measure{Name: "coverage", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 { return share(c, c.Cell.Covered) }})
+	CoverageMCSE = define(Measure{Name: "coverage_mcse", Group: Intervals,
+		Value: func(c *Cell, r *Row) float64 {
+			if c.Cell.Replicates == 0 {
+				return nan
+			}
+			p := r.Get(Coverage)
+			return math.Sqrt(p * (1 - p) / float64(c.Cell.Replicates))
+		}})
+	MissBelow = define(Measure{Name: "miss_below", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 { return share(c, c.Cell.MissBelow) }})
+	MissAbove = define(Measure{Name: "miss_above", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 { return share(c, c.Cell.MissAbove) }})
+	// robust_se is the interquartile range of τ̂ over that of N(0, 1),
+	// 2·Φ⁻¹(0.75) (common practice); it exists even when Var τ̂ does not.
+	RobustSE = define(Measure{Name: "robust_se", Group: Variance,
+		Value: func(c *Cell, _ *Row) float64 {
+			const iqrNormal = 2 * 0.6744897501960817
+			return (c.Cell.Delta.Quantile(0.75) - c.Cell.Delta.Quantile(0.25)) * c.SDDelta / iqrNormal
+		}})
+	Skewness = define(Measure{Name: "skewness", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 {
+			m2, ok := centralM2(c)
+			if !ok {
+				return nan
+			}
+			return (c.Moments.M3 / float64(c.Moments.N)) / math.Pow(m2, 1.5)
+		}})
+	ExKurtosis = define(Measure{Name: "ex_kurtosis", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 {
+			m2, ok := centralM2(c)
+			if !ok {
+				return nan
+			}
+			return (c.Moments.M4/float64(c.Moments.N))/(m2*m2) - 3
+		}})
+	// ks_pivot is the Kolmogorov–Smirnov distance of the Wald pivot
+	// (τ̂ − τ0)/se from N(0, 1), from its histogram.
+	KSPivot = define(Measure{Name: "ks_pivot", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 { return c.Cell.Wald.KSNormal() }})
+	FitFailures = define(Measure{Name: "fit_failures", Group: Internal, Count: true,
+		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.FitFailures) }})
+	ZeroSE = define(Measure{Name: "zero_se", Group: Internal, Count: true,
+		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.ZeroSE) }})
+)
+
+// The criteria.
+var (
+	// CoverageCheck: the Wald interval's coverage, its Monte Carlo
+	// interval the Wilson (1927) score interval.
+	CoverageCheck = defineCriterion(Criterion{
+		Name: "coverage", Title: "Coverage", Short: "cov.", Noun: "coverage",
+		Heading: "Coverage of the Wald interval", Axis: "coverage",
+		Ideal: func(level float64) float64 { return level }, Nominal: true, Measure: Coverage, MCSE: CoverageMCSE,
+		Band: func(c study.Criteria) [2]float64 { return c.Coverage },
+		Interval: func(c *Cell, _ *Row, z float64) (float64, float64) {
+			return wilson(float64(c.Cell.Covered), float64(c.Cell.Replicates), z)
+		},
+		Below:   "coverage is below its band: {value} ({interval}; {band})",
+		Above:   "coverage is above its band, the interval too wide: {value} ({interval}; {band})",
+		Unclear: "coverage is not clearly inside its band: {value} ({crosses})",
+	})
+	// VarianceCheck: delta_var / emp_var. delta_var at the truth is exact,
+	// so the interval is emp_var's normal interval, inverted.
+	VarianceCheck = defineCriterion(Criterion{
+		Name: "variance", Title: "Variance ratio", Short: "var.", Noun: "the variance ratio",
+		Heading: "Variance ratio, delta method / simulated", Axis: "variance ratio", Ratio: true,
+		Ideal: func(float64) float64 { return 1 }, Measure: VarRatio, MCSE: VarRatioMCSE,
+		Band: func(c study.Criteria) [2]float64 { return c.VarRatio },
+		Interval: func(c *Cell, r *Row, z float64) (float64, float64) {
+			ev, mcse := r.Get(EmpVar), r.Get(EmpVarMCSE)
+			if math.IsNaN(mcse) {
+				return nan, nan
+			}
+			lo, hi := c.Pred.DeltaVar/(ev+z*mcse), math.Inf(1)
+			if d := ev - z*mcse; d > 0 {
+				hi = c.Pred.DeltaVar / d
+			}
+			return lo, hi
+		},
+		Below:   "the delta-method variance is too small: {value} of the simulated variance ({interval}; {band})",
+		Above:   "the delta-method variance is too large: {value} times the simulated variance ({interval}; {band})",
+		Unclear: "the variance ratio is not clearly inside its band: {value} ({crosses})",
+	})
+	// BiasCheck: |bias| / √delta_var, its interval std_bias ± z·MCSE.
+	BiasCheck = defineCriterion(Criterion{
+		Name: "bias", Title: "Bias", Short: "bias", Noun: "the standardised bias",
+		Heading: "Bias, in delta-method standard deviations", Axis: "bias / delta sd",
+		Ideal: func(float64) float64 { return 0 }, Measure: StdBias, MCSE: StdBiasMCSE,
+		Band: func(c study.Criteria) [2]float64 { return [2]float64{-c.StdBias, c.StdBias} },
+		Interval: func(_ *Cell, r *Row, z float64) (float64, float64) {
+			sb, mcse := r.Get(StdBias), r.Get(StdBiasMCSE)
+			return sb - z*mcse, sb + z*mcse
+		},
+		Below:   "the bias is {value} delta-method sd, beyond ±{bound} ({interval})",
+		Above:   "the bias is {value} delta-method sd, beyond ±{bound} ({interval})",
+		Unclear: "the bias is not clearly within ±{bound} delta-method sd: {value} ({crosses})",
+	})
+)

@@ -1,0 +1,58 @@
+package measure
+
+import (
+	"fmt"
+	"strings"
+
+	"deltaprobe/sim/runner"
+)
+
+// Warnings lists what a reader must see beside the numbers.
+func Warnings(r *runner.Result, rows []Row) []string {
+	var w []string
+	if !r.Complete {
+		msg := "the run is incomplete: these numbers use only the blocks that finished"
+		if r.MissingNote != "" {
+			msg = "partial merge: these numbers use only the blocks present; " + r.MissingNote
+		}
+		w = append(w, msg)
+	}
+	// One line per transform and kind, listing the sample sizes.
+	type kind struct {
+		what  string
+		parts []string
+	}
+	for start := 0; start < len(rows); {
+		end := start
+		for end < len(rows) && rows[end].Transform == rows[start].Transform {
+			end++
+		}
+		kinds := []*kind{
+			{what: "undefined replicates (estimate or standard error not finite; counted as not covering, left out of the moments)"},
+			{what: "fits that did not converge (counted as undefined)"},
+			{what: "plug-in standard error of 0 (a degenerate interval)"},
+			{what: "heavy tails, excess kurtosis above 20 (the variance may not exist; its MCSE is then unreliable)"},
+		}
+		for _, row := range rows[start:end] {
+			if row.Count(Undefined) > 0 {
+				kinds[0].parts = append(kinds[0].parts, fmt.Sprintf("n=%d: %d of %d", row.N, row.Count(Undefined), row.Count(Replicates)))
+			}
+			if row.Count(FitFailures) > 0 {
+				kinds[1].parts = append(kinds[1].parts, fmt.Sprintf("n=%d: %d", row.N, row.Count(FitFailures)))
+			}
+			if row.Count(ZeroSE) > 0 {
+				kinds[2].parts = append(kinds[2].parts, fmt.Sprintf("n=%d: %d", row.N, row.Count(ZeroSE)))
+			}
+			if row.Get(ExKurtosis) > 20 {
+				kinds[3].parts = append(kinds[3].parts, fmt.Sprintf("n=%d: %.3g", row.N, row.Get(ExKurtosis)))
+			}
+		}
+		for _, k := range kinds {
+			if len(k.parts) > 0 {
+				w = append(w, fmt.Sprintf("%s: %s at %s", rows[start].Transform, k.what, strings.Join(k.parts, ", ")))
+			}
+		}
+		start = end
+	}
+	return w
+}
