@@ -22,13 +22,13 @@ const (
 
 // TransformVerdict is one line of verdicts.csv.
 type TransformVerdict struct {
-	Transform string
-	SmallestN int // 0 unless adequate
-	Status    Status
-	Limiting  string // the criterion that sets SmallestN, or fails at the largest n
+	Transform string `json:"transform"`
+	SmallestN int    `json:"smallest_n"` // 0 unless adequate
+	Status    Status `json:"status"`
+	Limiting  string `json:"limiting"` // the criterion that sets SmallestN, or fails at the largest n
 	// PerCriterion holds, by criterion in table order, the smallest
 	// adequate n of each criterion alone; 0 where there is none.
-	PerCriterion []int
+	PerCriterion []int `json:"per_criterion"`
 }
 
 // Verdicts decides, for every transform of a grid run, the smallest n of

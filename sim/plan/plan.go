@@ -4,7 +4,9 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"runtime"
 	"sort"
+	"time"
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
@@ -14,29 +16,39 @@ import (
 // Step is one evaluation of one transform at one n: the last look
 // taken there, and its verdict.
 type Step struct {
-	Transform  string
-	Step       int // evaluation order within the transform, from 1
-	N          int
-	Replicates int64
-	Looks      int         // looks taken at this n
-	Row        measure.Row // measures and checks at the last look
-	Budget     bool        // stopped because the budget ran out
+	Transform  string      `json:"transform"`
+	Step       int         `json:"step"` // evaluation order within the transform, from 1
+	N          int         `json:"n"`
+	Replicates int64       `json:"replicates"`
+	Looks      int         `json:"looks"`  // looks taken at this n
+	Row        measure.Row `json:"row"`    // measures and checks at the last look
+	Budget     bool        `json:"budget"` // stopped because the budget ran out
 }
 
-// Result is the outcome of a plan.
+// Result is the outcome of a plan, and all a report of it needs: it is
+// saved as plan.json beside the plan's outputs (see Save), and `deltaprobe
+// report` rebuilds them from it.
 type Result struct {
-	Steps    []Step
-	Verdicts []measure.TransformVerdict
+	Layout   int                        `json:"layout"` // of plan.json: Layout
+	Tool     string                     `json:"tool"`   // the deltaprobe version that ran it
+	Study    study.Info                 `json:"study"`
+	Spec     study.PlanSpec             `json:"spec"`   // the [plan] table as run
+	Budget   int64                      `json:"budget"` // the cap on replicates in all; 0: none
+	Steps    []Step                     `json:"steps"`
+	Verdicts []measure.TransformVerdict `json:"verdicts"`
 	// Per transform, in study order:
-	Window       []int         // integers above the answer that were checked
-	LargestFail  []int         // largest n found failing above any candidate; 0 if none
-	Oscillations [][]int       // failing n found above a candidate, in order
-	Undecided    [][]int       // unclear n above the answer
-	Spent        map[int]int64 // replicates simulated per n
-	Total        int64
-	Method       string // how the error was spent over looks
-	Z            float64
-	Exhausted    bool // the -budget cap was reached
+	Window       []int         `json:"window"`       // integers above the answer that were checked
+	LargestFail  []int         `json:"largest_fail"` // largest n found failing above any candidate; 0 if none
+	Oscillations [][]int       `json:"oscillations"` // failing n found above a candidate, in order
+	Undecided    [][]int       `json:"undecided"`    // unclear n above the answer
+	Spent        map[int]int64 `json:"spent"`        // replicates simulated per n
+	Total        int64         `json:"total"`
+	Method       string        `json:"method"` // how the error was spent over looks
+	Z            float64       `json:"z"`
+	Exhausted    bool          `json:"exhausted"` // the -budget cap was reached
+	Workers      int           `json:"workers"`
+	Elapsed      float64       `json:"elapsed_seconds"`
+	Finished     string        `json:"finished"` // RFC 3339 UTC
 }
 
 // planner searches, for each transform, the smallest n from which this n
@@ -74,10 +86,20 @@ func Run(ctx context.Context, s *study.Study, budget int64, opt runner.Options) 
 		cache: map[int]*runner.Result{}, evals: map[[2]int]Step{},
 		steps: make([]int, len(s.Transforms)),
 		out: &Result{
+			Layout: Layout, Tool: runner.Version, Study: s.Info(), Spec: spec, Budget: budget,
 			Spent: map[int]int64{}, Z: z,
 			Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
 		},
 	}
+	start := time.Now()
+	defer func() {
+		p.out.Workers = opt.Workers
+		if p.out.Workers <= 0 {
+			p.out.Workers = runtime.GOMAXPROCS(0)
+		}
+		p.out.Elapsed = time.Since(start).Seconds()
+		p.out.Finished = time.Now().UTC().Format(time.RFC3339)
+	}()
 	for t := range s.Transforms {
 		if err := p.search(t); err != nil {
 			return p.out, err
