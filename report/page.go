@@ -78,7 +78,13 @@ var summaryGroups = []struct {
 	{"Intervals and shape", []string{"transform", "n", "coverage", "coverage_mcse", "miss_below", "miss_above", "skewness", "ex_kurtosis", "ks_pivot", "verdict"}},
 }
 
-var pageTemplate = template.Must(template.Must(template.New("page").Parse(pageHTML)).Parse(pageParts))
+var pageTemplate = newPageTemplate(runPageParts)
+
+// newPageTemplate is pageLayout with the shared parts and a page's own.
+func newPageTemplate(ownParts string) *template.Template {
+	t := template.Must(template.New("page").Parse(pageLayout))
+	return template.Must(template.Must(t.Parse(pageParts)).Parse(ownParts))
+}
 
 // Page renders index.html for r, with figs (from Figures) as the images
 // it shows; they are referenced by file name, beside the page.

@@ -3,7 +3,6 @@ package report
 import (
 	"bytes"
 	"fmt"
-	"html/template"
 	"math"
 	"strconv"
 	"strings"
@@ -18,7 +17,6 @@ import (
 
 // planPageData is what the plan template shows.
 type planPageData struct {
-	Style       template.CSS
 	Title       string
 	Description string
 	Answers     []planAnswerLine
@@ -48,18 +46,7 @@ type planAnswerLine struct {
 	Why                string
 }
 
-// pageStyle is the run page's style sheet, taken from its template so the
-// two pages look alike and cannot drift apart.
-var pageStyle = func() template.CSS {
-	_, rest, ok := strings.Cut(pageHTML, "<style>\n")
-	css, _, ok2 := strings.Cut(rest, "</style>")
-	if !ok || !ok2 {
-		panic("report: the page template has no <style> element")
-	}
-	return template.CSS(css)
-}()
-
-var planPageTemplate = template.Must(template.Must(template.New("plan").Parse(planPageHTML)).Parse(pageParts))
+var planPageTemplate = newPageTemplate(planPageParts)
 
 // PlanPage renders index.html for the plan p of study s, with figs (from
 // PlanFigures) as the images it shows, referenced by file name beside
@@ -84,7 +71,6 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 	}
 	stems := SafeNames(names)
 	d := planPageData{
-		Style:       pageStyle,
 		Title:       s.Title,
 		Description: s.Description,
 		Method:      p.Method,

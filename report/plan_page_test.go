@@ -212,7 +212,11 @@ func TestPlanPageEscapes(t *testing.T) {
 	if !strings.Contains(text, "Plan &lt;and&gt; search &amp; co") {
 		t.Error("title not escaped as expected")
 	}
-	if len(pageStyle) < 1000 || !strings.Contains(text, string(pageStyle)) {
+	var css bytes.Buffer
+	if err := pageTemplate.ExecuteTemplate(&css, "style sheet", nil); err != nil {
+		t.Fatal(err)
+	}
+	if css.Len() < 1000 || !strings.Contains(text, css.String()) {
 		t.Error("the plan page does not carry the run page's style sheet unchanged")
 	}
 }
