@@ -142,7 +142,7 @@ func buildPage(r *sim.Result, figs []Figure) pageData {
 			Status:      statusText(v.Status),
 			StatusClass: string(v.Status),
 			Limiting:    dash(v.Limiting),
-			Why:         explain(trows, v, c),
+			Why:         explain(trows, v),
 		}
 		for k := range line.PerCriterion {
 			line.PerCriterion[k] = dash(formatN(v.PerCriterion[k]))

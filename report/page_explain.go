@@ -13,7 +13,7 @@ import (
 // adequate here, and why not before?" in a sentence or two built from the
 // rows: the n the verdict names, and what each criterion that held it
 // back showed at the n just below, with its Monte Carlo interval and band.
-func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
+func explain(rows []sim.Row, v sim.TransformVerdict) string {
 	if len(rows) == 0 {
 		return ""
 	}
@@ -31,7 +31,7 @@ func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
 			return fmt.Sprintf("Adequate from n = %d, the smallest n studied: coverage, variance and bias pass at every n of the grid. Smaller samples were not checked.", first.N)
 		}
 		prev := rows[idx-1]
-		s := fmt.Sprintf("Adequate from n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, strings.Join(problems(prev, crit), "; and "))
+		s := fmt.Sprintf("Adequate from n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, runVoice.shortfalls(prev))
 		var passedEarlier []string
 		for _, r := range rows[:idx-1] {
 			if r.Verdict == sim.Pass {
@@ -43,75 +43,123 @@ func explain(rows []sim.Row, v sim.TransformVerdict, crit sim.Criteria) string {
 		}
 		return s
 	case sim.NotReached:
-		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, strings.Join(problems(last, crit), "; and "))
+		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, runVoice.shortfalls(last))
 	case sim.StatusUnclear:
-		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, strings.Join(problems(last, crit), "; and "))
+		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, runVoice.shortfalls(last))
 	}
 	return ""
 }
 
-// problems describes every criterion that does not pass at row r.
-func problems(r sim.Row, crit sim.Criteria) []string {
+// checkVoice is how a page words what a check showed: what it calls the
+// interval, and for each criterion a sentence for each place the interval
+// can take against the band. The run's and the plan's pages describe
+// checks the same way, in their own words.
+type checkVoice struct {
+	interval string            // what the interval is called
+	criteria [3]checkSentences // coverage, variance, bias, as in sim.CriterionNames
+}
+
+// checkSentences say what one criterion showed. In each, {value} stands
+// for the criterion's value, {interval} for the interval and its ends,
+// {band} for the band and its edges, {bound} for the band's upper edge,
+// and {edges} for the edges of the band the interval crosses.
+type checkSentences struct {
+	missing  string // an end of the interval is not a number; "" places it as any other
+	below    string // failed, the interval wholly below the band
+	above    string // failed, the interval wholly above the band
+	across   string // the interval crosses {edges}
+	unplaced string // none of the above: the interval crosses no edge
+}
+
+// runVoice says what each criterion's failure means for the quantity
+// itself, of the Monte Carlo 95% intervals that the run's verdicts use.
+var runVoice = checkVoice{
+	interval: "Monte Carlo 95% interval",
+	criteria: [3]checkSentences{{
+		below:    "coverage is below its band: {value} ({interval}; {band})",
+		above:    "coverage is above its band, the interval too wide: {value} ({interval}; {band})",
+		across:   "coverage is not clearly inside its band: {value} ({interval} crosses the band's edge at {edges})",
+		unplaced: "coverage is not clearly inside its band: {value} ({interval}, {band})",
+	}, {
+		below:    "the delta-method variance is too small: {value} of the simulated variance ({interval}; {band})",
+		above:    "the delta-method variance is too large: {value} times the simulated variance ({interval}; {band})",
+		across:   "the variance ratio is not clearly inside its band: {value} ({interval} crosses the band's edge at {edges})",
+		unplaced: "the variance ratio is not clearly inside its band: {value} ({interval}, {band})",
+	}, {
+		below:    "the bias is {value} delta-method sd, beyond ±{bound} ({interval})",
+		above:    "the bias is {value} delta-method sd, beyond ±{bound} ({interval})",
+		across:   "the bias is not clearly within ±{bound} delta-method sd: {value} ({interval} crosses the band's edge at {edges})",
+		unplaced: "the bias is not clearly within ±{bound} delta-method sd: {value} ({interval}, {band})",
+	}},
+}
+
+// planVoice says every criterion alike, by its place against the band;
+// the plan's intervals are widened for repeated looks, so they are named
+// by no level.
+var planVoice = checkVoice{
+	interval: "interval",
+	criteria: [3]checkSentences{
+		placeSentences("coverage"), placeSentences("the variance ratio"), placeSentences("the standardised bias"),
+	},
+}
+
+// placeSentences say where subject's interval lies against its band.
+func placeSentences(subject string) checkSentences {
+	return checkSentences{
+		missing:  subject + " could not be estimated ({band})",
+		below:    subject + " is below its band: {value} ({interval}; {band})",
+		above:    subject + " is above its band: {value} ({interval}; {band})",
+		across:   subject + " is not clearly inside its band: {value} ({interval} crosses {edges})",
+		unplaced: subject + " is not clearly inside its band: {value} ({interval}; {band})",
+	}
+}
+
+// shortfalls describes every criterion that does not pass at row r, in
+// one clause each, joined by "; and ".
+func (v checkVoice) shortfalls(r sim.Row) string {
 	var out []string
 	for c, ch := range r.Checks {
-		if ch.Verdict == sim.Pass {
-			continue
+		if ch.Verdict != sim.Pass {
+			out = append(out, v.describe(c, r, ch))
 		}
-		out = append(out, describeCheck(c, r, ch))
 	}
 	if len(out) == 0 {
 		// Cannot happen for a row whose verdict is not pass; say so
 		// rather than print an empty clause.
 		out = append(out, "every criterion passes")
 	}
-	return out
+	return strings.Join(out, "; and ")
 }
 
-// describeCheck says what criterion c showed at row r: its value, where
-// its Monte Carlo interval lies against the band, and what that means.
-func describeCheck(c int, r sim.Row, ch sim.Check) string {
-	iv := fmt.Sprintf("Monte Carlo 95%% interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
-	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
-	below := ch.Verdict == sim.Fail && ch.High < ch.Band[0]
-	above := ch.Verdict == sim.Fail && ch.Low > ch.Band[1]
-	// An unclear check's interval crosses one edge of the band, or both.
+// describe says what criterion c showed at row r: its value, and where
+// its interval ch lies against its band.
+func (v checkVoice) describe(c int, r sim.Row, ch sim.Check) string {
+	s := v.criteria[c]
 	var edges []string
 	for _, e := range ch.Band {
 		if ch.Low < e && e < ch.High {
 			edges = append(edges, fmt3(e))
 		}
 	}
-	crosses := iv + " crosses the band's edge at " + strings.Join(edges, " and ")
-	if len(edges) == 0 {
-		crosses = iv + ", " + band // a NaN interval: say what is known
+	sentence := s.unplaced
+	switch {
+	case s.missing != "" && (math.IsNaN(ch.Low) || math.IsNaN(ch.High)):
+		sentence = s.missing
+	case ch.Verdict == sim.Fail && ch.High < ch.Band[0]:
+		sentence = s.below
+	case ch.Verdict == sim.Fail && ch.Low > ch.Band[1]:
+		sentence = s.above
+	case len(edges) > 0:
+		sentence = s.across
 	}
-	switch c {
-	case 0:
-		v := fmt3(r.Coverage)
-		switch {
-		case below:
-			return fmt.Sprintf("coverage is below its band: %s (%s; %s)", v, iv, band)
-		case above:
-			return fmt.Sprintf("coverage is above its band, the interval too wide: %s (%s; %s)", v, iv, band)
-		}
-		return fmt.Sprintf("coverage is not clearly inside its band: %s (%s)", v, crosses)
-	case 1:
-		v := fmt3(r.VarRatio)
-		switch {
-		case below:
-			return fmt.Sprintf("the delta-method variance is too small: %s of the simulated variance (%s; %s)", v, iv, band)
-		case above:
-			return fmt.Sprintf("the delta-method variance is too large: %s times the simulated variance (%s; %s)", v, iv, band)
-		}
-		return fmt.Sprintf("the variance ratio is not clearly inside its band: %s (%s)", v, crosses)
-	case 2:
-		v, bound := fmt3(r.StdBias), fmt3(ch.Band[1])
-		if below || above {
-			return fmt.Sprintf("the bias is %s delta-method sd, beyond ±%s (%s)", v, bound, iv)
-		}
-		return fmt.Sprintf("the bias is not clearly within ±%s delta-method sd: %s (%s)", bound, v, crosses)
-	}
-	return sim.CriterionNames[c] + " does not pass"
+	value := [...]float64{r.Coverage, r.VarRatio, r.StdBias}[c]
+	return strings.NewReplacer(
+		"{value}", fmt3(value),
+		"{interval}", fmt.Sprintf("%s %s to %s", v.interval, fmt3(ch.Low), fmt3(ch.High)),
+		"{band}", fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1])),
+		"{bound}", fmt3(ch.Band[1]),
+		"{edges}", strings.Join(edges, " and "),
+	).Replace(sentence)
 }
 
 // fmt3 writes x to three decimals, as the page's sentences quote values.

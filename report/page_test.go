@@ -298,7 +298,6 @@ var (
 )
 
 func TestExplain(t *testing.T) {
-	crit := sim.Criteria{Coverage: covBand, VarRatio: varBand, StdBias: 0.1}
 	tests := []struct {
 		name string
 		rows []sim.Row
@@ -344,7 +343,7 @@ func TestExplain(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got := explain(tc.rows, tc.v, crit)
+			got := explain(tc.rows, tc.v)
 			for _, w := range tc.want {
 				if !strings.Contains(got, w) {
 					t.Errorf("explain = %q\nwant it to contain %q", got, w)

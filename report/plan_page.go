@@ -3,7 +3,6 @@ package report
 import (
 	"bytes"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 
@@ -217,7 +216,7 @@ func planExplain(v planView, spec sim.PlanSpec) string {
 		case !ok:
 			b.WriteString(" It is the smallest n searched; smaller n were not checked.")
 		case prev.Row.Verdict != sim.Pass:
-			fmt.Fprintf(&b, " Not at n = %d, the largest n below it checked: %s.", prev.N, strings.Join(planProblems(prev.Row), "; and "))
+			fmt.Fprintf(&b, " Not at n = %d, the largest n below it checked: %s.", prev.N, planVoice.shortfalls(prev.Row))
 		default:
 			fmt.Fprintf(&b, " n = %d passes too, but a larger n failed, so adequacy could not start there.", prev.N)
 		}
@@ -231,55 +230,14 @@ func planExplain(v planView, spec sim.PlanSpec) string {
 	case sim.NotReached:
 		fmt.Fprintf(&b, "Not adequate at any n checked, up to %d.", spec.NMax)
 		if last, ok := v.stepAt(v.largestN); ok {
-			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
+			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, planVoice.shortfalls(last.Row))
 		}
 	default:
 		b.WriteString("Undecided.")
 		if last, ok := v.stepAt(v.largestN); ok {
-			fmt.Fprintf(&b, " At n = %d, the largest checked, no criterion fails, but %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
+			fmt.Fprintf(&b, " At n = %d, the largest checked, no criterion fails, but %s.", last.N, planVoice.shortfalls(last.Row))
 		}
 		fmt.Fprintf(&b, " %d replicates per n could not settle it.", spec.MaxReplicates)
 	}
 	return b.String()
-}
-
-// planProblems describes every criterion that does not pass at row r.
-func planProblems(r sim.Row) []string {
-	var out []string
-	for c, ch := range r.Checks {
-		if ch.Verdict != sim.Pass {
-			out = append(out, describePlanCheck(c, r, ch))
-		}
-	}
-	if len(out) == 0 {
-		out = append(out, "every criterion passes")
-	}
-	return out
-}
-
-// describePlanCheck says where criterion c's interval lay against its
-// band at row r. The interval is the plan's, widened for repeated looks.
-func describePlanCheck(c int, r sim.Row, ch sim.Check) string {
-	what := [...]string{"coverage", "the variance ratio", "the standardised bias"}[c]
-	value := fmt3([...]float64{r.Coverage, r.VarRatio, r.StdBias}[c])
-	iv := fmt.Sprintf("interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
-	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
-	switch {
-	case math.IsNaN(ch.Low) || math.IsNaN(ch.High):
-		return fmt.Sprintf("%s could not be estimated (%s)", what, band)
-	case ch.Verdict == sim.Fail && ch.High < ch.Band[0]:
-		return fmt.Sprintf("%s is below its band: %s (%s; %s)", what, value, iv, band)
-	case ch.Verdict == sim.Fail && ch.Low > ch.Band[1]:
-		return fmt.Sprintf("%s is above its band: %s (%s; %s)", what, value, iv, band)
-	}
-	var edges []string
-	for _, e := range ch.Band {
-		if ch.Low < e && e < ch.High {
-			edges = append(edges, fmt3(e))
-		}
-	}
-	if len(edges) == 0 {
-		return fmt.Sprintf("%s is not clearly inside its band: %s (%s; %s)", what, value, iv, band)
-	}
-	return fmt.Sprintf("%s is not clearly inside its band: %s (%s crosses %s)", what, value, iv, strings.Join(edges, " and "))
 }
