@@ -1,7 +1,6 @@
 package report
 
 import (
-	"bytes"
 	"fmt"
 	"strconv"
 	"strings"
@@ -14,35 +13,23 @@ import (
 // there. It is built like the run's page: one static file beside its
 // figures, no scripts, nothing fetched, well-formed XML as well as HTML.
 
-// planPageData is what the plan template shows.
+// planPageData is what the plan's page shows.
 type planPageData struct {
-	Title       string
-	Description string
-	Answers     []planAnswerLine
-	Method      string
-	Criteria    []string
-	Glance      []keyValue
-	Notes       []string
-	Sections    []transformSection
-	Steps       summaryTable
-	Source      string
-	SourceName  string
-	Provenance  []keyValue
+	studyPage
+	Answers []planAnswerLine
+	Method  string
+	Notes   []string
+	Steps   summaryTable
 }
 
-// planAnswerLine is one row of the answer table and its sentence.
+// planAnswerLine is a transform's row of the answer table.
 type planAnswerLine struct {
-	Name, Expr, Anchor string
-	Smallest           string
-	Status             string
-	StatusClass        string
-	Limiting           string
-	Checked            int
-	Replicates         int64
-	Window             string
-	Oscillations       string
-	Undecided          string
-	Why                string
+	answerLine
+	Checked      int
+	Replicates   int64
+	Window       string
+	Oscillations string
+	Undecided    string
 }
 
 var planPageTemplate = newPageTemplate(planPageParts)
@@ -51,12 +38,7 @@ var planPageTemplate = newPageTemplate(planPageParts)
 // PlanFigures) as the images it shows, referenced by file name beside
 // the page.
 func PlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) ([]byte, error) {
-	d := buildPlanPage(s, p, figs)
-	var buf bytes.Buffer
-	if err := planPageTemplate.Execute(&buf, d); err != nil {
-		return nil, fmt.Errorf("rendering %s: %w", PageFile, err)
-	}
-	return buf.Bytes(), nil
+	return renderPage(planPageTemplate, buildPlanPage(s, p, figs))
 }
 
 func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData {
@@ -64,58 +46,51 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 	if s.Plan != nil {
 		spec = *s.Plan
 	}
-	names := make([]string, len(s.Transforms))
-	for i, t := range s.Transforms {
-		names[i] = t.Name
-	}
-	stems := SafeNames(names)
-	d := planPageData{
-		Title:       s.Title,
-		Description: s.Description,
-		Method:      p.Method,
-		Source:      string(s.Source),
-		SourceName:  s.File,
-	}
-	if d.Title == "" {
-		d.Title = s.File
-	}
-	arms := make([]sim.ArmInfo, len(s.Arms))
-	for i, a := range s.Arms {
-		arms[i] = sim.ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
-	}
+	st := s.Info()
 	window := "10% of the answer, at least 3 and at most 25 integers"
 	if spec.Window > 0 {
 		window = fmt.Sprintf("%d integers", spec.Window)
 	}
-	d.Glance = []keyValue{
-		{"Model", describeModel(arms)},
+	glance := []keyValue{
 		{"Search range", fmt.Sprintf("n from %d to %d", spec.NMin, spec.NMax)},
 		{"Replicates", fmt.Sprintf("at most %d per n, added in batches of %d until the verdict is decided", spec.MaxReplicates, spec.Batch)},
 		{"Decisions", fmt.Sprintf("each at confidence %s; %s", fmtG(spec.Confidence), p.Method)},
 		{"Window", "above each answer, " + window + " are also checked"},
-		{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(s.Level))},
 	}
-	c := s.Criteria
+	exhausted := "no"
+	if p.Exhausted {
+		exhausted = "yes: decisions marked unclear could not be made within it"
+	}
+	provenance := []keyValue{
+		{"Search range", fmt.Sprintf("%d to %d", spec.NMin, spec.NMax)},
+		{"Replicates per n", fmt.Sprintf("at most %d, in batches of %d", spec.MaxReplicates, spec.Batch)},
+		{"Interval quantile per look", fmt.Sprintf("z = %.3f", p.Z)},
+		{"Block size", strconv.Itoa(sim.BlockSize)},
+		{"Replicates simulated in all", strconv.FormatInt(p.Total, 10)},
+		{"Budget cap reached", exhausted},
+	}
+	d := planPageData{
+		studyPage: newStudyPage(st, sim.Version, glance, provenance),
+		Method:    p.Method,
+		Steps:     planStepsTable(p),
+	}
+	c := st.Criteria
 	z := fmt3(p.Z)
 	d.Criteria = []string{
 		fmt.Sprintf("Coverage: its Wilson interval, at z = %s, lies inside %s–%s.", z, fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
 		fmt.Sprintf("Variance: the Monte Carlo interval of delta_var / emp_var, at z = %s, lies inside %s–%s.", z, fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
 		fmt.Sprintf("Bias: bias / delta-method sd ± %s Monte Carlo standard errors lies inside ±%s.", z, fmtG(c.StdBias)),
 	}
-	for t, info := range s.Transforms {
+	stems := transformStems(st.Transforms)
+	for t, info := range st.Transforms {
 		v := newPlanView(s, p, t)
 		line := planAnswerLine{
-			Name: info.Name, Expr: info.Expr, Anchor: "t-" + stems[t],
-			Smallest:     dash(formatN(v.verdict.SmallestN)),
-			Status:       statusText(v.verdict.Status),
-			StatusClass:  string(v.verdict.Status),
-			Limiting:     dash(v.verdict.Limiting),
+			answerLine:   newAnswerLine(info, stems[t], v.verdict, planExplain(v, spec)),
 			Checked:      len(v.steps),
 			Replicates:   v.replicates,
 			Window:       dash(""),
 			Oscillations: "none",
 			Undecided:    "none",
-			Why:          planExplain(v, spec),
 		}
 		if v.windowTop > 0 {
 			line.Window = fmt.Sprintf("+%d (%d–%d)", v.window, v.verdict.SmallestN+1, v.windowTop)
@@ -132,33 +107,10 @@ func buildPlanPage(s *sim.Study, p *sim.PlanResult, figs []Figure) planPageData 
 			d.Notes = append(d.Notes, fmt.Sprintf("%s: %d n above the answer stayed undecided within %d replicates (they neither passed nor failed).", info.Name, len(v.undecided), spec.MaxReplicates))
 		}
 		d.Answers = append(d.Answers, line)
-		sec := transformSection{Name: info.Name, Expr: info.Expr, Anchor: line.Anchor}
-		for _, f := range figs {
-			if f.Transform == t {
-				sec.Figures = append(sec.Figures, figureRef{File: f.File, Alt: f.Alt, Caption: planCaption(v), Width: f.Width, Height: f.Height})
-			}
-		}
-		d.Sections = append(d.Sections, sec)
+		d.addSection(line.answerLine, t, figs, func(Figure) string { return planCaption(v) })
 	}
 	if p.Exhausted {
 		d.Notes = append(d.Notes, "The -budget cap on the replicates of the whole plan was reached: decisions marked unclear could not be made within it.")
-	}
-	d.Steps = planStepsTable(p)
-	exhausted := "no"
-	if p.Exhausted {
-		exhausted = "yes: decisions marked unclear could not be made within it"
-	}
-	d.Provenance = []keyValue{
-		{"Tool", "deltaprobe " + sim.Version},
-		{"Study file", s.File},
-		{"Study file SHA-256", s.SHA256},
-		{"Seed", strconv.FormatUint(s.Seed, 10)},
-		{"Search range", fmt.Sprintf("%d to %d", spec.NMin, spec.NMax)},
-		{"Replicates per n", fmt.Sprintf("at most %d, in batches of %d", spec.MaxReplicates, spec.Batch)},
-		{"Interval quantile per look", fmt.Sprintf("z = %.3f", p.Z)},
-		{"Block size", strconv.Itoa(sim.BlockSize)},
-		{"Replicates simulated in all", strconv.FormatInt(p.Total, 10)},
-		{"Budget cap reached", exhausted},
 	}
 	return d
 }
