@@ -127,13 +127,9 @@ func newPanel() *plot.Plot {
 func Figures(r *runner.Result) ([]Figure, error) {
 	rows := measure.Summarize(r)
 	verdicts := measure.Verdicts(rows)
-	names := make([]string, len(r.Study.Transforms))
-	for i, t := range r.Study.Transforms {
-		names[i] = t.Name
-	}
-	stems := SafeNames(names)
-	figs := make([]Figure, 0, 2*len(names))
-	for t := range names {
+	stems := transformStems(r.Study.Transforms)
+	figs := make([]Figure, 0, 2*len(stems))
+	for t := range stems {
 		figs = append(figs,
 			Figure{File: stems[t] + "-" + KindTrends + ".png", Transform: t, Kind: KindTrends},
 			Figure{File: stems[t] + "-" + KindShapes + ".png", Transform: t, Kind: KindShapes})
@@ -164,6 +160,16 @@ func Figures(r *runner.Result) ([]Figure, error) {
 		return nil, err
 	}
 	return figs, nil
+}
+
+// transformStems are the file-name stems of the transforms, from
+// SafeNames.
+func transformStems(ts []study.TransformInfo) []string {
+	names := make([]string, len(ts))
+	for i, t := range ts {
+		names[i] = t.Name
+	}
+	return SafeNames(names)
 }
 
 // SafeNames turns transform names into file-name stems that every common

@@ -21,33 +21,49 @@ const PageFile = "index.html"
 // or fonts from elsewhere, nothing fetched. Its markup is well-formed XML
 // as well as HTML, so a plain XML parser can check it.
 
-type pageData struct {
+// studyPage is what the run's page and the plan's show of their study
+// alike: its title and description, the study at a glance, the bands, a
+// section of figures per transform, the study file as run and the
+// provenance.
+type studyPage struct {
 	Title       string
 	Description string
 	Glance      []keyValue
 	Criteria    []string
+	Sections    []transformSection
+	Source      string
+	SourceName  string
+	Provenance  []keyValue
+}
+
+// pageData is what the run's page shows.
+type pageData struct {
+	studyPage
 	// CriterionNames head the verdict table's per-criterion columns.
 	CriterionNames []string
 	Verdicts       []verdictLine
 	Warnings       []string
-	Sections       []transformSection
 	Tables         []summaryTable
-	Source         string
-	SourceName     string
-	Provenance     []keyValue
 	Incomplete     bool
 }
 
 type keyValue struct{ Key, Value string }
 
-type verdictLine struct {
+// answerLine is a transform's row of a page's first table, and the
+// sentence under the table that explains it.
+type answerLine struct {
 	Name, Expr, Anchor string
 	Smallest           string
 	Status             string
 	StatusClass        string
 	Limiting           string
-	PerCriterion       []string
 	Why                string
+}
+
+// verdictLine is a transform's row of the run page's verdict table.
+type verdictLine struct {
+	answerLine
+	PerCriterion []string // by criterion, in table order
 }
 
 type transformSection struct {
@@ -99,88 +115,88 @@ func groupColumns(g measure.Group, verdict bool) []string {
 	return cols
 }
 
-var pageTemplate = template.Must(template.Must(template.New("page").Parse(pageHTML)).Parse(pageParts))
+var pageTemplate = newPageTemplate(runPageParts)
+
+// newPageTemplate is pageLayout with the shared parts and a page's own.
+func newPageTemplate(ownParts string) *template.Template {
+	t := template.Must(template.New("page").Parse(pageLayout))
+	return template.Must(template.Must(t.Parse(pageParts)).Parse(ownParts))
+}
 
 // Page renders index.html for r, with figs (from Figures) as the images
 // it shows; they are referenced by file name, beside the page.
 func Page(r *runner.Result, figs []Figure) ([]byte, error) {
-	d := buildPage(r, figs)
+	return renderPage(pageTemplate, buildPage(r, figs))
+}
+
+// renderPage executes a page's template on its data.
+func renderPage(t *template.Template, data any) ([]byte, error) {
 	var buf bytes.Buffer
-	if err := pageTemplate.Execute(&buf, d); err != nil {
+	if err := t.Execute(&buf, data); err != nil {
 		return nil, fmt.Errorf("rendering %s: %w", PageFile, err)
 	}
 	return buf.Bytes(), nil
+}
+
+// newStudyPage fills in what comes from the study alone. The study at a
+// glance is its model, then glance, then its intervals; the provenance
+// is the tool, the study file and its digest and the seed, then
+// provenance.
+func newStudyPage(st study.Info, tool string, glance, provenance []keyValue) studyPage {
+	p := studyPage{
+		Title:       st.Title,
+		Description: st.Description,
+		Source:      st.Source,
+		SourceName:  st.File,
+	}
+	if p.Title == "" {
+		p.Title = st.File
+	}
+	p.Glance = append([]keyValue{{"Model", describeModel(st.Arms)}}, glance...)
+	p.Glance = append(p.Glance, keyValue{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(st.Level))})
+	p.Provenance = append([]keyValue{
+		{"Tool", "deltaprobe " + tool},
+		{"Study file", st.File},
+		{"Study file SHA-256", st.SHA256},
+		{"Seed", strconv.FormatUint(st.Seed, 10)},
+	}, provenance...)
+	return p
+}
+
+// newAnswerLine is transform info's answer v, explained by why; stem is
+// the transform's file-name stem, which its anchor on the page shares.
+func newAnswerLine(info study.TransformInfo, stem string, v measure.TransformVerdict, why string) answerLine {
+	return answerLine{
+		Name: info.Name, Expr: info.Expr, Anchor: "t-" + stem,
+		Smallest:    dash(formatN(v.SmallestN)),
+		Status:      statusText(v.Status),
+		StatusClass: string(v.Status),
+		Limiting:    dash(v.Limiting),
+		Why:         why,
+	}
+}
+
+// addSection adds the section of the transform that line answers for,
+// index t, with those of figs that show it, each under caption(f).
+func (p *studyPage) addSection(line answerLine, t int, figs []Figure, caption func(Figure) string) {
+	sec := transformSection{Name: line.Name, Expr: line.Expr, Anchor: line.Anchor}
+	for _, f := range figs {
+		if f.Transform == t {
+			sec.Figures = append(sec.Figures, figureRef{File: f.File, Alt: f.Alt, Caption: caption(f), Width: f.Width, Height: f.Height})
+		}
+	}
+	p.Sections = append(p.Sections, sec)
 }
 
 func buildPage(r *runner.Result, figs []Figure) pageData {
 	rows := measure.Summarize(r)
 	vs := measure.Verdicts(rows)
 	st := r.Study
-	names := make([]string, len(st.Transforms))
-	for i, t := range st.Transforms {
-		names[i] = t.Name
-	}
-	stems := SafeNames(names)
-	d := pageData{
-		Title:       st.Title,
-		Description: st.Description,
-		Warnings:    measure.Warnings(r, rows),
-		Source:      st.Source,
-		SourceName:  st.File,
-		Incomplete:  !r.Complete,
-	}
-	if d.Title == "" {
-		d.Title = st.File
-	}
-	for _, c := range measure.Criteria() {
-		d.CriterionNames = append(d.CriterionNames, c.Name)
-	}
-	d.Glance = []keyValue{
-		{"Model", describeModel(st.Arms)},
+	glance := []keyValue{
 		{"Sample sizes", joinInts(st.SampleSizes)},
 		{"Replicates", fmt.Sprintf("%d per sample size", st.Replicates)},
-		{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(st.Level))},
 	}
-	c := st.Criteria
-	d.Criteria = []string{
-		fmt.Sprintf("Coverage: its Wilson 95%% interval lies inside %s–%s.", fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
-		fmt.Sprintf("Variance: the Monte Carlo 95%% interval of delta_var / emp_var lies inside %s–%s.", fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
-		fmt.Sprintf("Bias: the Monte Carlo 95%% interval of bias / delta-method sd lies inside ±%s.", fmtG(c.StdBias)),
-	}
-	nn := len(st.SampleSizes)
-	for t, info := range st.Transforms {
-		var v measure.TransformVerdict
-		if t < len(vs) {
-			v = vs[t]
-		}
-		trows := rows[t*nn : (t+1)*nn]
-		line := verdictLine{
-			Name: info.Name, Expr: info.Expr, Anchor: "t-" + stems[t],
-			Smallest:    dash(formatN(v.SmallestN)),
-			Status:      statusText(v.Status),
-			StatusClass: string(v.Status),
-			Limiting:    dash(v.Limiting),
-			Why:         explain(trows, v, c),
-		}
-		for _, n := range v.PerCriterion {
-			line.PerCriterion = append(line.PerCriterion, dash(formatN(n)))
-		}
-		d.Verdicts = append(d.Verdicts, line)
-		sec := transformSection{Name: info.Name, Expr: info.Expr, Anchor: line.Anchor}
-		for _, f := range figs {
-			if f.Transform != t {
-				continue
-			}
-			sec.Figures = append(sec.Figures, figureRef{File: f.File, Alt: f.Alt, Caption: figureCaption(f.Kind), Width: f.Width, Height: f.Height})
-		}
-		d.Sections = append(d.Sections, sec)
-	}
-	d.Tables = summaryTables(rows)
-	d.Provenance = []keyValue{
-		{"Tool", "deltaprobe " + r.Tool},
-		{"Study file", st.File},
-		{"Study file SHA-256", st.SHA256},
-		{"Seed", strconv.FormatUint(st.Seed, 10)},
+	provenance := []keyValue{
 		{"Replicates per sample size", strconv.Itoa(st.Replicates)},
 		{"Block size", strconv.Itoa(r.BlockSize)},
 		{"Workers", strconv.Itoa(r.Workers)},
@@ -188,6 +204,36 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		{"Last block finished", dashIfEmpty(r.Finished)},
 		{"Run complete", yesNo(r.Complete)},
 		{"Result layout", strconv.Itoa(r.Layout)},
+	}
+	d := pageData{
+		studyPage:  newStudyPage(st, r.Tool, glance, provenance),
+		Warnings:   measure.Warnings(r, rows),
+		Tables:     summaryTables(rows),
+		Incomplete: !r.Complete,
+	}
+	for _, c := range measure.Criteria() {
+		d.CriterionNames = append(d.CriterionNames, c.Name)
+	}
+	c := st.Criteria
+	d.Criteria = []string{
+		fmt.Sprintf("Coverage: its Wilson 95%% interval lies inside %s–%s.", fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
+		fmt.Sprintf("Variance: the Monte Carlo 95%% interval of delta_var / emp_var lies inside %s–%s.", fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
+		fmt.Sprintf("Bias: the Monte Carlo 95%% interval of bias / delta-method sd lies inside ±%s.", fmtG(c.StdBias)),
+	}
+	stems := transformStems(st.Transforms)
+	nn := len(st.SampleSizes)
+	for t, info := range st.Transforms {
+		var v measure.TransformVerdict
+		if t < len(vs) {
+			v = vs[t]
+		}
+		trows := rows[t*nn : (t+1)*nn]
+		line := verdictLine{answerLine: newAnswerLine(info, stems[t], v, explain(trows, v))}
+		for _, n := range v.PerCriterion {
+			line.PerCriterion = append(line.PerCriterion, dash(formatN(n)))
+		}
+		d.Verdicts = append(d.Verdicts, line)
+		d.addSection(line.answerLine, t, figs, func(f Figure) string { return figureCaption(f.Kind) })
 	}
 	return d
 }

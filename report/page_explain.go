@@ -7,14 +7,13 @@ import (
 	"strings"
 
 	"deltaprobe/sim/measure"
-	"deltaprobe/sim/study"
 )
 
 // explain answers, for one transform, "from what n is the delta method
 // adequate here, and why not before?" in a sentence or two built from the
 // rows: the n the verdict names, and what each criterion that held it
 // back showed at the n just below, with its Monte Carlo interval and band.
-func explain(rows []measure.Row, v measure.TransformVerdict, crit study.Criteria) string {
+func explain(rows []measure.Row, v measure.TransformVerdict) string {
 	if len(rows) == 0 {
 		return ""
 	}
@@ -29,10 +28,10 @@ func explain(rows []measure.Row, v measure.TransformVerdict, crit study.Criteria
 			}
 		}
 		if idx <= 0 {
-			return fmt.Sprintf("Adequate from n = %d, the smallest n studied: coverage, variance and bias pass at every n of the grid. Smaller samples were not checked.", first.N)
+			return fmt.Sprintf("Adequate from n = %d, the smallest n studied: %s pass at every n of the grid. Smaller samples were not checked.", first.N, criteriaInWords())
 		}
 		prev := rows[idx-1]
-		s := fmt.Sprintf("Adequate from n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, strings.Join(problems(prev, crit), "; and "))
+		s := fmt.Sprintf("Adequate from n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, runVoice.shortfalls(prev))
 		var passedEarlier []string
 		for _, r := range rows[:idx-1] {
 			if r.Verdict == measure.Pass {
@@ -44,19 +43,75 @@ func explain(rows []measure.Row, v measure.TransformVerdict, crit study.Criteria
 		}
 		return s
 	case measure.NotReached:
-		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, strings.Join(problems(last, crit), "; and "))
+		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, runVoice.shortfalls(last))
 	case measure.StatusUnclear:
-		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, strings.Join(problems(last, crit), "; and "))
+		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, runVoice.shortfalls(last))
 	}
 	return ""
 }
 
-// problems describes every criterion that does not pass at row r.
-func problems(r measure.Row, crit study.Criteria) []string {
+// checkVoice is how a page words what a check showed: what it calls the
+// interval, and for each criterion a sentence for each place the interval
+// can take against the band. The run's and the plan's pages describe
+// checks the same way, in their own words.
+type checkVoice struct {
+	interval  string // what the interval is called
+	sentences func(cr *measure.Criterion) checkSentences
+}
+
+// checkSentences say what one criterion showed. In each, {value} stands
+// for the criterion's value, {interval} for the interval and its ends,
+// {band} for the band and its edges, {bound} for the band's upper edge,
+// and {edges} for the edges of the band the interval crosses.
+type checkSentences struct {
+	missing  string // an end of the interval is not a number; "" places it as any other
+	below    string // failed, the interval wholly below the band
+	above    string // failed, the interval wholly above the band
+	across   string // the interval crosses {edges}
+	unplaced string // none of the above: the interval crosses no edge
+}
+
+// runVoice says what each criterion's failure means for the quantity
+// itself, in the criterion's own words (measure's table), of the Monte
+// Carlo 95% intervals that the run's verdicts use.
+var runVoice = checkVoice{
+	interval: "Monte Carlo 95% interval",
+	sentences: func(cr *measure.Criterion) checkSentences {
+		return checkSentences{
+			below:    cr.Below,
+			above:    cr.Above,
+			across:   strings.Replace(cr.Unclear, "{crosses}", "{interval} crosses the band's edge at {edges}", 1),
+			unplaced: strings.Replace(cr.Unclear, "{crosses}", "{interval}, {band}", 1),
+		}
+	},
+}
+
+// planVoice says every criterion alike, by its place against the band;
+// the plan's intervals are widened for repeated looks, so they are named
+// by no level.
+var planVoice = checkVoice{
+	interval:  "interval",
+	sentences: func(cr *measure.Criterion) checkSentences { return placeSentences(cr.Noun) },
+}
+
+// placeSentences say where subject's interval lies against its band.
+func placeSentences(subject string) checkSentences {
+	return checkSentences{
+		missing:  subject + " could not be estimated ({band})",
+		below:    subject + " is below its band: {value} ({interval}; {band})",
+		above:    subject + " is above its band: {value} ({interval}; {band})",
+		across:   subject + " is not clearly inside its band: {value} ({interval} crosses {edges})",
+		unplaced: subject + " is not clearly inside its band: {value} ({interval}; {band})",
+	}
+}
+
+// shortfalls describes every criterion that does not pass at row r, in
+// one clause each, joined by "; and ".
+func (v checkVoice) shortfalls(r measure.Row) string {
 	var out []string
 	for _, cr := range measure.Criteria() {
 		if ch := r.Check(cr); ch.Verdict != measure.Pass {
-			out = append(out, describeCheck(cr, r, ch))
+			out = append(out, v.describe(cr, r, ch))
 		}
 	}
 	if len(out) == 0 {
@@ -64,37 +119,50 @@ func problems(r measure.Row, crit study.Criteria) []string {
 		// rather than print an empty clause.
 		out = append(out, "every criterion passes")
 	}
-	return out
+	return strings.Join(out, "; and ")
 }
 
-// describeCheck says what criterion cr showed at row r: its value, where
-// its Monte Carlo interval lies against the band, and what that means, in
-// the criterion's own words.
-func describeCheck(cr *measure.Criterion, r measure.Row, ch measure.Check) string {
-	iv := fmt.Sprintf("Monte Carlo 95%% interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
-	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
-	// An unclear check's interval crosses one edge of the band, or both.
+// describe says what criterion cr showed at row r: its value, and where
+// its interval ch lies against its band.
+func (v checkVoice) describe(cr *measure.Criterion, r measure.Row, ch measure.Check) string {
+	s := v.sentences(cr)
 	var edges []string
 	for _, e := range ch.Band {
 		if ch.Low < e && e < ch.High {
 			edges = append(edges, fmt3(e))
 		}
 	}
-	crosses := iv + " crosses the band's edge at " + strings.Join(edges, " and ")
-	if len(edges) == 0 {
-		crosses = iv + ", " + band // a NaN interval: say what is known
-	}
-	words := cr.Unclear
+	sentence := s.unplaced
 	switch {
+	case s.missing != "" && (math.IsNaN(ch.Low) || math.IsNaN(ch.High)):
+		sentence = s.missing
 	case ch.Verdict == measure.Fail && ch.High < ch.Band[0]:
-		words = cr.Below
+		sentence = s.below
 	case ch.Verdict == measure.Fail && ch.Low > ch.Band[1]:
-		words = cr.Above
+		sentence = s.above
+	case len(edges) > 0:
+		sentence = s.across
 	}
 	return strings.NewReplacer(
-		"{value}", fmt3(r.Get(cr.Measure)), "{interval}", iv, "{band}", band,
-		"{bound}", fmt3(ch.Band[1]), "{crosses}", crosses,
-	).Replace(words)
+		"{value}", fmt3(r.Get(cr.Measure)),
+		"{interval}", fmt.Sprintf("%s %s to %s", v.interval, fmt3(ch.Low), fmt3(ch.High)),
+		"{band}", fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1])),
+		"{bound}", fmt3(ch.Band[1]),
+		"{edges}", strings.Join(edges, " and "),
+	).Replace(sentence)
+}
+
+// criteriaInWords lists the criteria's names as a sentence does:
+// "coverage, variance and bias".
+func criteriaInWords() string {
+	var names []string
+	for _, c := range measure.Criteria() {
+		names = append(names, c.Name)
+	}
+	if len(names) < 2 {
+		return strings.Join(names, "")
+	}
+	return strings.Join(names[:len(names)-1], ", ") + " and " + names[len(names)-1]
 }
 
 // fmt3 writes x to three decimals, as the page's sentences quote values.

@@ -1,17 +1,45 @@
 package report
 
-// pageHTML is the template of index.html. It is written as well-formed
+// The run's index.html and the plan's are one layout, pageLayout, with
+// each page's own parts filled in; the style sheet, the study file as
+// run, the provenance, and the lists and tables both pages show are the
+// same named templates in both. Every template is written as well-formed
 // XML (void elements closed, no named entities) so that tests can parse
-// it with encoding/xml; html/template escapes every value put into it.
-const pageHTML = `<!DOCTYPE html>
+// the pages with encoding/xml; html/template escapes every value put into
+// them.
+
+// pageLayout is the document both pages share. A page fills it in by
+// defining "page kind" (named in the window title), "page style" (style
+// rules of its own, after the shared sheet), "page header" (under the
+// title), "page main" (its sections before the study file) and "page
+// footer". What the two pages share beyond it is in pageParts.
+const pageLayout = `<!DOCTYPE html>
 <html lang="en">
 <head>
 <meta charset="utf-8" />
 <meta name="viewport" content="width=device-width, initial-scale=1" />
 <meta name="generator" content="deltaprobe" />
-<title>{{.Title}} – deltaprobe report</title>
+<title>{{.Title}} – {{template "page kind"}}</title>
 <style>
-:root { color-scheme: light; }
+{{template "style sheet"}}{{template "page style"}}</style>
+</head>
+<body>
+<header>
+<h1>{{.Title}}</h1>
+{{if .Description}}<p class="lede">{{.Description}}</p>
+{{end}}{{template "page header"}}</header>
+<main>
+{{template "page main" .}}{{template "study and provenance" .}}
+</main>
+<footer>
+<p>{{template "page footer"}}</p>
+</footer>
+</body>
+</html>
+`
+
+// pageParts are the parts both pages show alike.
+const pageParts = `{{define "style sheet"}}:root { color-scheme: light; }
 html { -webkit-text-size-adjust: 100%; text-size-adjust: 100%; }
 body {
   margin: 0 auto; padding: 1rem 1.25rem 3rem; max-width: 64rem;
@@ -77,17 +105,59 @@ footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
   figure img { border: none; max-height: 24cm; width: auto; }
   pre { background: #fff; white-space: pre-wrap; overflow-wrap: anywhere; }
 }
-</style>
-</head>
-<body>
-<header>
-<h1>{{.Title}}</h1>
-{{if .Description}}<p class="lede">{{.Description}}</p>
-{{end}}<p class="lede">Is the delta-method normal approximation adequate at each sample size of this study? A Monte Carlo check by deltaprobe.</p>
+{{end}}
+{{define "caution"}}<p>It does not replace review by a qualified statistician, the applicable regulatory or sponsor guidance, or the study’s own pre-specified analysis plan. Do not base a sample-size decision on it alone.</p>
+{{end}}
+{{define "explanations"}}<ul class="why">
+{{range .}}<li><strong>{{.Name}}</strong>: {{.Why}}</li>
+{{end}}</ul>
+{{end}}
+{{define "bullets"}}<ul class="note">
+{{range .}}<li>{{.}}</li>
+{{end}}</ul>
+{{end}}
+{{define "key values"}}<dl class="kv">
+{{range .}}<dt>{{.Key}}</dt><dd>{{.Value}}</dd>
+{{end}}</dl>
+{{end}}
+{{define "warnings"}}{{if .}}<ul class="warn">
+{{range .}}<li>{{.}}</li>
+{{end}}</ul>
+{{else}}<p>None.</p>
+{{end}}{{end}}
+{{define "figure sections"}}{{range .}}<h3 id="{{.Anchor}}">{{.Name}} <span class="expr">= {{.Expr}}</span></h3>
+{{range .Figures}}<figure>
+<a href="{{.File}}"><img src="{{.File}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Alt}}" /></a>
+<figcaption>{{.Caption}}</figcaption>
+</figure>
+{{end}}{{end}}{{end}}
+{{define "summary table"}}<div class="scroll">
+<table class="summary">
+<caption>{{.Caption}}</caption>
+<thead><tr>{{range .Columns}}<th scope="col">{{.}}</th>{{end}}</tr></thead>
+<tbody>
+{{range .Rows}}<tr>{{range .}}<td class="{{.Class}}">{{.Text}}</td>{{end}}</tr>
+{{end}}</tbody>
+</table>
+</div>
+{{end}}
+{{define "study and provenance"}}<section id="study">
+<h2>Study file as run</h2>
+<p><code>{{.SourceName}}</code></p>
+<pre>{{.Source}}</pre>
+</section>
+<section id="provenance">
+<h2>Provenance</h2>
+{{template "key values" .Provenance}}</section>
+{{end}}`
+
+// runPageParts are the run page's own parts of pageLayout.
+const runPageParts = `{{define "page kind"}}deltaprobe report{{end}}
+{{define "page style"}}{{end}}
+{{define "page header"}}<p class="lede">Is the delta-method normal approximation adequate at each sample size of this study? A Monte Carlo check by deltaprobe.</p>
 <nav><a href="#verdicts">Verdicts</a> <a href="#scope">Scope</a> <a href="#warnings">Warnings</a> <a href="#figures">Figures</a> <a href="#summary">Summary</a> <a href="#study">Study file</a> <a href="#provenance">Provenance</a></nav>
-</header>
-<main>
-<section id="verdicts">
+{{end}}
+{{define "page main"}}<section id="verdicts">
 <h2>Verdicts</h2>
 {{if .Incomplete}}<p><strong>This run is incomplete: the numbers use only the blocks that finished.</strong></p>
 {{end}}<div class="scroll">
@@ -98,72 +168,24 @@ footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
 {{end}}</tbody>
 </table>
 </div>
-<ul class="why">
-{{range .Verdicts}}<li><strong>{{.Name}}</strong>: {{.Why}}</li>
-{{end}}</ul>
-<p class="note">“Adequate from n” is the smallest n of the grid at which all three criteria pass, there and at every larger n. The last three columns give the same for each criterion alone; a dash means that criterion does not reach it within the grid. A criterion passes at n when its Monte Carlo 95% interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
-<ul class="note">
-{{range .Criteria}}<li>{{.}}</li>
-{{end}}</ul>
-</section>
+{{template "explanations" .Verdicts}}<p class="note">“Adequate from n” is the smallest n of the grid at which all three criteria pass, there and at every larger n. The last three columns give the same for each criterion alone; a dash means that criterion does not reach it within the grid. A criterion passes at n when its Monte Carlo 95% interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
+{{template "bullets" .Criteria}}</section>
 <section id="scope" class="scope">
 <p><strong>What this check does and does not show.</strong> It checks the delta-method approximation only under the model this study states: the family and parameter values below, these sample sizes, this estimator and these transforms. Data that depart from that model – another distribution, other parameter values, dependence, missing values, another estimator – may behave differently. Every number here is a Monte Carlo estimate and carries Monte Carlo error.</p>
-<p>It does not replace review by a qualified statistician, the applicable regulatory or sponsor guidance, or the study’s own pre-specified analysis plan. Do not base a sample-size decision on it alone.</p>
-</section>
+{{template "caution"}}</section>
 <section id="glance">
 <h2>The study</h2>
-<dl class="kv">
-{{range .Glance}}<dt>{{.Key}}</dt><dd>{{.Value}}</dd>
-{{end}}</dl>
-</section>
+{{template "key values" .Glance}}</section>
 <section id="warnings">
 <h2>Warnings</h2>
-{{if .Warnings}}<ul class="warn">
-{{range .Warnings}}<li>{{.}}</li>
-{{end}}</ul>
-{{else}}<p>None.</p>
-{{end}}</section>
+{{template "warnings" .Warnings}}</section>
 <section id="figures">
 <h2>Figures</h2>
 <p>Two figures per transform, each 1600 pixels wide: tap or click one to open it at full size.</p>
-{{range .Sections}}<h3 id="{{.Anchor}}">{{.Name}} <span class="expr">= {{.Expr}}</span></h3>
-{{range .Figures}}<figure>
-<a href="{{.File}}"><img src="{{.File}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Alt}}" /></a>
-<figcaption>{{.Caption}}</figcaption>
-</figure>
-{{end}}{{end}}</section>
+{{template "figure sections" .Sections}}</section>
 <section id="summary">
 <h2>Summary</h2>
 <p>Every column of <a href="summary.csv">summary.csv</a>, under the same names, to four significant digits (the file has eight). The verdicts per transform are in <a href="verdicts.csv">verdicts.csv</a>.</p>
-{{range .Tables}}<div class="scroll">
-<table class="summary">
-<caption>{{.Caption}}</caption>
-<thead><tr>{{range .Columns}}<th scope="col">{{.}}</th>{{end}}</tr></thead>
-<tbody>
-{{range .Rows}}<tr>{{range .}}<td class="{{.Class}}">{{.Text}}</td>{{end}}</tr>
-{{end}}</tbody>
-</table>
-</div>
-{{end}}</section>
-{{template "study and provenance" .}}
-</main>
-<footer>
-<p>Written by deltaprobe. The same study file and seed give the same numbers; result.json in this folder holds the full state of the run.</p>
-</footer>
-</body>
-</html>
-`
-
-// pageParts are the sections the run page and the plan page share.
-const pageParts = `{{define "study and provenance"}}<section id="study">
-<h2>Study file as run</h2>
-<p><code>{{.SourceName}}</code></p>
-<pre>{{.Source}}</pre>
-</section>
-<section id="provenance">
-<h2>Provenance</h2>
-<dl class="kv">
-{{range .Provenance}}<dt>{{.Key}}</dt><dd>{{.Value}}</dd>
-{{end}}</dl>
-</section>
-{{end}}`
+{{range .Tables}}{{template "summary table" .}}{{end}}</section>
+{{end}}
+{{define "page footer"}}Written by deltaprobe. The same study file and seed give the same numbers; result.json in this folder holds the full state of the run.{{end}}`

@@ -12,7 +12,6 @@ import (
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
-	"deltaprobe/sim/study"
 )
 
 // element is a node of the page as encoding/xml reads it.
@@ -109,7 +108,24 @@ func TestWritePage(t *testing.T) {
 	}
 }
 
-func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
+// pageWant is what checkPageBasics expects of a page.
+type pageWant struct {
+	transforms  int      // rows of the first table, and sentences under it
+	images      int      // figures shown
+	imageSuffix string   // how every figure's file name ends
+	title       string   // the study's title, "" for none
+	source      string   // the study file as run
+	says        []string // what the page's text must hold besides its caution
+}
+
+// checkPageBasics checks what every page of the report must be, a run's
+// or a plan's: well-formed; nothing from the network and no scripts; a
+// viewport; its figures beside it, each with alt text; every link to a
+// single anchor on the page or to a file beside it; the answer table
+// first, with a sentence per transform under it; the caution, the study
+// file as run and the study's title. It returns the page and the answer
+// table's rows.
+func checkPageBasics(t *testing.T, dir string, page []byte, want pageWant) (*element, []*element) {
 	t.Helper()
 	doc := parsePage(t, page)
 	text := string(page)
@@ -126,13 +142,13 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 
 	// Every image exists beside the page and is a figure of ours.
 	imgs := doc.find(named("img"))
-	if len(imgs) != 2*len(r.Study.Transforms) {
-		t.Errorf("%d images for %d transforms, want two each", len(imgs), len(r.Study.Transforms))
+	if len(imgs) != want.images {
+		t.Errorf("%d images for %d transforms, want %d", len(imgs), want.transforms, want.images)
 	}
 	for _, img := range imgs {
 		src := img.attrs["src"]
-		if src == "" || strings.ContainsAny(src, "/\\:") {
-			t.Errorf("image source %q is not a file beside the page", src)
+		if src == "" || strings.ContainsAny(src, "/\\:") || !strings.HasSuffix(src, want.imageSuffix) {
+			t.Errorf("image source %q is not a figure beside the page", src)
 			continue
 		}
 		if _, err := os.Stat(filepath.Join(dir, src)); err != nil {
@@ -142,6 +158,7 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 			t.Errorf("image %q has no alt text", src)
 		}
 	}
+	// Every link goes to a single anchor on the page or a file beside it.
 	for _, a := range doc.find(named("a")) {
 		href := a.attrs["href"]
 		if strings.HasPrefix(href, "#") {
@@ -150,20 +167,63 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 			}
 			continue
 		}
+		if strings.ContainsAny(href, "/\\:") {
+			t.Errorf("link %q leaves the folder", href)
+		}
 		if _, err := os.Stat(filepath.Join(dir, href)); err != nil {
 			t.Errorf("link %q: %v", href, err)
 		}
 	}
 
-	// The verdict table comes first and has one row per transform, in order.
+	// The answer table comes first, one row per transform, with one
+	// explaining sentence each under it.
 	tables := doc.find(named("table"))
 	if len(tables) == 0 || !hasClass("table", "verdicts")(tables[0]) {
-		t.Fatal("the first table is not the verdict table")
+		t.Fatal("the first table is not the answer table")
 	}
 	rows := tables[0].find(named("tr"))[1:]
-	if len(rows) != len(r.Study.Transforms) {
-		t.Fatalf("verdict table has %d rows for %d transforms", len(rows), len(r.Study.Transforms))
+	if len(rows) != want.transforms {
+		t.Fatalf("answer table has %d rows for %d transforms", len(rows), want.transforms)
 	}
+	whys := doc.find(hasClass("ul", "why"))
+	if len(whys) != 1 || len(whys[0].find(named("li"))) != want.transforms {
+		t.Error("want one explaining sentence per transform")
+	}
+
+	// The caution, the study file as run, and what else the page says.
+	body := doc.text.String()
+	caution := []string{
+		"only under the model this study states",
+		"qualified statistician",
+		"regulatory or sponsor guidance",
+		"pre-specified analysis plan",
+	}
+	for _, must := range append(caution, want.says...) {
+		if !strings.Contains(body, must) {
+			t.Errorf("page does not say %q", must)
+		}
+	}
+	pres := doc.find(named("pre"))
+	if len(pres) != 1 || pres[0].text.String() != want.source {
+		t.Error("the study file is not on the page exactly as run")
+	}
+	if want.title != "" {
+		if h1 := doc.find(named("h1"))[0].text.String(); h1 != want.title {
+			t.Errorf("heading %q, want the study title %q", h1, want.title)
+		}
+	}
+	return doc, rows
+}
+
+func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
+	t.Helper()
+	warnings := measure.Warnings(r, measure.Summarize(r))
+	doc, rows := checkPageBasics(t, dir, page, pageWant{
+		transforms: len(r.Study.Transforms), images: 2 * len(r.Study.Transforms), imageSuffix: ".png",
+		title: r.Study.Title, source: r.Study.Source,
+		says: append([]string{r.Study.SHA256, "deltaprobe " + r.Tool}, warnings...),
+	})
+
 	vs := measure.Verdicts(measure.Summarize(r))
 	for i, tr := range r.Study.Transforms {
 		cells := rows[i].find(named("td"))
@@ -173,10 +233,6 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 		if got, want := cells[1].text.String(), dash(formatN(vs[i].SmallestN)); got != want {
 			t.Errorf("%s: adequate from %q, want %q", tr.Name, got, want)
 		}
-	}
-	whys := doc.find(hasClass("ul", "why"))
-	if len(whys) != 1 || len(whys[0].find(named("li"))) != len(r.Study.Transforms) {
-		t.Error("want one explaining sentence per transform")
 	}
 
 	// Every column of summary.csv, once per summary table it belongs to.
@@ -198,33 +254,6 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 			t.Errorf("summary column %q is not on the page", col)
 		}
 	}
-
-	// The caution, the study file as run, and provenance.
-	body := doc.text.String()
-	for _, must := range []string{
-		"only under the model this study states",
-		"qualified statistician",
-		"regulatory or sponsor guidance",
-		"pre-specified analysis plan",
-		r.Study.SHA256,
-		"deltaprobe " + r.Tool,
-	} {
-		if !strings.Contains(body, must) {
-			t.Errorf("page does not say %q", must)
-		}
-	}
-	pres := doc.find(named("pre"))
-	if len(pres) != 1 || pres[0].text.String() != r.Study.Source {
-		t.Error("the study file is not on the page exactly as run")
-	}
-	if r.Study.Title != "" && doc.find(named("h1"))[0].text.String() != r.Study.Title {
-		t.Errorf("heading %q, want the study title %q", doc.find(named("h1"))[0].text.String(), r.Study.Title)
-	}
-	for _, w := range measure.Warnings(r, measure.Summarize(r)) {
-		if !strings.Contains(body, w) {
-			t.Errorf("warning %q is not on the page", w)
-		}
-	}
 }
 
 // The page depends on the result alone.
@@ -234,14 +263,7 @@ func TestPageDeterministic(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	a, err := Page(r, figs)
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, err := Page(r, figs)
-	if err != nil {
-		t.Fatal(err)
-	}
+	a, b := renderTwice(t, func() ([]byte, error) { return Page(r, figs) })
 	if !bytes.Equal(a, b) {
 		t.Error("two renderings of the same page differ")
 	}
@@ -254,13 +276,20 @@ func TestPageEscapes(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	checkEscaped(t, page, "Reciprocal &lt;and&gt; log &amp; co")
+}
+
+// checkEscaped checks that a test study's title and source, which hold
+// markup, reached page escaped, the title as escapedTitle.
+func checkEscaped(t *testing.T, page []byte, escapedTitle string) {
+	t.Helper()
 	text := string(page)
 	for _, raw := range []string{"<and>", `a < b & "c"`} {
 		if strings.Contains(text, raw) {
 			t.Errorf("page carries %q unescaped", raw)
 		}
 	}
-	if !strings.Contains(text, "Reciprocal &lt;and&gt; log &amp; co") {
+	if !strings.Contains(text, escapedTitle) {
 		t.Error("title not escaped as expected")
 	}
 }
@@ -301,7 +330,6 @@ var (
 )
 
 func TestExplain(t *testing.T) {
-	crit := study.Criteria{Coverage: covBand, VarRatio: varBand, StdBias: 0.1}
 	tests := []struct {
 		name string
 		rows []measure.Row
@@ -347,7 +375,7 @@ func TestExplain(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got := explain(tc.rows, tc.v, crit)
+			got := explain(tc.rows, tc.v)
 			for _, w := range tc.want {
 				if !strings.Contains(got, w) {
 					t.Errorf("explain = %q\nwant it to contain %q", got, w)

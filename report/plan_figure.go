@@ -137,13 +137,9 @@ func (v planView) zoomRange() (lo, hi int, ok bool) {
 // study order, in parallel; each is a pure function of s and p and comes
 // out byte for byte the same every time.
 func PlanFigures(s *study.Study, p *plan.Result) ([]Figure, error) {
-	names := make([]string, len(s.Transforms))
-	for i, t := range s.Transforms {
-		names[i] = t.Name
-	}
-	stems := SafeNames(names)
-	figs := make([]Figure, len(names))
-	err := renderEach(len(names), func(t int) error {
+	stems := transformStems(s.Info().Transforms)
+	figs := make([]Figure, len(stems))
+	err := renderEach(len(stems), func(t int) error {
 		v := newPlanView(s, p, t)
 		f := Figure{File: stems[t] + "-" + KindPlan + ".png", Transform: t, Kind: KindPlan, Alt: planAlt(v)}
 		var err error

@@ -2,143 +2,16 @@ package report
 
 import (
 	"bytes"
-	"context"
 	"math"
 	"reflect"
 	"strconv"
-	"sync"
 	"testing"
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
-	"deltaprobe/sim/runner"
-	"deltaprobe/sim/study"
 
 	"gonum.org/v1/plot/vg"
 )
-
-// The plan tests, like the run tests, plan small studies through sim
-// rather than keep result files: a few thousand replicates per n, a
-// fraction of a second each.
-
-// planTwo has what the plan's page must cope with: a title and comment
-// that need escaping, a name that is not a safe file name, two
-// transforms, and answers with a window above them.
-const planTwo = `# Test plan: a < b & "c" must reach the page escaped.
-title = "Plan <and> search & co"
-description = "Normal data; 100 / mean and log(mean)."
-seed = 11
-
-[plan]
-n_min = 4
-n_max = 120
-max_replicates = 3000
-batch = 1000
-
-[model]
-family = "normal"
-mean = 14.0
-sd = 3.5
-
-[[transform]]
-name = "litres / 100 km"
-expr = "100 / mean"
-
-[[transform]]
-name = "log mean"
-expr = "log(mean)"
-`
-
-// planNotReached stops below the n the exponential rate needs: every n
-// fails on bias, so there is no answer, no window and no close-up.
-const planNotReached = `title = "Not reached"
-seed = 12
-
-[plan]
-n_min = 5
-n_max = 20
-max_replicates = 2000
-batch = 1000
-
-[model]
-family = "exponential"
-rate = 1.5
-
-[[transform]]
-name = "rate"
-expr = "rate"
-`
-
-// planBinary is two groups of binary outcomes, whose coverage moves in
-// steps as n grows.
-const planBinary = `title = "Risk difference"
-seed = 13
-
-[plan]
-n_min = 10
-n_max = 300
-max_replicates = 4000
-batch = 1000
-
-[[arm]]
-name = "a"
-family = "bernoulli"
-p = 0.3
-
-[[arm]]
-name = "b"
-family = "bernoulli"
-p = 0.2
-
-[[transform]]
-name = "rd"
-expr = "a.p - b.p"
-`
-
-type planCase struct {
-	name   string
-	src    string
-	budget int64 // 0: no cap
-}
-
-// planCases are the plans every figure and page test runs over. The
-// budget of the last is far below what planTwo needs, so the cap is hit.
-var planCases = []planCase{
-	{"two transforms", planTwo, 0},
-	{"not reached", planNotReached, 0},
-	{"binary arms", planBinary, 0},
-	{"budget exhausted", planTwo, 15000},
-}
-
-type plannedStudy struct {
-	s *study.Study
-	p *plan.Result
-}
-
-var (
-	plansMu sync.Mutex
-	plans   = map[planCase]plannedStudy{}
-)
-
-// runPlan parses and plans a case once per test binary.
-func runPlan(t testing.TB, c planCase) (*study.Study, *plan.Result) {
-	t.Helper()
-	plansMu.Lock()
-	defer plansMu.Unlock()
-	if ps, ok := plans[c]; ok {
-		return ps.s, ps.p
-	}
-	s, err := study.Parse("plan.toml", []byte(c.src))
-	if err != nil {
-		t.Fatalf("parsing test plan: %v", err)
-	}
-	p, err := plan.Run(context.Background(), s, c.budget, runner.Options{Workers: 2})
-	if err != nil {
-		t.Fatalf("running test plan: %v", err)
-	}
-	plans[c] = plannedStudy{s, p}
-	return s, p
-}
 
 // The cases must be what their names say, or the tests below do not
 // test what they claim to.
@@ -205,14 +78,7 @@ func TestPlanFigures(t *testing.T) {
 // Figures are a pure function of the study and the plan.
 func TestPlanFiguresDeterministic(t *testing.T) {
 	s, p := runPlan(t, planCases[0])
-	a, err := PlanFigures(s, p)
-	if err != nil {
-		t.Fatal(err)
-	}
-	b, err := PlanFigures(s, p)
-	if err != nil {
-		t.Fatal(err)
-	}
+	a, b := renderTwice(t, func() ([]Figure, error) { return PlanFigures(s, p) })
 	for i := range a {
 		if !bytes.Equal(a[i].PNG, b[i].PNG) {
 			t.Errorf("%s differs between two renderings of the same plan", a[i].File)

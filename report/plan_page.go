@@ -1,10 +1,7 @@
 package report
 
 import (
-	"bytes"
 	"fmt"
-	"html/template"
-	"math"
 	"strconv"
 	"strings"
 
@@ -19,61 +16,32 @@ import (
 // there. It is built like the run's page: one static file beside its
 // figures, no scripts, nothing fetched, well-formed XML as well as HTML.
 
-// planPageData is what the plan template shows.
+// planPageData is what the plan's page shows.
 type planPageData struct {
-	Style       template.CSS
-	Title       string
-	Description string
-	Answers     []planAnswerLine
-	Method      string
-	Criteria    []string
-	Glance      []keyValue
-	Notes       []string
-	Sections    []transformSection
-	Steps       summaryTable
-	Source      string
-	SourceName  string
-	Provenance  []keyValue
+	studyPage
+	Answers []planAnswerLine
+	Method  string
+	Notes   []string
+	Steps   summaryTable
 }
 
-// planAnswerLine is one row of the answer table and its sentence.
+// planAnswerLine is a transform's row of the answer table.
 type planAnswerLine struct {
-	Name, Expr, Anchor string
-	Smallest           string
-	Status             string
-	StatusClass        string
-	Limiting           string
-	Checked            int
-	Replicates         int64
-	Window             string
-	Oscillations       string
-	Undecided          string
-	Why                string
+	answerLine
+	Checked      int
+	Replicates   int64
+	Window       string
+	Oscillations string
+	Undecided    string
 }
 
-// pageStyle is the run page's style sheet, taken from its template so the
-// two pages look alike and cannot drift apart.
-var pageStyle = func() template.CSS {
-	_, rest, ok := strings.Cut(pageHTML, "<style>\n")
-	css, _, ok2 := strings.Cut(rest, "</style>")
-	if !ok || !ok2 {
-		panic("report: the page template has no <style> element")
-	}
-	return template.CSS(css)
-}()
-
-var planPageTemplate = template.Must(template.Must(template.New("plan").Parse(planPageHTML)).Parse(pageParts))
+var planPageTemplate = newPageTemplate(planPageParts)
 
 // PlanPage renders index.html for the plan p of study s, with figs (from
 // PlanFigures) as the images it shows, referenced by file name beside
 // the page.
 func PlanPage(s *study.Study, p *plan.Result, figs []Figure) ([]byte, error) {
-	d := buildPlanPage(s, p, figs)
-	var buf bytes.Buffer
-	if err := planPageTemplate.Execute(&buf, d); err != nil {
-		return nil, fmt.Errorf("rendering %s: %w", PageFile, err)
-	}
-	return buf.Bytes(), nil
+	return renderPage(planPageTemplate, buildPlanPage(s, p, figs))
 }
 
 func buildPlanPage(s *study.Study, p *plan.Result, figs []Figure) planPageData {
@@ -81,59 +49,51 @@ func buildPlanPage(s *study.Study, p *plan.Result, figs []Figure) planPageData {
 	if s.Plan != nil {
 		spec = *s.Plan
 	}
-	names := make([]string, len(s.Transforms))
-	for i, t := range s.Transforms {
-		names[i] = t.Name
-	}
-	stems := SafeNames(names)
-	d := planPageData{
-		Style:       pageStyle,
-		Title:       s.Title,
-		Description: s.Description,
-		Method:      p.Method,
-		Source:      string(s.Source),
-		SourceName:  s.File,
-	}
-	if d.Title == "" {
-		d.Title = s.File
-	}
-	arms := make([]study.ArmInfo, len(s.Arms))
-	for i, a := range s.Arms {
-		arms[i] = study.ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
-	}
+	st := s.Info()
 	window := "10% of the answer, at least 3 and at most 25 integers"
 	if spec.Window > 0 {
 		window = fmt.Sprintf("%d integers", spec.Window)
 	}
-	d.Glance = []keyValue{
-		{"Model", describeModel(arms)},
+	glance := []keyValue{
 		{"Search range", fmt.Sprintf("n from %d to %d", spec.NMin, spec.NMax)},
 		{"Replicates", fmt.Sprintf("at most %d per n, added in batches of %d until the verdict is decided", spec.MaxReplicates, spec.Batch)},
 		{"Decisions", fmt.Sprintf("each at confidence %s; %s", fmtG(spec.Confidence), p.Method)},
 		{"Window", "above each answer, " + window + " are also checked"},
-		{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(s.Level))},
 	}
-	c := s.Criteria
+	exhausted := "no"
+	if p.Exhausted {
+		exhausted = "yes: decisions marked unclear could not be made within it"
+	}
+	provenance := []keyValue{
+		{"Search range", fmt.Sprintf("%d to %d", spec.NMin, spec.NMax)},
+		{"Replicates per n", fmt.Sprintf("at most %d, in batches of %d", spec.MaxReplicates, spec.Batch)},
+		{"Interval quantile per look", fmt.Sprintf("z = %.3f", p.Z)},
+		{"Block size", strconv.Itoa(study.BlockSize)},
+		{"Replicates simulated in all", strconv.FormatInt(p.Total, 10)},
+		{"Budget cap reached", exhausted},
+	}
+	d := planPageData{
+		studyPage: newStudyPage(st, runner.Version, glance, provenance),
+		Method:    p.Method,
+		Steps:     planStepsTable(p),
+	}
+	c := st.Criteria
 	z := fmt3(p.Z)
 	d.Criteria = []string{
 		fmt.Sprintf("Coverage: its Wilson interval, at z = %s, lies inside %s–%s.", z, fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
 		fmt.Sprintf("Variance: the Monte Carlo interval of delta_var / emp_var, at z = %s, lies inside %s–%s.", z, fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
 		fmt.Sprintf("Bias: bias / delta-method sd ± %s Monte Carlo standard errors lies inside ±%s.", z, fmtG(c.StdBias)),
 	}
-	for t, info := range s.Transforms {
+	stems := transformStems(st.Transforms)
+	for t, info := range st.Transforms {
 		v := newPlanView(s, p, t)
 		line := planAnswerLine{
-			Name: info.Name, Expr: info.Expr, Anchor: "t-" + stems[t],
-			Smallest:     dash(formatN(v.verdict.SmallestN)),
-			Status:       statusText(v.verdict.Status),
-			StatusClass:  string(v.verdict.Status),
-			Limiting:     dash(v.verdict.Limiting),
+			answerLine:   newAnswerLine(info, stems[t], v.verdict, planExplain(v, spec)),
 			Checked:      len(v.steps),
 			Replicates:   v.replicates,
 			Window:       dash(""),
 			Oscillations: "none",
 			Undecided:    "none",
-			Why:          planExplain(v, spec),
 		}
 		if v.windowTop > 0 {
 			line.Window = fmt.Sprintf("+%d (%d–%d)", v.window, v.verdict.SmallestN+1, v.windowTop)
@@ -150,33 +110,10 @@ func buildPlanPage(s *study.Study, p *plan.Result, figs []Figure) planPageData {
 			d.Notes = append(d.Notes, fmt.Sprintf("%s: %d n above the answer stayed undecided within %d replicates (they neither passed nor failed).", info.Name, len(v.undecided), spec.MaxReplicates))
 		}
 		d.Answers = append(d.Answers, line)
-		sec := transformSection{Name: info.Name, Expr: info.Expr, Anchor: line.Anchor}
-		for _, f := range figs {
-			if f.Transform == t {
-				sec.Figures = append(sec.Figures, figureRef{File: f.File, Alt: f.Alt, Caption: planCaption(v), Width: f.Width, Height: f.Height})
-			}
-		}
-		d.Sections = append(d.Sections, sec)
+		d.addSection(line.answerLine, t, figs, func(Figure) string { return planCaption(v) })
 	}
 	if p.Exhausted {
 		d.Notes = append(d.Notes, "The -budget cap on the replicates of the whole plan was reached: decisions marked unclear could not be made within it.")
-	}
-	d.Steps = planStepsTable(p)
-	exhausted := "no"
-	if p.Exhausted {
-		exhausted = "yes: decisions marked unclear could not be made within it"
-	}
-	d.Provenance = []keyValue{
-		{"Tool", "deltaprobe " + runner.Version},
-		{"Study file", s.File},
-		{"Study file SHA-256", s.SHA256},
-		{"Seed", strconv.FormatUint(s.Seed, 10)},
-		{"Search range", fmt.Sprintf("%d to %d", spec.NMin, spec.NMax)},
-		{"Replicates per n", fmt.Sprintf("at most %d, in batches of %d", spec.MaxReplicates, spec.Batch)},
-		{"Interval quantile per look", fmt.Sprintf("z = %.3f", p.Z)},
-		{"Block size", strconv.Itoa(study.BlockSize)},
-		{"Replicates simulated in all", strconv.FormatInt(p.Total, 10)},
-		{"Budget cap reached", exhausted},
 	}
 	return d
 }
@@ -221,7 +158,7 @@ func planExplain(v planView, spec study.PlanSpec) string {
 	switch tv.Status {
 	case measure.Adequate:
 		a := tv.SmallestN
-		fmt.Fprintf(&b, "Adequate from n = %d: coverage, variance and bias all pass there, and no n checked above it fails", a)
+		fmt.Fprintf(&b, "Adequate from n = %d: %s all pass there, and no n checked above it fails", a, criteriaInWords())
 		if v.windowTop > 0 {
 			fmt.Fprintf(&b, ", the window n = %d–%d included", a+1, v.windowTop)
 		}
@@ -230,7 +167,7 @@ func planExplain(v planView, spec study.PlanSpec) string {
 		case !ok:
 			b.WriteString(" It is the smallest n searched; smaller n were not checked.")
 		case prev.Row.Verdict != measure.Pass:
-			fmt.Fprintf(&b, " Not at n = %d, the largest n below it checked: %s.", prev.N, strings.Join(planProblems(prev.Row), "; and "))
+			fmt.Fprintf(&b, " Not at n = %d, the largest n below it checked: %s.", prev.N, planVoice.shortfalls(prev.Row))
 		default:
 			fmt.Fprintf(&b, " n = %d passes too, but a larger n failed, so adequacy could not start there.", prev.N)
 		}
@@ -244,54 +181,14 @@ func planExplain(v planView, spec study.PlanSpec) string {
 	case measure.NotReached:
 		fmt.Fprintf(&b, "Not adequate at any n checked, up to %d.", spec.NMax)
 		if last, ok := v.stepAt(v.largestN); ok {
-			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
+			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, planVoice.shortfalls(last.Row))
 		}
 	default:
 		b.WriteString("Undecided.")
 		if last, ok := v.stepAt(v.largestN); ok {
-			fmt.Fprintf(&b, " At n = %d, the largest checked, no criterion fails, but %s.", last.N, strings.Join(planProblems(last.Row), "; and "))
+			fmt.Fprintf(&b, " At n = %d, the largest checked, no criterion fails, but %s.", last.N, planVoice.shortfalls(last.Row))
 		}
 		fmt.Fprintf(&b, " %d replicates per n could not settle it.", spec.MaxReplicates)
 	}
 	return b.String()
-}
-
-// planProblems describes every criterion that does not pass at row r.
-func planProblems(r measure.Row) []string {
-	var out []string
-	for _, cr := range measure.Criteria() {
-		if ch := r.Check(cr); ch.Verdict != measure.Pass {
-			out = append(out, describePlanCheck(cr, r, ch))
-		}
-	}
-	if len(out) == 0 {
-		out = append(out, "every criterion passes")
-	}
-	return out
-}
-
-// describePlanCheck says where criterion cr's interval lay against its
-// band at row r. The interval is the plan's, widened for repeated looks.
-func describePlanCheck(cr *measure.Criterion, r measure.Row, ch measure.Check) string {
-	what, value := cr.Noun, fmt3(r.Get(cr.Measure))
-	iv := fmt.Sprintf("interval %s to %s", fmt3(ch.Low), fmt3(ch.High))
-	band := fmt.Sprintf("band %s to %s", fmt3(ch.Band[0]), fmt3(ch.Band[1]))
-	switch {
-	case math.IsNaN(ch.Low) || math.IsNaN(ch.High):
-		return fmt.Sprintf("%s could not be estimated (%s)", what, band)
-	case ch.Verdict == measure.Fail && ch.High < ch.Band[0]:
-		return fmt.Sprintf("%s is below its band: %s (%s; %s)", what, value, iv, band)
-	case ch.Verdict == measure.Fail && ch.Low > ch.Band[1]:
-		return fmt.Sprintf("%s is above its band: %s (%s; %s)", what, value, iv, band)
-	}
-	var edges []string
-	for _, e := range ch.Band {
-		if ch.Low < e && e < ch.High {
-			edges = append(edges, fmt3(e))
-		}
-	}
-	if len(edges) == 0 {
-		return fmt.Sprintf("%s is not clearly inside its band: %s (%s; %s)", what, value, iv, band)
-	}
-	return fmt.Sprintf("%s is not clearly inside its band: %s (%s crosses %s)", what, value, iv, strings.Join(edges, " and "))
 }

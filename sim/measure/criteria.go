@@ -31,11 +31,11 @@ type Criterion struct {
 	Band func(c study.Criteria) [2]float64
 	// Interval is the measure's Monte Carlo interval with normal quantile z.
 	Interval func(c *Cell, row *Row, z float64) (lo, hi float64)
-	// Words describe a check that does not pass, for the page: Below and
-	// Above when it fails on that side, Unclear when its interval crosses
-	// an edge. Placeholders: {value} the measure, {interval} its Monte
-	// Carlo interval, {band} the band, {bound} the band's upper edge,
-	// {crosses} the interval and the edges it crosses.
+	// Words describe a check that does not pass, for the run's page:
+	// Below and Above when it fails on that side, Unclear otherwise.
+	// Placeholders: {value} the measure, {interval} its Monte Carlo
+	// interval, {band} the band, {bound} the band's upper edge, {crosses}
+	// the interval and where it lies across the band.
 	Below, Above, Unclear string
 	index                 int
 }
