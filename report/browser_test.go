@@ -465,7 +465,7 @@ func TestBrowserPlan(t *testing.T) {
 	}
 	s, p := runPlan(t, planCases[0])
 	dir := t.TempDir()
-	if err := WritePlan(dir, s, p); err != nil {
+	if err := WritePlan(dir, p); err != nil {
 		t.Fatal(err)
 	}
 	page, err := filepath.Abs(filepath.Join(dir, PageFile))

@@ -56,9 +56,9 @@ type planView struct {
 	replicates int64 // replicates behind this transform's decisions
 }
 
-func newPlanView(s *study.Study, p *plan.Result, t int) planView {
-	tr := s.Transforms[t]
-	v := planView{info: study.TransformInfo{Name: tr.Name, Expr: tr.Expr}, steps: planSteps(p, tr.Name)}
+func newPlanView(p *plan.Result, t int) planView {
+	tr := p.Study.Transforms[t]
+	v := planView{info: tr, steps: planSteps(p, tr.Name)}
 	if t < len(p.Verdicts) {
 		v.verdict = p.Verdicts[t]
 	} else {
@@ -74,10 +74,7 @@ func newPlanView(s *study.Study, p *plan.Result, t int) planView {
 		v.undecided = p.Undecided[t]
 	}
 	if a := v.verdict.SmallestN; a > 0 && v.window > 0 {
-		v.windowTop = a + v.window
-		if s.Plan != nil {
-			v.windowTop = min(v.windowTop, s.Plan.NMax)
-		}
+		v.windowTop = min(a+v.window, p.Spec.NMax)
 		if v.windowTop <= a {
 			v.windowTop = 0
 		}
@@ -133,17 +130,17 @@ func (v planView) zoomRange() (lo, hi int, ok bool) {
 	return lo, hi, true
 }
 
-// PlanFigures renders the plan's figure of every transform of s, in
-// study order, in parallel; each is a pure function of s and p and comes
-// out byte for byte the same every time.
-func PlanFigures(s *study.Study, p *plan.Result) ([]Figure, error) {
-	stems := transformStems(s.Info().Transforms)
+// PlanFigures renders the plan's figure of every transform, in study
+// order, in parallel; each is a pure function of the saved plan p and
+// comes out byte for byte the same every time.
+func PlanFigures(p *plan.Result) ([]Figure, error) {
+	stems := transformStems(p.Study.Transforms)
 	figs := make([]Figure, len(stems))
 	err := renderEach(len(stems), func(t int) error {
-		v := newPlanView(s, p, t)
+		v := newPlanView(p, t)
 		f := Figure{File: stems[t] + "-" + KindPlan + ".png", Transform: t, Kind: KindPlan, Alt: planAlt(v)}
 		var err error
-		f.PNG, f.Width, f.Height, err = planPNG(s, p, v)
+		f.PNG, f.Width, f.Height, err = planPNG(p, v)
 		if err != nil {
 			return fmt.Errorf("drawing %s: %w", f.File, err)
 		}
@@ -266,11 +263,8 @@ func (a planAxis) replicatesPanel(steps []plan.Step, perN int, title, xlabel str
 }
 
 // planPNG draws the plan figure of one transform.
-func planPNG(s *study.Study, p *plan.Result, v planView) ([]byte, int, int, error) {
-	spec := study.PlanSpec{NMin: 1, NMax: 1, MaxReplicates: 1}
-	if s.Plan != nil {
-		spec = *s.Plan
-	}
+func planPNG(p *plan.Result, v planView) ([]byte, int, int, error) {
+	spec, s := p.Spec, p.Study
 	var ns []int
 	for _, st := range v.steps {
 		ns = append(ns, st.N)

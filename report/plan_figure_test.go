@@ -45,7 +45,7 @@ func TestPlanFigures(t *testing.T) {
 	for _, c := range planCases {
 		t.Run(c.name, func(t *testing.T) {
 			s, p := runPlan(t, c)
-			figs, err := PlanFigures(s, p)
+			figs, err := PlanFigures(p)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -77,8 +77,8 @@ func TestPlanFigures(t *testing.T) {
 
 // Figures are a pure function of the study and the plan.
 func TestPlanFiguresDeterministic(t *testing.T) {
-	s, p := runPlan(t, planCases[0])
-	a, b := renderTwice(t, func() ([]Figure, error) { return PlanFigures(s, p) })
+	_, p := runPlan(t, planCases[0])
+	a, b := renderTwice(t, func() ([]Figure, error) { return PlanFigures(p) })
 	for i := range a {
 		if !bytes.Equal(a[i].PNG, b[i].PNG) {
 			t.Errorf("%s differs between two renderings of the same plan", a[i].File)

@@ -14,7 +14,6 @@ import (
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
 	"deltaprobe/sim/runner"
-	"deltaprobe/sim/study"
 )
 
 // PlanColumns is the header of plan.csv: each criterion's measure and its
@@ -47,10 +46,10 @@ func PlanCSV(p *plan.Result) []byte {
 	return buf.Bytes()
 }
 
-// WritePlan writes plan.csv, verdicts.csv, the plan's figure of every
+// WritePlan writes, from the saved plan p, plan.csv, verdicts.csv, the plan's figure of every
 // transform and index.html into dir, each file atomically. The page goes
 // last, so a page on disk never points at a figure that is not there yet.
-func WritePlan(dir string, s *study.Study, p *plan.Result) error {
+func WritePlan(dir string, p *plan.Result) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("creating output folder: %w", err)
 	}
@@ -60,7 +59,7 @@ func WritePlan(dir string, s *study.Study, p *plan.Result) error {
 	if err := runner.WriteFileAtomic(filepath.Join(dir, "verdicts.csv"), VerdictsCSV(p.Verdicts)); err != nil {
 		return err
 	}
-	figs, err := PlanFigures(s, p)
+	figs, err := PlanFigures(p)
 	if err != nil {
 		return err
 	}
@@ -69,7 +68,7 @@ func WritePlan(dir string, s *study.Study, p *plan.Result) error {
 			return err
 		}
 	}
-	page, err := PlanPage(s, p, figs)
+	page, err := PlanPage(p, figs)
 	if err != nil {
 		return err
 	}
@@ -78,7 +77,7 @@ func WritePlan(dir string, s *study.Study, p *plan.Result) error {
 
 // PlanTable prints, per transform, the answer, what limits it, the
 // replicates its decisions used and any oscillation found.
-func PlanTable(w io.Writer, s *study.Study, p *plan.Result) {
+func PlanTable(w io.Writer, p *plan.Result) {
 	used := map[string]int64{}
 	evals := map[string]int{}
 	for _, st := range p.Steps {
@@ -93,8 +92,8 @@ func PlanTable(w io.Writer, s *study.Study, p *plan.Result) {
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "searched n in [%d, %d], at most %d replicates per n in batches of %d\n",
-		s.Plan.NMin, s.Plan.NMax, s.Plan.MaxReplicates, s.Plan.Batch)
-	fmt.Fprintf(w, "each decision at confidence %v; %s\n", s.Plan.Confidence, p.Method)
+		p.Spec.NMin, p.Spec.NMax, p.Spec.MaxReplicates, p.Spec.Batch)
+	fmt.Fprintf(w, "each decision at confidence %v; %s\n", p.Spec.Confidence, p.Method)
 	fmt.Fprintf(w, "replicates simulated in all: %d (window: integers above the answer that were also checked)\n", p.Total)
 	for i, v := range p.Verdicts {
 		if len(p.Oscillations[i]) > 0 {

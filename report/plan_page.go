@@ -7,7 +7,6 @@ import (
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
-	"deltaprobe/sim/runner"
 	"deltaprobe/sim/study"
 )
 
@@ -37,23 +36,16 @@ type planAnswerLine struct {
 
 var planPageTemplate = newPageTemplate(planPageParts)
 
-// PlanPage renders index.html for the plan p of study s, with figs (from
+// PlanPage renders index.html for the saved plan p, with figs (from
 // PlanFigures) as the images it shows, referenced by file name beside
 // the page.
-func PlanPage(s *study.Study, p *plan.Result, figs []Figure) ([]byte, error) {
-	return renderPage(planPageTemplate, buildPlanPage(s, p, figs))
+func PlanPage(p *plan.Result, figs []Figure) ([]byte, error) {
+	return renderPage(planPageTemplate, buildPlanPage(p, figs))
 }
 
-func buildPlanPage(s *study.Study, p *plan.Result, figs []Figure) planPageData {
-	spec := study.PlanSpec{}
-	if s.Plan != nil {
-		spec = *s.Plan
-	}
-	st := s.Info()
-	window := "10% of the answer, at least 3 and at most 25 integers"
-	if spec.Window > 0 {
-		window = fmt.Sprintf("%d integers", spec.Window)
-	}
+func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
+	spec, st := p.Spec, p.Study
+	window := p.WindowRule
 	glance := []keyValue{
 		{"Search range", fmt.Sprintf("n from %d to %d", spec.NMin, spec.NMax)},
 		{"Replicates", fmt.Sprintf("at most %d per n, added in batches of %d until the verdict is decided", spec.MaxReplicates, spec.Batch)},
@@ -71,9 +63,13 @@ func buildPlanPage(s *study.Study, p *plan.Result, figs []Figure) planPageData {
 		{"Block size", strconv.Itoa(study.BlockSize)},
 		{"Replicates simulated in all", strconv.FormatInt(p.Total, 10)},
 		{"Budget cap reached", exhausted},
+		{"Workers", strconv.Itoa(p.Workers)},
+		{"Simulation time", fmt.Sprintf("%.2f s", p.Elapsed)},
+		{"Finished", dashIfEmpty(p.Finished)},
+		{"Plan layout", strconv.Itoa(p.Layout)},
 	}
 	d := planPageData{
-		studyPage: newStudyPage(st, runner.Version, glance, provenance),
+		studyPage: newStudyPage(st, p.Tool, glance, provenance),
 		Method:    p.Method,
 		Steps:     planStepsTable(p),
 	}
@@ -86,7 +82,7 @@ func buildPlanPage(s *study.Study, p *plan.Result, figs []Figure) planPageData {
 	}
 	stems := transformStems(st.Transforms)
 	for t, info := range st.Transforms {
-		v := newPlanView(s, p, t)
+		v := newPlanView(p, t)
 		line := planAnswerLine{
 			answerLine:   newAnswerLine(info, stems[t], v.verdict, planExplain(v, spec)),
 			Checked:      len(v.steps),

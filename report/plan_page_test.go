@@ -20,7 +20,7 @@ func TestWritePlan(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			s, p := runPlan(t, c)
 			dir := t.TempDir()
-			if err := WritePlan(dir, s, p); err != nil {
+			if err := WritePlan(dir, p); err != nil {
 				t.Fatal(err)
 			}
 			for _, name := range []string{"plan.csv", "verdicts.csv"} {
@@ -106,12 +106,12 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *pla
 
 // The page depends on the study and the plan alone.
 func TestPlanPageDeterministic(t *testing.T) {
-	s, p := runPlan(t, planCases[0])
-	figs, err := PlanFigures(s, p)
+	_, p := runPlan(t, planCases[0])
+	figs, err := PlanFigures(p)
 	if err != nil {
 		t.Fatal(err)
 	}
-	a, b := renderTwice(t, func() ([]byte, error) { return PlanPage(s, p, figs) })
+	a, b := renderTwice(t, func() ([]byte, error) { return PlanPage(p, figs) })
 	if !bytes.Equal(a, b) {
 		t.Error("two renderings of the same page differ")
 	}
@@ -120,8 +120,8 @@ func TestPlanPageDeterministic(t *testing.T) {
 // The study's title and source reach the page escaped, never as markup;
 // the style sheet is the run page's, as it is.
 func TestPlanPageEscapes(t *testing.T) {
-	s, p := runPlan(t, planCases[0])
-	page, err := PlanPage(s, p, nil)
+	_, p := runPlan(t, planCases[0])
+	page, err := PlanPage(p, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -483,10 +483,13 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		return flagErr(err)
 	}
 	if len(positional) != 1 {
-		fmt.Fprintf(stderr, "deltaprobe report: give exactly one output folder holding result.json (got %d arguments)\n", len(positional))
+		fmt.Fprintf(stderr, "deltaprobe report: give exactly one output folder holding result.json or plan.json (got %d arguments)\n", len(positional))
 		return exitUsage
 	}
 	dir := positional[0]
+	if _, err := os.Stat(filepath.Join(dir, plan.File)); err == nil {
+		return reportPlan(dir, stdout, stderr)
+	}
 	res, err := runner.LoadResult(filepath.Join(dir, "result.json"))
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
@@ -498,6 +501,23 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 	}
 	report.VerdictTable(stdout, res)
 	fmt.Fprintf(stderr, "rewrote the report in %s from result.json\n", dir)
+	return exitOK
+}
+
+// reportPlan rewrites a plan folder's tables, figures and page from its
+// plan.json.
+func reportPlan(dir string, stdout, stderr io.Writer) int {
+	res, err := plan.Load(filepath.Join(dir, plan.File))
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
+		return exitUsage
+	}
+	if err := report.WritePlan(dir, res); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
+		return exitFailure
+	}
+	report.PlanTable(stdout, res)
+	fmt.Fprintf(stderr, "rewrote the report in %s from %s\n", dir, plan.File)
 	return exitOK
 }
 
@@ -545,7 +565,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	if !*quiet {
 		fmt.Fprintf(stderr, "planning %d transforms over n in [%d, %d]...\n", len(s.Transforms), s.Plan.NMin, s.Plan.NMax)
 	}
-	plan, err := plan.Run(ctx, s, *budget, runner.Options{Workers: *workers})
+	res, err := plan.Run(ctx, s, *budget, runner.Options{Workers: *workers})
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		if errors.Is(err, context.Canceled) {
@@ -553,12 +573,20 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 		}
 		return exitFailure
 	}
-	if err := report.WritePlan(dir, s, plan); err != nil {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe plan: creating output folder: %v\n", err)
+		return exitFailure
+	}
+	if err := plan.Save(filepath.Join(dir, plan.File), res); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		return exitFailure
 	}
-	report.PlanTable(stdout, s, plan)
-	fmt.Fprintf(stderr, "wrote %s (plan.csv, verdicts.csv, figures, index.html)\n", dir)
+	if err := report.WritePlan(dir, res); err != nil {
+		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
+		return exitFailure
+	}
+	report.PlanTable(stdout, res)
+	fmt.Fprintf(stderr, "wrote %s (plan.json, plan.csv, verdicts.csv, figures, index.html)\n", dir)
 	return exitOK
 }
 

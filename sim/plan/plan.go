@@ -43,7 +43,8 @@ type Result struct {
 	Undecided    [][]int       `json:"undecided"`    // unclear n above the answer
 	Spent        map[int]int64 `json:"spent"`        // replicates simulated per n
 	Total        int64         `json:"total"`
-	Method       string        `json:"method"` // how the error was spent over looks
+	Method       string        `json:"method"`      // how the error was spent over looks
+	WindowRule   string        `json:"window_rule"` // how many integers above an answer are checked
 	Z            float64       `json:"z"`
 	Exhausted    bool          `json:"exhausted"` // the -budget cap was reached
 	Workers      int           `json:"workers"`
@@ -87,7 +88,7 @@ func Run(ctx context.Context, s *study.Study, budget int64, opt runner.Options) 
 		steps: make([]int, len(s.Transforms)),
 		out: &Result{
 			Layout: Layout, Tool: runner.Version, Study: s.Info(), Spec: spec, Budget: budget,
-			Spent: map[int]int64{}, Z: z,
+			Spent: map[int]int64{}, Z: z, WindowRule: windowRule(spec, s.Discrete()),
 			Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
 		},
 	}
@@ -118,13 +119,29 @@ func normalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) 
 // Monte Carlo luck rather than oscillation. The window bounds what the
 // plan can vouch for, and is reported.
 func (p *planner) window(c int) int {
-	if p.spec.Window > 0 {
-		return p.spec.Window
+	return windowSize(p.spec, p.s.Discrete(), c)
+}
+
+// windowSize is the window above candidate c; see planner.window.
+func windowSize(spec study.PlanSpec, discrete bool, c int) int {
+	if spec.Window > 0 {
+		return spec.Window
 	}
-	if p.s.Discrete() {
+	if discrete {
 		return min(60, max(10, int(math.Ceil(0.2*float64(c)))))
 	}
 	return min(25, max(3, int(math.Ceil(0.1*float64(c)))))
+}
+
+// windowRule says in words the rule windowSize follows.
+func windowRule(spec study.PlanSpec, discrete bool) string {
+	switch {
+	case spec.Window > 0:
+		return fmt.Sprintf("%d integers", spec.Window)
+	case discrete:
+		return "20% of the answer, at least 10 and at most 60 integers (discrete data, whose coverage oscillates in n)"
+	}
+	return "10% of the answer, at least 3 and at most 25 integers"
 }
 
 func (p *planner) search(t int) error {
