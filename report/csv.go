@@ -43,13 +43,20 @@ func formatN(n int) string {
 	return strconv.Itoa(n)
 }
 
-// SummaryCSV renders summary.csv.
-func SummaryCSV(rows []sim.Row) []byte {
+// csvOf renders a CSV file: the header, then the records.
+func csvOf(header []string, records [][]string) []byte {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
-	w.Write(SummaryColumns)
-	for _, r := range rows {
-		w.Write([]string{
+	w.Write(header)
+	w.WriteAll(records) // flushes; a bytes.Buffer does not fail
+	return buf.Bytes()
+}
+
+// SummaryCSV renders summary.csv.
+func SummaryCSV(rows []sim.Row) []byte {
+	records := make([][]string, len(rows))
+	for i, r := range rows {
+		records[i] = []string{
 			r.Transform, strconv.Itoa(r.N), strconv.FormatInt(r.Replicates, 10), strconv.FormatInt(r.Undefined, 10),
 			formatFloat(r.Truth), formatFloat(r.Mean), formatFloat(r.Bias), formatFloat(r.BiasMCSE),
 			formatFloat(r.RelBias), formatFloat(r.StdBias), formatFloat(r.Bias2nd), formatFloat(r.EmpVar),
@@ -57,23 +64,19 @@ func SummaryCSV(rows []sim.Row) []byte {
 			formatFloat(r.PluginVar), formatFloat(r.PluginRatio), formatFloat(r.Coverage), formatFloat(r.CoverageMCSE),
 			formatFloat(r.MissBelow), formatFloat(r.MissAbove), formatFloat(r.RobustSE), formatFloat(r.Skewness),
 			formatFloat(r.ExKurtosis), formatFloat(r.KSPivot), string(r.Verdict),
-		})
+		}
 	}
-	w.Flush()
-	return buf.Bytes()
+	return csvOf(SummaryColumns, records)
 }
 
 // VerdictsCSV renders verdicts.csv.
 func VerdictsCSV(vs []sim.TransformVerdict) []byte {
-	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
-	w.Write(VerdictColumns)
-	for _, v := range vs {
-		w.Write([]string{
+	records := make([][]string, len(vs))
+	for i, v := range vs {
+		records[i] = []string{
 			v.Transform, formatN(v.SmallestN), string(v.Status), v.Limiting,
 			formatN(v.PerCriterion[0]), formatN(v.PerCriterion[1]), formatN(v.PerCriterion[2]),
-		})
+		}
 	}
-	w.Flush()
-	return buf.Bytes()
+	return csvOf(VerdictColumns, records)
 }

@@ -110,22 +110,19 @@ func (a trendAxes) finish(p *plot.Plot, yfloor float64) {
 	if _, isLog := p.Y.Scale.(plot.LogScale); isLog {
 		f := hi / lo
 		p.Y.Min, p.Y.Max = lo/math.Pow(f, 0.06), hi*math.Pow(f, top)
-		if a.mark > 0 {
-			p.Add(vMark{at: float64(a.mark), label: "n = " + strconv.Itoa(a.mark)})
+	} else {
+		if !math.IsNaN(yfloor) {
+			lo = math.Min(lo, yfloor)
 		}
-		return
-	}
-	if !math.IsNaN(yfloor) {
-		lo = math.Min(lo, yfloor)
-	}
-	if hi-lo < 1e-12 {
-		d := math.Max(math.Abs(hi)*0.05, 0.01)
-		lo, hi = lo-d, hi+d
-	}
-	span := hi - lo
-	p.Y.Min, p.Y.Max = lo-0.06*span, hi+top*span
-	if !math.IsNaN(yfloor) && lo >= yfloor {
-		p.Y.Min = math.Max(p.Y.Min, yfloor)
+		if hi-lo < 1e-12 {
+			d := math.Max(math.Abs(hi)*0.05, 0.01)
+			lo, hi = lo-d, hi+d
+		}
+		span := hi - lo
+		p.Y.Min, p.Y.Max = lo-0.06*span, hi+top*span
+		if !math.IsNaN(yfloor) && lo >= yfloor {
+			p.Y.Min = math.Max(p.Y.Min, yfloor)
+		}
 	}
 	if a.mark > 0 {
 		p.Add(vMark{at: float64(a.mark), label: "n = " + strconv.Itoa(a.mark)})
@@ -148,16 +145,27 @@ func column(rows []sim.Row, f func(sim.Row) float64) []float64 {
 	return out
 }
 
-// addSeries adds s to p and its entry to the legend.
-func addSeries(p *plot.Plot, legend *[]legendItem, s series) error {
-	thumbs, err := s.add(p)
-	if err != nil {
-		return fmt.Errorf("%s: %w", s.label, err)
-	}
-	if thumbs != nil {
-		*legend = append(*legend, legendItem{label: s.label, thumbs: thumbs})
+// addSeries adds each of ss to p, and its entry to the legend.
+func addSeries(p *plot.Plot, legend *[]legendItem, ss ...series) error {
+	for _, s := range ss {
+		thumbs, err := s.add(p)
+		if err != nil {
+			return fmt.Errorf("%s: %w", s.label, err)
+		}
+		if thumbs != nil {
+			*legend = append(*legend, legendItem{label: s.label, thumbs: thumbs})
+		}
 	}
 	return nil
+}
+
+// checkedSeries is criterion c's value by n, under label, with the
+// interval its verdict uses as bars.
+func checkedSeries(label string, rows []sim.Row, c int, value func(sim.Row) float64) series {
+	return series{label: label, x: xs(rows, 1), y: column(rows, value),
+		lo: column(rows, func(r sim.Row) float64 { return r.Checks[c].Low }),
+		hi: column(rows, func(r sim.Row) float64 { return r.Checks[c].High }),
+	}
 }
 
 var (
@@ -174,11 +182,7 @@ func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
 	legend := []legendItem{}
 	// The bars of the delta ratio are the interval the variance verdict
 	// uses: emp_var's Monte Carlo interval, inverted (delta_var is exact).
-	delta := series{label: "delta-method / simulated", x: xs(rows, 1),
-		y:  column(rows, func(r sim.Row) float64 { return r.VarRatio }),
-		lo: column(rows, func(r sim.Row) float64 { return r.Checks[1].Low }),
-		hi: column(rows, func(r sim.Row) float64 { return r.Checks[1].High }),
-	}
+	delta := checkedSeries("delta-method / simulated", rows, 1, func(r sim.Row) float64 { return r.VarRatio })
 	// The plug-in ratio shares emp_var as its denominator, so it takes the
 	// same relative interval. That leaves out the Monte Carlo error of the
 	// mean plug-in variance itself, an average over every replicate and far
@@ -195,10 +199,8 @@ func (a trendAxes) variancePanel(rows []sim.Row) (panel, error) {
 		hi: column(rows, func(r sim.Row) float64 { return scale(r, r.Checks[1].High) }),
 	}
 	useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, c[:])
-	for _, s := range []series{delta, plugin} {
-		if err := addSeries(p, &legend, s); err != nil {
-			return panel{}, err
-		}
+	if err := addSeries(p, &legend, delta, plugin); err != nil {
+		return panel{}, err
 	}
 	legend = append(legend, legendItem{label: "accepted " + fmtBand(c), thumbs: []plot.Thumbnailer{band}})
 	a.finish(p, math.NaN())
@@ -251,13 +253,11 @@ func (a trendAxes) missPanel(rows []sim.Row) (panel, error) {
 	above := func(r sim.Row) float64 { return r.MissAbove }
 	blo, bhi := missBars(rows, below)
 	alo, ahi := missBars(rows, above)
-	for _, s := range []series{
-		{label: "below the truth", x: xs(rows, 1), y: column(rows, below), lo: blo, hi: bhi},
-		{label: "above the truth", x: xs(rows, a.dodge), y: column(rows, above), lo: alo, hi: ahi, style: 1},
-	} {
-		if err := addSeries(p, &legend, s); err != nil {
-			return panel{}, err
-		}
+	if err := addSeries(p, &legend,
+		series{label: "below the truth", x: xs(rows, 1), y: column(rows, below), lo: blo, hi: bhi},
+		series{label: "above the truth", x: xs(rows, a.dodge), y: column(rows, above), lo: alo, hi: ahi, style: 1},
+	); err != nil {
+		return panel{}, err
 	}
 	legend = append(legend, legendItem{label: "nominal " + fmtG((1-a.level)/2) + " each", thumbs: []plot.Thumbnailer{nominal}})
 	a.finish(p, 0)
@@ -270,18 +270,12 @@ func (a trendAxes) biasPanel(rows []sim.Row) (panel, error) {
 	band := hBand{lo: -b, hi: b, color: colBand}
 	p.Add(band, hLine{at: 0, style: idealLine})
 	legend := []legendItem{}
-	sim2 := series{label: "simulated bias", x: xs(rows, 1),
-		y:  column(rows, func(r sim.Row) float64 { return r.StdBias }),
-		lo: column(rows, func(r sim.Row) float64 { return r.Checks[2].Low }),
-		hi: column(rows, func(r sim.Row) float64 { return r.Checks[2].High }),
-	}
+	sim2 := checkedSeries("simulated bias", rows, 2, func(r sim.Row) float64 { return r.StdBias })
 	pred := series{label: "second-order prediction", x: xs(rows, a.dodge), style: 1,
 		y: column(rows, func(r sim.Row) float64 { return r.Bias2nd / math.Sqrt(r.DeltaVar) }),
 	}
-	for _, s := range []series{sim2, pred} {
-		if err := addSeries(p, &legend, s); err != nil {
-			return panel{}, err
-		}
+	if err := addSeries(p, &legend, sim2, pred); err != nil {
+		return panel{}, err
 	}
 	legend = append(legend, legendItem{label: "accepted ±" + fmtG(b), thumbs: []plot.Thumbnailer{band}})
 	a.finish(p, math.NaN())

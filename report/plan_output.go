@@ -1,8 +1,6 @@
 package report
 
 import (
-	"bytes"
-	"encoding/csv"
 	"fmt"
 	"io"
 	"os"
@@ -20,19 +18,16 @@ var PlanColumns = []string{"transform", "step", "n", "replicates", "coverage", "
 // PlanCSV renders plan.csv: every evaluation, per transform, in
 // evaluation order.
 func PlanCSV(p *sim.PlanResult) []byte {
-	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
-	w.Write(PlanColumns)
-	for _, st := range p.Steps {
+	records := make([][]string, len(p.Steps))
+	for i, st := range p.Steps {
 		r := st.Row
-		w.Write([]string{
+		records[i] = []string{
 			st.Transform, strconv.Itoa(st.Step), strconv.Itoa(st.N), strconv.FormatInt(st.Replicates, 10),
 			formatFloat(r.Coverage), formatFloat(r.CoverageMCSE), formatFloat(r.VarRatio), formatFloat(r.VarRatioMCSE),
 			formatFloat(r.StdBias), formatFloat(r.StdBiasMCSE), string(r.Verdict),
-		})
+		}
 	}
-	w.Flush()
-	return buf.Bytes()
+	return csvOf(PlanColumns, records)
 }
 
 // WritePlan writes plan.csv, verdicts.csv, the plan's figure of every
