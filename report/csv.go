@@ -75,35 +75,38 @@ func formatN(n int) string {
 	return strconv.Itoa(n)
 }
 
-// SummaryCSV renders summary.csv.
-func SummaryCSV(rows []measure.Row) []byte {
+// csvOf renders a CSV file: the header, then the records.
+func csvOf(header []string, records [][]string) []byte {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
-	w.Write(SummaryColumns)
+	w.Write(header)
+	w.WriteAll(records) // flushes; a bytes.Buffer does not fail
+	return buf.Bytes()
+}
+
+// SummaryCSV renders summary.csv.
+func SummaryCSV(rows []measure.Row) []byte {
 	ms := summaryMeasures()
-	for _, r := range rows {
+	records := make([][]string, len(rows))
+	for i, r := range rows {
 		rec := []string{r.Transform, strconv.Itoa(r.N)}
 		for _, m := range ms {
 			rec = append(rec, formatMeasure(m, r))
 		}
-		w.Write(append(rec, string(r.Verdict)))
+		records[i] = append(rec, string(r.Verdict))
 	}
-	w.Flush()
-	return buf.Bytes()
+	return csvOf(SummaryColumns, records)
 }
 
 // VerdictsCSV renders verdicts.csv.
 func VerdictsCSV(vs []measure.TransformVerdict) []byte {
-	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
-	w.Write(VerdictColumns)
-	for _, v := range vs {
+	records := make([][]string, len(vs))
+	for i, v := range vs {
 		rec := []string{v.Transform, formatN(v.SmallestN), string(v.Status), v.Limiting}
 		for _, n := range v.PerCriterion {
 			rec = append(rec, formatN(n))
 		}
-		w.Write(rec)
+		records[i] = rec
 	}
-	w.Flush()
-	return buf.Bytes()
+	return csvOf(VerdictColumns, records)
 }

@@ -112,22 +112,19 @@ func (a trendAxes) finish(p *plot.Plot, yfloor float64) {
 	if _, isLog := p.Y.Scale.(plot.LogScale); isLog {
 		f := hi / lo
 		p.Y.Min, p.Y.Max = lo/math.Pow(f, 0.06), hi*math.Pow(f, top)
-		if a.mark > 0 {
-			p.Add(vMark{at: float64(a.mark), label: "n = " + strconv.Itoa(a.mark)})
+	} else {
+		if !math.IsNaN(yfloor) {
+			lo = math.Min(lo, yfloor)
 		}
-		return
-	}
-	if !math.IsNaN(yfloor) {
-		lo = math.Min(lo, yfloor)
-	}
-	if hi-lo < 1e-12 {
-		d := math.Max(math.Abs(hi)*0.05, 0.01)
-		lo, hi = lo-d, hi+d
-	}
-	span := hi - lo
-	p.Y.Min, p.Y.Max = lo-0.06*span, hi+top*span
-	if !math.IsNaN(yfloor) && lo >= yfloor {
-		p.Y.Min = math.Max(p.Y.Min, yfloor)
+		if hi-lo < 1e-12 {
+			d := math.Max(math.Abs(hi)*0.05, 0.01)
+			lo, hi = lo-d, hi+d
+		}
+		span := hi - lo
+		p.Y.Min, p.Y.Max = lo-0.06*span, hi+top*span
+		if !math.IsNaN(yfloor) && lo >= yfloor {
+			p.Y.Min = math.Max(p.Y.Min, yfloor)
+		}
 	}
 	if a.mark > 0 {
 		p.Add(vMark{at: float64(a.mark), label: "n = " + strconv.Itoa(a.mark)})
@@ -150,16 +147,28 @@ func column(rows []measure.Row, f func(measure.Row) float64) []float64 {
 	return out
 }
 
-// addSeries adds s to p and its entry to the legend.
-func addSeries(p *plot.Plot, legend *[]legendItem, s series) error {
-	thumbs, err := s.add(p)
-	if err != nil {
-		return fmt.Errorf("%s: %w", s.label, err)
-	}
-	if thumbs != nil {
-		*legend = append(*legend, legendItem{label: s.label, thumbs: thumbs})
+// addSeries adds each of ss to p, and its entry to the legend.
+func addSeries(p *plot.Plot, legend *[]legendItem, ss ...series) error {
+	for _, s := range ss {
+		thumbs, err := s.add(p)
+		if err != nil {
+			return fmt.Errorf("%s: %w", s.label, err)
+		}
+		if thumbs != nil {
+			*legend = append(*legend, legendItem{label: s.label, thumbs: thumbs})
+		}
 	}
 	return nil
+}
+
+// checkedSeries is criterion cr's measure by n, under label, with the
+// interval its verdict uses as bars.
+func checkedSeries(label string, rows []measure.Row, cr *measure.Criterion) series {
+	return series{label: label, x: xs(rows, 1),
+		y:  column(rows, func(r measure.Row) float64 { return r.Get(cr.Measure) }),
+		lo: column(rows, func(r measure.Row) float64 { return r.Check(cr).Low }),
+		hi: column(rows, func(r measure.Row) float64 { return r.Check(cr).High }),
+	}
 }
 
 var (
@@ -176,11 +185,7 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 	legend := []legendItem{}
 	// The bars of the delta ratio are the interval the variance verdict
 	// uses: emp_var's Monte Carlo interval, inverted (delta_var is exact).
-	delta := series{label: "delta-method / simulated", x: xs(rows, 1),
-		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.VarRatio) }),
-		lo: column(rows, func(r measure.Row) float64 { return r.Check(measure.VarianceCheck).Low }),
-		hi: column(rows, func(r measure.Row) float64 { return r.Check(measure.VarianceCheck).High }),
-	}
+	delta := checkedSeries("delta-method / simulated", rows, measure.VarianceCheck)
 	// The plug-in ratio shares emp_var as its denominator, so it takes the
 	// same relative interval. That leaves out the Monte Carlo error of the
 	// mean plug-in variance itself, an average over every replicate and far
@@ -197,10 +202,8 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).High) }),
 	}
 	useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, c[:])
-	for _, s := range []series{delta, plugin} {
-		if err := addSeries(p, &legend, s); err != nil {
-			return panel{}, err
-		}
+	if err := addSeries(p, &legend, delta, plugin); err != nil {
+		return panel{}, err
 	}
 	legend = append(legend, legendItem{label: "accepted " + fmtBand(c), thumbs: []plot.Thumbnailer{band}})
 	a.finish(p, math.NaN())
@@ -214,11 +217,7 @@ func (a trendAxes) coveragePanel(rows []measure.Row) (panel, error) {
 	nominal := hLine{at: a.level, style: refStyle}
 	p.Add(band, nominal)
 	legend := []legendItem{}
-	cov := series{label: "simulated coverage", x: xs(rows, 1),
-		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.Coverage) }),
-		lo: column(rows, func(r measure.Row) float64 { return r.Check(measure.CoverageCheck).Low }),
-		hi: column(rows, func(r measure.Row) float64 { return r.Check(measure.CoverageCheck).High }),
-	}
+	cov := checkedSeries("simulated coverage", rows, measure.CoverageCheck)
 	if err := addSeries(p, &legend, cov); err != nil {
 		return panel{}, err
 	}
@@ -253,13 +252,11 @@ func (a trendAxes) missPanel(rows []measure.Row) (panel, error) {
 	above := func(r measure.Row) float64 { return r.Get(measure.MissAbove) }
 	blo, bhi := missBars(rows, below)
 	alo, ahi := missBars(rows, above)
-	for _, s := range []series{
-		{label: "below the truth", x: xs(rows, 1), y: column(rows, below), lo: blo, hi: bhi},
-		{label: "above the truth", x: xs(rows, a.dodge), y: column(rows, above), lo: alo, hi: ahi, style: 1},
-	} {
-		if err := addSeries(p, &legend, s); err != nil {
-			return panel{}, err
-		}
+	if err := addSeries(p, &legend,
+		series{label: "below the truth", x: xs(rows, 1), y: column(rows, below), lo: blo, hi: bhi},
+		series{label: "above the truth", x: xs(rows, a.dodge), y: column(rows, above), lo: alo, hi: ahi, style: 1},
+	); err != nil {
+		return panel{}, err
 	}
 	legend = append(legend, legendItem{label: "nominal " + fmtG((1-a.level)/2) + " each", thumbs: []plot.Thumbnailer{nominal}})
 	a.finish(p, 0)
@@ -272,18 +269,12 @@ func (a trendAxes) biasPanel(rows []measure.Row) (panel, error) {
 	band := hBand{lo: -b, hi: b, color: colBand}
 	p.Add(band, hLine{at: 0, style: idealLine})
 	legend := []legendItem{}
-	sim2 := series{label: "simulated bias", x: xs(rows, 1),
-		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.StdBias) }),
-		lo: column(rows, func(r measure.Row) float64 { return r.Check(measure.BiasCheck).Low }),
-		hi: column(rows, func(r measure.Row) float64 { return r.Check(measure.BiasCheck).High }),
-	}
+	sim2 := checkedSeries("simulated bias", rows, measure.BiasCheck)
 	pred := series{label: "second-order prediction", x: xs(rows, a.dodge), style: 1,
 		y: column(rows, func(r measure.Row) float64 { return r.Get(measure.Bias2nd) / math.Sqrt(r.Get(measure.DeltaVar)) }),
 	}
-	for _, s := range []series{sim2, pred} {
-		if err := addSeries(p, &legend, s); err != nil {
-			return panel{}, err
-		}
+	if err := addSeries(p, &legend, sim2, pred); err != nil {
+		return panel{}, err
 	}
 	legend = append(legend, legendItem{label: "accepted ±" + fmtG(b), thumbs: []plot.Thumbnailer{band}})
 	a.finish(p, math.NaN())

@@ -1,8 +1,6 @@
 package report
 
 import (
-	"bytes"
-	"encoding/csv"
 	"fmt"
 	"io"
 	"os"
@@ -32,18 +30,15 @@ func planColumns() []string {
 // PlanCSV renders plan.csv: every evaluation, per transform, in
 // evaluation order.
 func PlanCSV(p *plan.Result) []byte {
-	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
-	w.Write(PlanColumns)
-	for _, st := range p.Steps {
+	records := make([][]string, len(p.Steps))
+	for i, st := range p.Steps {
 		rec := []string{st.Transform, strconv.Itoa(st.Step), strconv.Itoa(st.N), strconv.FormatInt(st.Replicates, 10)}
 		for _, c := range measure.Criteria() {
 			rec = append(rec, formatMeasure(c.Measure, st.Row), formatMeasure(c.MCSE, st.Row))
 		}
-		w.Write(append(rec, string(st.Row.Verdict)))
+		records[i] = append(rec, string(st.Row.Verdict))
 	}
-	w.Flush()
-	return buf.Bytes()
+	return csvOf(PlanColumns, records)
 }
 
 // WritePlan writes, from the saved plan p, plan.csv, verdicts.csv, the plan's figure of every
