@@ -16,8 +16,9 @@ base=${1:-HEAD~1}
 quick=""
 [ "${2:-}" = "-quick" ] && quick="-replicates 2000"
 
+repo=$(pwd)
 work=$(mktemp -d)
-trap 'git worktree remove --force "$work/base-src" >/dev/null 2>&1 || true; rm -rf "$work"' EXIT
+trap 'git -C "$repo" worktree remove --force "$work/base-src" >/dev/null 2>&1 || true; rm -rf "$work"' EXIT
 git worktree add --detach "$work/base-src" "$base" >/dev/null 2>&1
 (cd "$work/base-src" && go build -o "$work/old.bin" ./cmd/deltaprobe)
 go build -o "$work/new.bin" ./cmd/deltaprobe
