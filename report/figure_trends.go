@@ -57,7 +57,7 @@ func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
 	}
 }
 
-// newTrendPanel is a panel with the shared log n axis.
+// newPanel is a panel with the trend figure's shared log n axis.
 func (a trendAxes) newPanel(ylabel string) *plot.Plot {
 	p := newPanel()
 	p.X.Scale = plot.LogScale{}

@@ -32,14 +32,17 @@ const (
 const usage = `deltaprobe checks whether the delta-method approximation holds at your n.
 
 usage:
-  deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet] [-dry-run]
-  deltaprobe run -resume DIR        continue an interrupted run
-  deltaprobe run STUDY.toml -shard K/N -o DIR   run one shard of a job array (-shard auto reads the index)
-  deltaprobe merge -o DIR [-partial] PART...    merge shards' result.json files (or their folders)
+  deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
+                            [-dry-run] [-checkpoint 5s] [-shard K/N | -shard auto [-shards N]]
+                                    simulate the study's grid of sample sizes
+  deltaprobe run -resume DIR        continue an interrupted run (or shard)
+  deltaprobe merge -o DIR [-partial] [-force] PART...
+                                    merge shards' result.json files (or their folders)
   deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
                                     search for the smallest adequate n ([plan] table)
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
-  deltaprobe report DIR             rewrite the CSV files, figures and page from DIR/result.json
+  deltaprobe report DIR             rewrite the tables, figures and page of a run folder
+                                    (DIR/result.json) or a plan folder (DIR/plan.json)
   deltaprobe families               the data-generating families and their estimators
   deltaprobe version
 

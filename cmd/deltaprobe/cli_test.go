@@ -101,7 +101,7 @@ func writeStudy(t *testing.T, text string) string {
 func TestRunGolden(t *testing.T) {
 	study := writeStudy(t, smallStudy)
 	out := filepath.Join(t.TempDir(), "out")
-	// Flags after the study file must work (design brief).
+	// Flags after the study file must work (the README's Commands section).
 	code, stdout, stderr := runCLI(t, "run", study, "-o", out, "-quiet", "-workers", "2")
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, stderr)
@@ -275,5 +275,35 @@ func TestReportFromSavedResult(t *testing.T) {
 	}
 	if code, _, _ := runCLI(t, "report", t.TempDir()); code != exitUsage {
 		t.Errorf("report on a folder without result.json: exit %d, want %d", code, exitUsage)
+	}
+}
+
+// The package comment lists every command line of the usage text, so the
+// two cannot drift apart.
+func TestDocListsEveryCommand(t *testing.T) {
+	doc, err := os.ReadFile("main.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, line := range strings.Split(usage, "\n") {
+		if !strings.HasPrefix(line, "  deltaprobe ") {
+			continue
+		}
+		// The command and its first argument if it has one, e.g.
+		// "deltaprobe run -resume"; a lower-case word after the command
+		// begins its description.
+		fields := strings.Fields(line)
+		if len(fields) > 2 && fields[2] == strings.ToLower(fields[2]) && !strings.HasPrefix(fields[2], "-") {
+			fields = fields[:2]
+		}
+		want := strings.Join(fields[:min(3, len(fields))], " ")
+		if !strings.Contains(string(doc), "//\t"+want) {
+			t.Errorf("main.go's package comment lacks %q from the usage text", want)
+		}
+	}
+	for _, flag := range []string{"-checkpoint", "-shards", "-partial", "-force", "-budget", "-resume", "-dry-run"} {
+		if !strings.Contains(usage, flag) || !strings.Contains(string(doc), flag) {
+			t.Errorf("flag %s missing from the usage text or the package comment", flag)
+		}
 	}
 }

@@ -5,8 +5,17 @@
 // Usage:
 //
 //	deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
+//	                          [-dry-run] [-checkpoint 5s] [-shard K/N | -shard auto [-shards N]]
+//	deltaprobe run -resume DIR
+//	deltaprobe merge -o DIR [-partial] [-force] PART...
+//	deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
 //	deltaprobe predict STUDY.toml
+//	deltaprobe report DIR
 //	deltaprobe families
+//	deltaprobe version
+//
+// The whole command is run(args, stdout, stderr) in cli.go, so tests drive
+// it in-process; this file is its shell.
 package main
 
 import (

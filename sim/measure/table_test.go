@@ -5,9 +5,9 @@ import (
 	"testing"
 )
 
-// The order of the tables is a contract: summary.csv's columns, and
-// verdicts.csv's n_NAME columns (the design brief of the project's shared
-// documents; also the golden files of cmd/deltaprobe).
+// The order of the tables is a contract relied on outside the code:
+// summary.csv's columns and verdicts.csv's n_NAME columns, as the README
+// lists them and cmd/deltaprobe's golden files hold them.
 func TestTableOrder(t *testing.T) {
 	var columns, internal []string
 	for i, m := range Measures() {

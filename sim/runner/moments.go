@@ -43,10 +43,10 @@ func (m *Moments) Var() float64 { return m.M2 / float64(m.N-1) }
 // two-pass algorithm (Chan, Golub & LeVeque 1983, The American
 // Statistician 37:242–247, from memory): the mean first, then the central
 // power sums about it, then an exact shift to the mean corrected for the
-// rounding left in it (e = Σd/n, Σ(d−e)^k expanded). It is the
-// block-at-a-time counterpart of Add: per value a handful of independent
-// multiply-adds instead of a dependent chain through a division, and at
-// least as accurate.
+// rounding left in it (e = Σd/n, Σ(d−e)^k expanded). It replaces
+// Welford's per-value update, which the runner once used: per value a
+// handful of independent multiply-adds instead of a dependent chain
+// through a division, and at least as accurate.
 func momentsOf(xs []float64) Moments {
 	if len(xs) == 0 {
 		return Moments{}
