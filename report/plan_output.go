@@ -3,15 +3,12 @@ package report
 import (
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 	"text/tabwriter"
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
-	"deltaprobe/sim/runner"
 )
 
 // PlanColumns is the header of plan.csv: each criterion's measure and its
@@ -39,35 +36,6 @@ func PlanCSV(p *plan.Result) []byte {
 		records[i] = append(rec, string(st.Row.Verdict))
 	}
 	return csvOf(PlanColumns, records)
-}
-
-// WritePlan writes, from the saved plan p, plan.csv, verdicts.csv, the plan's figure of every
-// transform and index.html into dir, each file atomically. The page goes
-// last, so a page on disk never points at a figure that is not there yet.
-func WritePlan(dir string, p *plan.Result) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return fmt.Errorf("creating output folder: %w", err)
-	}
-	if err := runner.WriteFileAtomic(filepath.Join(dir, "plan.csv"), PlanCSV(p)); err != nil {
-		return err
-	}
-	if err := runner.WriteFileAtomic(filepath.Join(dir, "verdicts.csv"), VerdictsCSV(p.Verdicts)); err != nil {
-		return err
-	}
-	figs, err := PlanFigures(p)
-	if err != nil {
-		return err
-	}
-	for _, f := range figs {
-		if err := runner.WriteFileAtomic(filepath.Join(dir, f.File), f.PNG); err != nil {
-			return err
-		}
-	}
-	page, err := PlanPage(p, figs)
-	if err != nil {
-		return err
-	}
-	return runner.WriteFileAtomic(filepath.Join(dir, PageFile), page)
 }
 
 // PlanTable prints, per transform, the answer, what limits it, the

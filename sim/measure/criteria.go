@@ -42,11 +42,9 @@ type Criterion struct {
 
 var criteria []*Criterion
 
+// defineCriterion adds a criterion to the table.
 func defineCriterion(c Criterion) *Criterion {
-	c.index = len(criteria)
-	p := &c
-	criteria = append(criteria, p)
-	return p
+	return appendEntry(&criteria, c, func(c *Criterion, i int) { c.index = i })
 }
 
 // Criteria returns every criterion, in table order.

@@ -6,25 +6,16 @@ import (
 	"strings"
 	"testing"
 
+	"deltaprobe/internal/studytest"
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
-	"deltaprobe/sim/study"
 )
-
-func parse(t testing.TB, src string) *study.Study {
-	t.Helper()
-	s, err := study.Parse("test.toml", []byte(src))
-	if err != nil {
-		t.Fatalf("parse: %v", err)
-	}
-	return s
-}
 
 // 1/Ȳ of normal data has no finite moments (Ȳ has positive density at 0;
 // references: derived), so at small n the run must flag heavy tails and
 // must not pass the variance criterion by luck.
 func TestReciprocalOfNormalMeanIsFlaggedHeavyTailed(t *testing.T) {
-	s := parse(t, `seed = 4
+	s := studytest.Parse(t, `seed = 4
 replicates = 20000
 sample_sizes = [4, 16]
 [model]

@@ -50,11 +50,17 @@ func (c *Cell) defined(k int64) bool { return c.Moments.N >= k }
 // table holds every measure in declaration order.
 var table []*Measure
 
+// define adds a measure to the table.
 func define(m Measure) *Measure {
-	m.index = len(table)
-	p := &m
-	table = append(table, p)
-	return p
+	return appendEntry(&table, m, func(m *Measure, i int) { m.index = i })
+}
+
+// appendEntry adds e to a table, telling it its place first, and returns
+// the entry that the table holds.
+func appendEntry[T any](table *[]*T, e T, place func(*T, int)) *T {
+	place(&e, len(*table))
+	*table = append(*table, &e)
+	return &e
 }
 
 // Measures returns every measure, in table order.

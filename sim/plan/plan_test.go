@@ -7,6 +7,7 @@ import (
 	"slices"
 	"testing"
 
+	"deltaprobe/internal/studytest"
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
 	"deltaprobe/sim/study"
@@ -16,7 +17,7 @@ import (
 
 func runPlan(t *testing.T, src string) (*study.Study, *Result) {
 	t.Helper()
-	s := mustParse(t, src)
+	s := studytest.Parse(t, src)
 	p, err := Run(context.Background(), s, 0, runner.Options{Workers: 2})
 	if err != nil {
 		t.Fatal(err)
@@ -227,7 +228,7 @@ name = "logit"
 expr = "logit(p)"
 `
 	_, a := runPlan(t, src)
-	s := mustParse(t, src)
+	s := studytest.Parse(t, src)
 	b, err := Run(context.Background(), s, 0, runner.Options{Workers: 1})
 	if err != nil {
 		t.Fatal(err)
@@ -276,7 +277,7 @@ expr = "1 / mean"
 }
 
 func TestPlanBudgetLeavesUndecided(t *testing.T) {
-	s := mustParse(t, `seed = 5
+	s := studytest.Parse(t, `seed = 5
 [plan]
 n_min = 10
 n_max = 400
@@ -302,7 +303,7 @@ expr = "rate"
 
 // A pass whose window the budget left unchecked is not an answer.
 func TestPlanBudgetCutWindowIsUnclear(t *testing.T) {
-	s := mustParse(t, `seed = 5
+	s := studytest.Parse(t, `seed = 5
 [plan]
 n_min = 100
 n_max = 400
@@ -389,13 +390,4 @@ expr = "p"
 			}
 		}
 	}
-}
-
-func mustParse(t testing.TB, src string) *study.Study {
-	t.Helper()
-	s, err := study.Parse("test.toml", []byte(src))
-	if err != nil {
-		t.Fatalf("parse: %v", err)
-	}
-	return s
 }

@@ -1,8 +1,6 @@
 package runner
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -201,26 +199,13 @@ func (b *BlockStat) UnmarshalJSON(data []byte) error {
 
 // SaveResult writes r to path atomically: a temporary file in the same
 // folder, renamed over the target, so a crash never leaves half a file.
-func SaveResult(path string, r *Result) error {
-	b, err := json.MarshalIndent(r, "", " ")
-	if err != nil {
-		return fmt.Errorf("encoding result: %w", err)
-	}
-	return WriteFileAtomic(path, append(b, '\n'))
-}
+func SaveResult(path string, r *Result) error { return SaveState(path, "result", r) }
 
 // LoadResult reads a result file written by SaveResult.
 func LoadResult(path string) (*Result, error) {
-	b, err := os.ReadFile(path)
-	if err != nil {
-		return nil, fmt.Errorf("reading result: %w", err)
-	}
 	var r Result
-	if err := json.Unmarshal(b, &r); err != nil {
-		return nil, fmt.Errorf("%s is not a valid result file: %w", path, err)
-	}
-	if sum := sha256.Sum256([]byte(r.Study.Source)); hex.EncodeToString(sum[:]) != r.Study.SHA256 {
-		return nil, fmt.Errorf("%s has been edited: its study text does not match its SHA-256 %.12s…", path, r.Study.SHA256)
+	if err := LoadState(path, "result", &r, func() study.Info { return r.Study }); err != nil {
+		return nil, err
 	}
 	if r.Layout != ResultVersion {
 		return nil, fmt.Errorf("%s has result layout %d; this deltaprobe reads layout %d", path, r.Layout, ResultVersion)
@@ -234,6 +219,33 @@ func LoadResult(path string) (*Result, error) {
 		}
 	}
 	return &r, nil
+}
+
+// SaveState writes a saved state (a run's result, a plan) to path as
+// indented JSON, atomically; what names the kind of state in errors.
+func SaveState(path, what string, v any) error {
+	b, err := json.MarshalIndent(v, "", " ")
+	if err != nil {
+		return fmt.Errorf("encoding %s: %w", what, err)
+	}
+	return WriteFileAtomic(path, append(b, '\n'))
+}
+
+// LoadState reads the state at path into v and refuses it when the study
+// text it carries (info, read after decoding) no longer matches its
+// SHA-256: such a file was edited, and its numbers belong to no study.
+func LoadState(path, what string, v any, info func() study.Info) error {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return fmt.Errorf("reading %s: %w", what, err)
+	}
+	if err := json.Unmarshal(b, v); err != nil {
+		return fmt.Errorf("%s is not a valid %s file: %w", path, what, err)
+	}
+	if st := info(); study.SHA256Of(st.Source) != st.SHA256 {
+		return fmt.Errorf("%s has been edited: its study text does not match its SHA-256 %.12s…", path, st.SHA256)
+	}
+	return nil
 }
 
 // WriteFileAtomic writes data to a temporary file beside path and renames

@@ -7,18 +7,9 @@ import (
 	"strings"
 	"testing"
 
+	"deltaprobe/internal/studytest"
 	"deltaprobe/sim/family"
-	"deltaprobe/sim/study"
 )
-
-func mustParse(t testing.TB, src string) *study.Study {
-	t.Helper()
-	s, err := study.Parse("test.toml", []byte(src))
-	if err != nil {
-		t.Fatalf("parse: %v", err)
-	}
-	return s
-}
 
 const twoArmStudy = `seed = 9
 replicates = 2500
@@ -49,7 +40,7 @@ expr = "log(a.sd) - log(b.sd)"
 // One replicate (draw, fit, every transform, every accumulator) allocates
 // nothing: the hot path's buffers belong to the worker.
 func TestReplicateAllocatesNothing(t *testing.T) {
-	s := mustParse(t, twoArmStudy)
+	s := studytest.Parse(t, twoArmStudy)
 	w := newWorker(s, NewResult(s))
 	w.runBlock(job{ni: 0, block: 0, count: 10})
 	if allocs := testing.AllocsPerRun(200, w.replicate); allocs != 0 {
@@ -58,7 +49,7 @@ func TestReplicateAllocatesNothing(t *testing.T) {
 }
 
 func TestRunCountsEveryReplicate(t *testing.T) {
-	s := mustParse(t, twoArmStudy)
+	s := studytest.Parse(t, twoArmStudy)
 	res, err := Run(context.Background(), s, Options{Workers: 2})
 	if err != nil {
 		t.Fatal(err)
@@ -82,7 +73,7 @@ func TestRunCountsEveryReplicate(t *testing.T) {
 }
 
 func TestRunStopsWhenCancelled(t *testing.T) {
-	s := mustParse(t, twoArmStudy)
+	s := studytest.Parse(t, twoArmStudy)
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
 	res, err := Run(ctx, s, Options{Workers: 2})
@@ -111,7 +102,7 @@ func (p *panicModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
 // A panic inside a worker fails the run with the cell named, instead of
 // killing the process or hanging the pool.
 func TestRunRecoversWorkerPanic(t *testing.T) {
-	s := mustParse(t, twoArmStudy)
+	s := studytest.Parse(t, twoArmStudy)
 	s.Arms[0].Model = &panicModel{Model: s.Arms[0].Model}
 	_, err := Run(context.Background(), s, Options{Workers: 1})
 	if err == nil || !strings.Contains(err.Error(), "boom") || !strings.Contains(err.Error(), "n=60, block 0, replicate 2, fitting arm a (normal)") {
@@ -133,7 +124,7 @@ func TestBlockSeedsDiffer(t *testing.T) {
 }
 
 func BenchmarkReplicate(b *testing.B) {
-	s := mustParse(b, twoArmStudy)
+	s := studytest.Parse(b, twoArmStudy)
 	w := newWorker(s, NewResult(s))
 	w.runBlock(job{ni: 1, block: 0, count: 1})
 	b.ReportAllocs()

@@ -169,14 +169,20 @@ func Parse(name string, src []byte) (*Study, error) {
 		}
 		return nil, StudyErrors{{File: name, Msg: "not valid TOML: " + err.Error()}}
 	}
-	sum := sha256.Sum256(src)
 	d := &decoder{file: name, lines: scanKeyLines(src)}
-	s := &Study{File: name, Source: src, SHA256: hex.EncodeToString(sum[:])}
+	s := &Study{File: name, Source: src, SHA256: SHA256Of(string(src))}
 	d.study(raw, s)
 	if len(d.errs) > 0 {
 		return nil, d.errs.sorted()
 	}
 	return s, nil
+}
+
+// SHA256Of is the hex SHA-256 digest of a study file's text, as results
+// record it.
+func SHA256Of(src string) string {
+	sum := sha256.Sum256([]byte(src))
+	return hex.EncodeToString(sum[:])
 }
 
 // decoder walks the generic TOML tree, collecting every problem.
