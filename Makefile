@@ -24,9 +24,9 @@ fuzz:
 	$(GO) test ./sim/expr -run='^$$' -fuzz=FuzzCompile -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 	$(GO) test ./sim/study -run='^$$' -fuzz=FuzzParse -fuzztime=$(FUZZTIME) -fuzzminimizetime=5s
 
-# The performance benchmark: sim.Run against the hand-written floor loop on
+# The performance benchmark: runner.Run against the hand-written floor loop on
 # studies/bench_reference.toml in one process (cmd/deltabench), memory at
-# 10^4 and 10^6 replicates per n (sim.Run alone and `deltaprobe run`), then
+# 10^4 and 10^6 replicates per n (runner.Run alone and `deltaprobe run`), then
 # the parts (sampling, transforms, accumulators, one replicate) with
 # -benchmem. All of it goes to bench.txt. The machine may be shared: read
 # the medians, and the share of CPU other processes took, which it prints.
