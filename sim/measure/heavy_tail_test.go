@@ -6,9 +6,9 @@ import (
 	"strings"
 	"testing"
 
-	"deltaprobe/internal/studytest"
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study/studytest"
 )
 
 // 1/Ȳ of normal data has no finite moments (Ȳ has positive density at 0;

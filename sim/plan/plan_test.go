@@ -7,10 +7,10 @@ import (
 	"slices"
 	"testing"
 
-	"deltaprobe/internal/studytest"
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
 	"deltaprobe/sim/study"
+	"deltaprobe/sim/study/studytest"
 
 	"gonum.org/v1/gonum/stat/distuv"
 )

@@ -7,8 +7,8 @@ import (
 	"strings"
 	"testing"
 
-	"deltaprobe/internal/studytest"
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/study/studytest"
 )
 
 const twoArmStudy = `seed = 9
