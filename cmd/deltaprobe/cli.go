@@ -493,6 +493,10 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 	if _, err := os.Stat(filepath.Join(dir, plan.File)); err == nil {
 		return reportPlan(dir, stdout, stderr)
 	}
+	if _, err := os.Stat(filepath.Join(dir, "result.json")); errors.Is(err, os.ErrNotExist) {
+		fmt.Fprintf(stderr, "deltaprobe report: %s holds neither result.json (a run's state) nor %s (a plan's): give the folder a run or plan wrote\n", dir, plan.File)
+		return exitUsage
+	}
 	res, err := runner.LoadResult(filepath.Join(dir, "result.json"))
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
