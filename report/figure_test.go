@@ -83,17 +83,9 @@ func checkPNG(t *testing.T, name string, b []byte, wantW, wantH int) {
 }
 
 func TestFigures(t *testing.T) {
-	tests := []struct {
-		name  string
-		study string
-	}{
-		{"two transforms", studyFuel},
-		{"heavy tails, many n", studyHeavy},
-		{"one n", studyOne},
-	}
-	for _, tc := range tests {
+	for _, tc := range runCases {
 		t.Run(tc.name, func(t *testing.T) {
-			r := runStudy(t, tc.study)
+			r := storedRun(t, tc.dir)
 			figs, err := Figures(r)
 			if err != nil {
 				t.Fatal(err)
@@ -138,7 +130,7 @@ func TestFigures(t *testing.T) {
 // Figures must be a pure function of the result: the same bytes on every
 // run, and the same after the result has been saved and loaded again.
 func TestFiguresDeterministic(t *testing.T) {
-	r := runStudy(t, studyFuel)
+	r := storedRun(t, "run-small")
 	first, err := Figures(r)
 	if err != nil {
 		t.Fatal(err)
@@ -234,8 +226,10 @@ func TestStepTicks(t *testing.T) {
 	}
 }
 
+// The heavy-tailed run has pivots beyond the histogram's range, so the
+// share outside counts.
 func TestRebin(t *testing.T) {
-	r := runStudy(t, studyHeavy)
+	r := storedRun(t, "run-heavy")
 	for ni, n := range r.Study.SampleSizes {
 		h := &r.Cells[0][ni].Delta
 		for _, w := range []float64{0.2, 0.25, 0.5, 1} {

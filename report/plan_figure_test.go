@@ -28,7 +28,7 @@ func TestPlanCasesAreWhatTheySay(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.c.name, func(t *testing.T) {
-			_, p := runPlan(t, tc.c)
+			_, p := storedPlan(t, tc.c.dir)
 			if p.Exhausted != tc.exhausted {
 				t.Errorf("budget exhausted = %v, want %v", p.Exhausted, tc.exhausted)
 			}
@@ -44,7 +44,7 @@ func TestPlanCasesAreWhatTheySay(t *testing.T) {
 func TestPlanFigures(t *testing.T) {
 	for _, c := range planCases {
 		t.Run(c.name, func(t *testing.T) {
-			s, p := runPlan(t, c)
+			s, p := storedPlan(t, c.dir)
 			figs, err := PlanFigures(p)
 			if err != nil {
 				t.Fatal(err)
@@ -77,7 +77,7 @@ func TestPlanFigures(t *testing.T) {
 
 // Figures are a pure function of the study and the plan.
 func TestPlanFiguresDeterministic(t *testing.T) {
-	_, p := runPlan(t, planCases[0])
+	_, p := storedPlan(t, planCases[0].dir)
 	a, b := renderTwice(t, func() ([]Figure, error) { return PlanFigures(p) })
 	for i := range a {
 		if !bytes.Equal(a[i].PNG, b[i].PNG) {
