@@ -1,6 +1,9 @@
 package report
 
 import (
+	"bytes"
+	"os"
+	"path/filepath"
 	"sync"
 	"testing"
 )
@@ -56,6 +59,53 @@ func (o *once[K, V]) get(key K, compute func() V) V {
 	v := compute()
 	o.done[key] = v
 	return v
+}
+
+var runFigures, planFigures once[string, []Figure]
+
+// storedFigures returns the figures of the run stored in testdata/dir,
+// rendered once per test binary: rendering, not loading, is what the
+// report's tests spend their time on, so a test that needs figures only as
+// input takes these.
+func storedFigures(t testing.TB, dir string) []Figure {
+	t.Helper()
+	return runFigures.get(dir, func() []Figure {
+		figs, err := Figures(storedRun(t, dir))
+		if err != nil {
+			t.Fatalf("%s: %v", dir, err)
+		}
+		return figs
+	})
+}
+
+// storedPlanFigures returns the figures of the plan stored in
+// testdata/dir, rendered once per test binary.
+func storedPlanFigures(t testing.TB, dir string) []Figure {
+	t.Helper()
+	return planFigures.get(dir, func() []Figure {
+		_, p := storedPlan(t, dir)
+		figs, err := PlanFigures(p)
+		if err != nil {
+			t.Fatalf("%s: %v", dir, err)
+		}
+		return figs
+	})
+}
+
+// sameFiles checks that each figure was written into dir with the same
+// bytes as figs holds: a second rendering of the same input.
+func sameFiles(t *testing.T, dir string, figs []Figure) {
+	t.Helper()
+	for _, f := range figs {
+		b, err := os.ReadFile(filepath.Join(dir, f.File))
+		if err != nil {
+			t.Error(err)
+			continue
+		}
+		if !bytes.Equal(b, f.PNG) {
+			t.Errorf("%s as written differs from another rendering of the same input", f.File)
+		}
+	}
 }
 
 // renderTwice renders the same thing twice, failing the test on an error.

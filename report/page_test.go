@@ -96,6 +96,7 @@ func TestWritePage(t *testing.T) {
 				t.Fatal(err)
 			}
 			checkPage(t, dir, page, r)
+			sameFiles(t, dir, storedFigures(t, tc.dir))
 		})
 	}
 }
@@ -251,10 +252,7 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 // The page depends on the result alone.
 func TestPageDeterministic(t *testing.T) {
 	r := storedRun(t, "run-small")
-	figs, err := Figures(r)
-	if err != nil {
-		t.Fatal(err)
-	}
+	figs := storedFigures(t, "run-small")
 	a, b := renderTwice(t, func() ([]byte, error) { return Page(r, figs) })
 	if !bytes.Equal(a, b) {
 		t.Error("two renderings of the same page differ")

@@ -36,6 +36,7 @@ func TestWritePlan(t *testing.T) {
 				t.Fatal(err)
 			}
 			checkPlanPage(t, dir, page, s, p)
+			sameFiles(t, dir, storedPlanFigures(t, c.dir))
 		})
 	}
 }
@@ -106,10 +107,7 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *pla
 // The page depends on the study and the plan alone.
 func TestPlanPageDeterministic(t *testing.T) {
 	_, p := storedPlan(t, planCases[0].dir)
-	figs, err := PlanFigures(p)
-	if err != nil {
-		t.Fatal(err)
-	}
+	figs := storedPlanFigures(t, planCases[0].dir)
 	a, b := renderTwice(t, func() ([]byte, error) { return PlanPage(p, figs) })
 	if !bytes.Equal(a, b) {
 		t.Error("two renderings of the same page differ")
