@@ -128,7 +128,9 @@ func TestFigures(t *testing.T) {
 // rendering, and the same after the result has been saved and loaded
 // again. The first rendering is the one TestFigures checks; TestWritePage
 // compares another rendering of the result as it is with it, and this test
-// one of the result saved and loaded again.
+// one of the result saved and loaded again. (That a freshly simulated
+// result draws as its saved copy does, cmd/deltaprobe's
+// TestReportFromSavedResult checks.)
 func TestFiguresDeterministic(t *testing.T) {
 	r := storedRun(t, "run-small")
 	first := storedFigures(t, "run-small")
