@@ -435,7 +435,7 @@ func TestBrowser(t *testing.T) {
 	if bin == "" {
 		t.Skip("no Chromium binary (looked for /usr/bin/chromium, chromium-browser and chromium on PATH; DELTAPROBE_CHROMIUM unset): install the Debian package chromium to run this test")
 	}
-	r := runStudy(t, studyFuel)
+	r := storedRun(t, "run-small")
 	dir := t.TempDir()
 	if err := Write(dir, r); err != nil {
 		t.Fatal(err)
@@ -463,7 +463,7 @@ func TestBrowserPlan(t *testing.T) {
 		}
 		t.Setenv("DELTAPROBE_BROWSER_SHOTS", sub)
 	}
-	s, p := runPlan(t, planCases[0])
+	s, p := storedPlan(t, planCases[0].dir)
 	dir := t.TempDir()
 	if err := WritePlan(dir, p); err != nil {
 		t.Fatal(err)

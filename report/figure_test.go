@@ -83,21 +83,10 @@ func checkPNG(t *testing.T, name string, b []byte, wantW, wantH int) {
 }
 
 func TestFigures(t *testing.T) {
-	tests := []struct {
-		name  string
-		study string
-	}{
-		{"two transforms", studyFuel},
-		{"heavy tails, many n", studyHeavy},
-		{"one n", studyOne},
-	}
-	for _, tc := range tests {
+	for _, tc := range runCases {
 		t.Run(tc.name, func(t *testing.T) {
-			r := runStudy(t, tc.study)
-			figs, err := Figures(r)
-			if err != nil {
-				t.Fatal(err)
-			}
+			r := storedRun(t, tc.dir)
+			figs := storedFigures(t, tc.dir)
 			if len(figs) != 2*len(r.Study.Transforms) {
 				t.Fatalf("%d figures for %d transforms, want two each", len(figs), len(r.Study.Transforms))
 			}
@@ -136,13 +125,15 @@ func TestFigures(t *testing.T) {
 }
 
 // Figures must be a pure function of the result: the same bytes on every
-// run, and the same after the result has been saved and loaded again.
+// rendering, and the same after the result has been saved and loaded
+// again. The first rendering is the one TestFigures checks; TestWritePage
+// compares another rendering of the result as it is with it, and this test
+// one of the result saved and loaded again. (That a freshly simulated
+// result draws as its saved copy does, cmd/deltaprobe's
+// TestReportFromSavedResult checks.)
 func TestFiguresDeterministic(t *testing.T) {
-	r := runStudy(t, studyFuel)
-	first, err := Figures(r)
-	if err != nil {
-		t.Fatal(err)
-	}
+	r := storedRun(t, "run-small")
+	first := storedFigures(t, "run-small")
 	path := filepath.Join(t.TempDir(), "result.json")
 	if err := runner.SaveResult(path, r); err != nil {
 		t.Fatal(err)
@@ -151,15 +142,13 @@ func TestFiguresDeterministic(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, res := range []*runner.Result{r, loaded} {
-		again, err := Figures(res)
-		if err != nil {
-			t.Fatal(err)
-		}
-		for i := range first {
-			if sha256.Sum256(first[i].PNG) != sha256.Sum256(again[i].PNG) {
-				t.Errorf("%s differs between two renderings of the same result", first[i].File)
-			}
+	again, err := Figures(loaded)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range first {
+		if sha256.Sum256(first[i].PNG) != sha256.Sum256(again[i].PNG) {
+			t.Errorf("%s differs between renderings of the result before and after saving and loading it", first[i].File)
 		}
 	}
 }
@@ -234,8 +223,10 @@ func TestStepTicks(t *testing.T) {
 	}
 }
 
+// The heavy-tailed run has pivots beyond the histogram's range, so the
+// share outside counts.
 func TestRebin(t *testing.T) {
-	r := runStudy(t, studyHeavy)
+	r := storedRun(t, "run-heavy")
 	for ni, n := range r.Study.SampleSizes {
 		h := &r.Cells[0][ni].Delta
 		for _, w := range []float64{0.2, 0.25, 0.5, 1} {

@@ -1,82 +1,44 @@
 package report
 
 import (
-	"context"
+	"bytes"
+	"os"
+	"path/filepath"
 	"sync"
 	"testing"
-
-	"deltaprobe/sim/plan"
-	"deltaprobe/sim/runner"
-	"deltaprobe/sim/study"
 )
 
-// The tests run real, small studies through sim rather than keep a
-// result file: normal data and a few thousand replicates take well under
-// a second, and the report is then checked against what sim produces now.
+// The tests read stored results (see stored_test.go): these are the
+// cases they go over.
 
-// studyFuel is small but has what the page must cope with: a title and
-// comment that need escaping, a name that is not a safe file name, two
-// names that meet once made safe, and an estimate that is adequate only
-// from some n on.
-const studyFuel = `# Test study: a < b & "c" must reach the page escaped.
-title = "Reciprocal <and> log & co"
-description = "Normal data; 100 / mean and log(mean)."
-seed = 42
-replicates = 2000
-sample_sizes = [5, 10, 20, 40, 80]
-level = 0.95
+// runCase names a stored run by what the tests need of it.
+type runCase struct {
+	name string
+	dir  string // in testdata; see storedRuns
+}
 
-` + fuelModel + `
-[[transform]]
-name = "litres _ 100 km"
-expr = "log(mean)"
-`
+// runCases are the runs every figure and page test goes over.
+var runCases = []runCase{
+	{"three transforms", "run-small"},
+	{"heavy tails, many n", "run-heavy"},
+	{"one n", "run-one-n"},
+}
 
-// fuelModel is the model of studyFuel and planTwo, and their first
-// transform.
-const fuelModel = `[model]
-family = "normal"
-mean = 14.0
-sd = 3.5
+// planCase names a stored plan by what the tests need of it.
+type planCase struct {
+	name string
+	dir  string // in testdata; see storedPlans
+}
 
-[[transform]]
-name = "litres / 100 km"
-expr = "100 / mean"
-`
-
-// studyHeavy has a reciprocal of a mean near zero: heavy tails, values
-// beyond the pivot histogram's range, huge variance ratios.
-const studyHeavy = `title = "Heavy tails"
-seed = 7
-replicates = 1000
-sample_sizes = [4, 6, 8, 11, 16, 23, 32, 45, 64, 91, 128, 181, 256, 362]
-level = 0.9
-
-[model]
-family = "normal"
-mean = 0.6
-sd = 1.0
-
-[[transform]]
-name = "1/mean"
-expr = "1 / mean"
-`
-
-// studyOne has a single sample size: the smallest layout.
-const studyOne = `title = "One n"
-seed = 3
-replicates = 500
-sample_sizes = [30]
-
-[model]
-family = "normal"
-mean = 2.0
-sd = 1.0
-
-[[transform]]
-name = "sq"
-expr = "mean^2"
-`
+// planCases are the plans every figure and page test goes over. The
+// budget of the last was far below what its search needs, so the cap was
+// hit.
+var planCases = []planCase{
+	{"two transforms", "plan-small"},
+	{"not reached", "plan-not-reached"},
+	{"binary arms", "plan-binary-arms"},
+	{"budget exhausted", "plan-budget"},
+}
 
 // once holds what a test binary computes once per key.
 type once[K comparable, V any] struct {
@@ -99,130 +61,51 @@ func (o *once[K, V]) get(key K, compute func() V) V {
 	return v
 }
 
-var results once[string, *runner.Result]
+var runFigures, planFigures once[string, []Figure]
 
-// runStudy parses and runs src once per test binary.
-func runStudy(t testing.TB, src string) *runner.Result {
+// storedFigures returns the figures of the run stored in testdata/dir,
+// rendered once per test binary: rendering, not loading, is what the
+// report's tests spend their time on, so a test that needs figures only as
+// input takes these.
+func storedFigures(t testing.TB, dir string) []Figure {
 	t.Helper()
-	return results.get(src, func() *runner.Result {
-		s, err := study.Parse("test.toml", []byte(src))
+	return runFigures.get(dir, func() []Figure {
+		figs, err := Figures(storedRun(t, dir))
 		if err != nil {
-			t.Fatalf("parsing test study: %v", err)
+			t.Fatalf("%s: %v", dir, err)
 		}
-		r, err := runner.Run(context.Background(), s, runner.Options{Workers: 2})
-		if err != nil {
-			t.Fatalf("running test study: %v", err)
-		}
-		return r
+		return figs
 	})
 }
 
-// The plans are small studies too, planned through sim: a few thousand
-// replicates per n, a fraction of a second each.
-
-// planTwo has what the plan's page must cope with: a title and comment
-// that need escaping, a name that is not a safe file name, two
-// transforms, and answers with a window above them.
-const planTwo = `# Test plan: a < b & "c" must reach the page escaped.
-title = "Plan <and> search & co"
-description = "Normal data; 100 / mean and log(mean)."
-seed = 11
-
-[plan]
-n_min = 4
-n_max = 120
-max_replicates = 3000
-batch = 1000
-
-` + fuelModel + `
-[[transform]]
-name = "log mean"
-expr = "log(mean)"
-`
-
-// planNotReached stops below the n the exponential rate needs: every n
-// fails on bias, so there is no answer, no window and no close-up.
-const planNotReached = `title = "Not reached"
-seed = 12
-
-[plan]
-n_min = 5
-n_max = 20
-max_replicates = 2000
-batch = 1000
-
-[model]
-family = "exponential"
-rate = 1.5
-
-[[transform]]
-name = "rate"
-expr = "rate"
-`
-
-// planBinary is two groups of binary outcomes, whose coverage moves in
-// steps as n grows.
-const planBinary = `title = "Risk difference"
-seed = 13
-
-[plan]
-n_min = 10
-n_max = 300
-max_replicates = 4000
-batch = 1000
-
-[[arm]]
-name = "a"
-family = "bernoulli"
-p = 0.3
-
-[[arm]]
-name = "b"
-family = "bernoulli"
-p = 0.2
-
-[[transform]]
-name = "rd"
-expr = "a.p - b.p"
-`
-
-type planCase struct {
-	name   string
-	src    string
-	budget int64 // 0: no cap
-}
-
-// planCases are the plans every figure and page test runs over. The
-// budget of the last is far below what planTwo needs, so the cap is hit.
-var planCases = []planCase{
-	{"two transforms", planTwo, 0},
-	{"not reached", planNotReached, 0},
-	{"binary arms", planBinary, 0},
-	{"budget exhausted", planTwo, 15000},
-}
-
-type plannedStudy struct {
-	s *study.Study
-	p *plan.Result
-}
-
-var plans once[planCase, plannedStudy]
-
-// runPlan parses and plans a case once per test binary.
-func runPlan(t testing.TB, c planCase) (*study.Study, *plan.Result) {
+// storedPlanFigures returns the figures of the plan stored in
+// testdata/dir, rendered once per test binary.
+func storedPlanFigures(t testing.TB, dir string) []Figure {
 	t.Helper()
-	ps := plans.get(c, func() plannedStudy {
-		s, err := study.Parse("plan.toml", []byte(c.src))
+	return planFigures.get(dir, func() []Figure {
+		_, p := storedPlan(t, dir)
+		figs, err := PlanFigures(p)
 		if err != nil {
-			t.Fatalf("parsing test plan: %v", err)
+			t.Fatalf("%s: %v", dir, err)
 		}
-		p, err := plan.Run(context.Background(), s, c.budget, runner.Options{Workers: 2})
-		if err != nil {
-			t.Fatalf("running test plan: %v", err)
-		}
-		return plannedStudy{s, p}
+		return figs
 	})
-	return ps.s, ps.p
+}
+
+// sameFiles checks that each figure was written into dir with the same
+// bytes as figs holds: a second rendering of the same input.
+func sameFiles(t *testing.T, dir string, figs []Figure) {
+	t.Helper()
+	for _, f := range figs {
+		b, err := os.ReadFile(filepath.Join(dir, f.File))
+		if err != nil {
+			t.Error(err)
+			continue
+		}
+		if !bytes.Equal(b, f.PNG) {
+			t.Errorf("%s as written differs from another rendering of the same input", f.File)
+		}
+	}
 }
 
 // renderTwice renders the same thing twice, failing the test on an error.

@@ -84,17 +84,9 @@ func hasClass(name, class string) func(*element) bool {
 }
 
 func TestWritePage(t *testing.T) {
-	tests := []struct {
-		name  string
-		study string
-	}{
-		{"two transforms", studyFuel},
-		{"heavy tails", studyHeavy},
-		{"one n", studyOne},
-	}
-	for _, tc := range tests {
+	for _, tc := range runCases {
 		t.Run(tc.name, func(t *testing.T) {
-			r := runStudy(t, tc.study)
+			r := storedRun(t, tc.dir)
 			dir := t.TempDir()
 			if err := Write(dir, r); err != nil {
 				t.Fatal(err)
@@ -104,6 +96,7 @@ func TestWritePage(t *testing.T) {
 				t.Fatal(err)
 			}
 			checkPage(t, dir, page, r)
+			sameFiles(t, dir, storedFigures(t, tc.dir))
 		})
 	}
 }
@@ -258,11 +251,8 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 
 // The page depends on the result alone.
 func TestPageDeterministic(t *testing.T) {
-	r := runStudy(t, studyFuel)
-	figs, err := Figures(r)
-	if err != nil {
-		t.Fatal(err)
-	}
+	r := storedRun(t, "run-small")
+	figs := storedFigures(t, "run-small")
 	a, b := renderTwice(t, func() ([]byte, error) { return Page(r, figs) })
 	if !bytes.Equal(a, b) {
 		t.Error("two renderings of the same page differ")
@@ -271,15 +261,15 @@ func TestPageDeterministic(t *testing.T) {
 
 // The study's title and source reach the page escaped, never as markup.
 func TestPageEscapes(t *testing.T) {
-	r := runStudy(t, studyFuel)
+	r := storedRun(t, "run-small")
 	page, err := Page(r, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkEscaped(t, page, "Reciprocal &lt;and&gt; log &amp; co")
+	checkEscaped(t, page, "Fleet &lt;and&gt; target margin &amp; co")
 }
 
-// checkEscaped checks that a test study's title and source, which hold
+// checkEscaped checks that a stored study's title and source, which hold
 // markup, reached page escaped, the title as escapedTitle.
 func checkEscaped(t *testing.T, page []byte, escapedTitle string) {
 	t.Helper()

@@ -28,7 +28,7 @@ func TestPlanCasesAreWhatTheySay(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.c.name, func(t *testing.T) {
-			_, p := runPlan(t, tc.c)
+			_, p := storedPlan(t, tc.c.dir)
 			if p.Exhausted != tc.exhausted {
 				t.Errorf("budget exhausted = %v, want %v", p.Exhausted, tc.exhausted)
 			}
@@ -44,11 +44,8 @@ func TestPlanCasesAreWhatTheySay(t *testing.T) {
 func TestPlanFigures(t *testing.T) {
 	for _, c := range planCases {
 		t.Run(c.name, func(t *testing.T) {
-			s, p := runPlan(t, c)
-			figs, err := PlanFigures(p)
-			if err != nil {
-				t.Fatal(err)
-			}
+			s, _ := storedPlan(t, c.dir)
+			figs := storedPlanFigures(t, c.dir)
 			if len(figs) != len(s.Transforms) {
 				t.Fatalf("%d figures for %d transforms, want one each", len(figs), len(s.Transforms))
 			}
@@ -75,10 +72,16 @@ func TestPlanFigures(t *testing.T) {
 	}
 }
 
-// Figures are a pure function of the study and the plan.
+// Figures are a pure function of the study and the plan. The first
+// rendering is the one TestPlanFigures checks; TestWritePlan compares a
+// third with it.
 func TestPlanFiguresDeterministic(t *testing.T) {
-	_, p := runPlan(t, planCases[0])
-	a, b := renderTwice(t, func() ([]Figure, error) { return PlanFigures(p) })
+	_, p := storedPlan(t, planCases[0].dir)
+	a := storedPlanFigures(t, planCases[0].dir)
+	b, err := PlanFigures(p)
+	if err != nil {
+		t.Fatal(err)
+	}
 	for i := range a {
 		if !bytes.Equal(a[i].PNG, b[i].PNG) {
 			t.Errorf("%s differs between two renderings of the same plan", a[i].File)

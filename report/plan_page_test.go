@@ -11,14 +11,13 @@ import (
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
-	"deltaprobe/sim/runner"
 	"deltaprobe/sim/study"
 )
 
 func TestWritePlan(t *testing.T) {
 	for _, c := range planCases {
 		t.Run(c.name, func(t *testing.T) {
-			s, p := runPlan(t, c)
+			s, p := storedPlan(t, c.dir)
 			dir := t.TempDir()
 			if err := WritePlan(dir, p); err != nil {
 				t.Fatal(err)
@@ -37,6 +36,7 @@ func TestWritePlan(t *testing.T) {
 				t.Fatal(err)
 			}
 			checkPlanPage(t, dir, page, s, p)
+			sameFiles(t, dir, storedPlanFigures(t, c.dir))
 		})
 	}
 }
@@ -53,7 +53,7 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *pla
 		says: []string{
 			p.Method,
 			s.SHA256,
-			"deltaprobe " + runner.Version,
+			"deltaprobe " + p.Tool,
 			strconv.FormatUint(s.Seed, 10),
 			strconv.FormatInt(p.Total, 10),
 			"Budget cap reached" + exhausted,
@@ -106,11 +106,8 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *pla
 
 // The page depends on the study and the plan alone.
 func TestPlanPageDeterministic(t *testing.T) {
-	_, p := runPlan(t, planCases[0])
-	figs, err := PlanFigures(p)
-	if err != nil {
-		t.Fatal(err)
-	}
+	_, p := storedPlan(t, planCases[0].dir)
+	figs := storedPlanFigures(t, planCases[0].dir)
 	a, b := renderTwice(t, func() ([]byte, error) { return PlanPage(p, figs) })
 	if !bytes.Equal(a, b) {
 		t.Error("two renderings of the same page differ")
@@ -120,7 +117,7 @@ func TestPlanPageDeterministic(t *testing.T) {
 // The study's title and source reach the page escaped, never as markup;
 // the style sheet is the run page's, as it is.
 func TestPlanPageEscapes(t *testing.T) {
-	_, p := runPlan(t, planCases[0])
+	_, p := storedPlan(t, planCases[0].dir)
 	page, err := PlanPage(p, nil)
 	if err != nil {
 		t.Fatal(err)

@@ -241,21 +241,25 @@ func TestFamiliesGolden(t *testing.T) {
 	golden(t, "testdata/families.stdout", []byte(stdout))
 }
 
-// report DIR rebuilds byte-identical CSV from result.json alone.
+// report DIR rebuilds byte-identical CSV, figures and page from
+// result.json alone: what a run draws from its result in memory, the
+// report draws from the result saved. (The report package's tests read
+// saved results only, so this is where the two are compared.)
 func TestReportFromSavedResult(t *testing.T) {
 	study := writeStudy(t, smallStudy)
 	out := filepath.Join(t.TempDir(), "out")
 	if code, _, stderr := runCLI(t, "run", study, "-o", out, "-quiet", "-replicates", "1500"); code != exitOK {
 		t.Fatalf("run: exit %d: %s", code, stderr)
 	}
-	before := map[string][]byte{}
-	for _, name := range []string{"summary.csv", "verdicts.csv"} {
-		b, err := os.ReadFile(filepath.Join(out, name))
-		if err != nil {
+	before := readDir(t, out)
+	delete(before, "result.json")
+	if len(before) != 2+1+2*2 {
+		t.Fatalf("run wrote %q, want two tables, a page and two figures per transform beside result.json", names(before))
+	}
+	for name := range before {
+		if err := os.Remove(filepath.Join(out, name)); err != nil {
 			t.Fatal(err)
 		}
-		before[name] = b
-		os.Remove(filepath.Join(out, name))
 	}
 	code, stdout, stderr := runCLI(t, "report", out)
 	if code != exitOK {

@@ -323,8 +323,11 @@ expr = "mean"
 	if err != nil {
 		t.Fatal(err)
 	}
-	if p.Steps[0].Row.Verdict != measure.Pass {
-		t.Skipf("first look did not pass (%s); the case does not arise", p.Steps[0].Row.Verdict)
+	// The case arises only if that first look passes, which seed 5 gives
+	// today; a change to the simulation may take it away, and the test
+	// must then say so rather than pass without testing anything.
+	if got := p.Steps[0].Row.Verdict; got != measure.Pass {
+		t.Fatalf("fixed-seed precondition no longer holds: with seed 5 the first look at n = 100 gave %s, not pass, so the window is never reached; change the seed in this test's study to one whose first look passes", got)
 	}
 	if v := p.Verdicts[0]; v.Status != measure.StatusUnclear || v.SmallestN != 0 {
 		t.Errorf("budget cut before the window: got %s at %d, want unclear", v.Status, v.SmallestN)
@@ -361,6 +364,12 @@ name = "p"
 expr = "p"
 `} {
 		_, p := runPlan(t, src)
+		// Only adequate verdicts are checked below; with these fixed
+		// seeds every study has one, and if none had, the test would
+		// check nothing of it.
+		if !slices.ContainsFunc(p.Verdicts, func(v measure.TransformVerdict) bool { return v.Status == measure.Adequate }) {
+			t.Fatalf("fixed-seed precondition no longer holds: study with seed %d has no adequate transform (%+v), so nothing of it is checked; change its seed or widen its n range until one is adequate", p.Study.Seed, p.Verdicts)
+		}
 		for i, v := range p.Verdicts {
 			if v.Status != measure.Adequate {
 				continue
