@@ -11,7 +11,8 @@ func init() {
 		Params: []ParamSpec{
 			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
 		},
-		New: func(v map[string]float64) (Model, error) { return bernoulliModel{p: v["p"]}, nil },
+		Estimates: []string{"p"},
+		New:       func(v map[string]float64) (Model, error) { return bernoulliModel{p: v["p"]}, nil },
 	})
 }
 

@@ -16,7 +16,8 @@ func init() {
 			{Name: "size", Integer: true, Accepts: "a whole number ≥ 1", Check: atLeastOne},
 			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
 		},
-		New: func(v map[string]float64) (Model, error) { return newBinomialModel(v["size"], v["p"]) },
+		Estimates: []string{"p"},
+		New:       func(v map[string]float64) (Model, error) { return newBinomialModel(v["size"], v["p"]) },
 	})
 }
 

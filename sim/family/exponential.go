@@ -10,7 +10,8 @@ func init() {
 		Params: []ParamSpec{
 			{Name: "rate", Accepts: "a number > 0", Check: positive},
 		},
-		New: func(v map[string]float64) (Model, error) { return exponentialModel{rate: v["rate"]}, nil },
+		Estimates: []string{"rate"},
+		New:       func(v map[string]float64) (Model, error) { return exponentialModel{rate: v["rate"]}, nil },
 	})
 }
 

@@ -14,6 +14,7 @@ func init() {
 			{Name: "shape", Accepts: "a number > 0", Check: positive},
 			{Name: "rate", Accepts: "a number > 0", Check: positive},
 		},
+		Estimates: []string{"shape", "rate"},
 		New: func(v map[string]float64) (Model, error) {
 			return &gammaModel{shape: v["shape"], rate: v["rate"], gen: newGammaGen(v["shape"])}, nil
 		},

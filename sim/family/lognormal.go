@@ -9,6 +9,7 @@ func init() {
 			{Name: "meanlog", Accepts: "any real number", Check: anyReal},
 			{Name: "sdlog", Accepts: "a number > 0", Check: positive},
 		},
+		Estimates: []string{"meanlog", "sdlog"},
 		New: func(v map[string]float64) (Model, error) {
 			return lognormalModel{normalModel{mean: v["meanlog"], sd: v["sdlog"]}}, nil
 		},

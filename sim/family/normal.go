@@ -14,6 +14,7 @@ func init() {
 			{Name: "mean", Accepts: "any real number", Check: anyReal},
 			{Name: "sd", Accepts: "a number > 0", Check: positive},
 		},
+		Estimates: []string{"mean", "sd"},
 		New: func(v map[string]float64) (Model, error) {
 			return normalModel{mean: v["mean"], sd: v["sd"]}, nil
 		},

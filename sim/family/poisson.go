@@ -15,7 +15,8 @@ func init() {
 		Params: []ParamSpec{
 			{Name: "mean", Accepts: "a number > 0", Check: positive},
 		},
-		New: func(v map[string]float64) (Model, error) { return newPoissonModel(v["mean"]) },
+		Estimates: []string{"mean"},
+		New:       func(v map[string]float64) (Model, error) { return newPoissonModel(v["mean"]) },
 	})
 }
 

@@ -46,6 +46,10 @@ type Family struct {
 	// search must allow for.
 	Discrete bool
 	Params   []ParamSpec
+	// Estimates names the estimated parameters, the entries of θ, in
+	// order. They are the study file's parameter names but for those
+	// fixed and known (binomial size).
+	Estimates []string
 	// New builds the model from validated parameter values, keyed by
 	// ParamSpec.Name.
 	New func(values map[string]float64) (Model, error)

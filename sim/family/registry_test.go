@@ -58,6 +58,9 @@ func TestFamilyRegistry(t *testing.T) {
 		if f.Summary == "" || f.Estimator == "" {
 			t.Errorf("%s: missing Summary or Estimator", c.name)
 		}
+		if !slices.Equal(f.Estimates, c.estimated) {
+			t.Errorf("%s: Estimates = %v, want %v", c.name, f.Estimates, c.estimated)
+		}
 		m := mustModel(t, c.name, c.values)
 		if got := m.Params(); !slices.Equal(got, c.estimated) {
 			t.Errorf("%s: Params() = %v, want %v", c.name, got, c.estimated)
