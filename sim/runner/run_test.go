@@ -3,7 +3,6 @@ package runner
 import (
 	"context"
 	"errors"
-	"math/rand/v2"
 	"strings"
 	"testing"
 
@@ -94,25 +93,31 @@ func TestRunStopsWhenCancelled(t *testing.T) {
 	}
 }
 
-// panicModel wraps a model and panics on its third fit.
-type panicModel struct {
-	family.Model
+// panicEstimator makes fitters that panic on their third fit.
+type panicEstimator struct{ family.Estimator }
+
+func (e panicEstimator) NewFitter(maxN int) family.Fitter {
+	return &panicFitter{Fitter: e.Estimator.NewFitter(maxN)}
+}
+
+type panicFitter struct {
+	family.Fitter
 	fits int
 }
 
-func (p *panicModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+func (p *panicFitter) Fit(s *family.Sample, theta, cov []float64) bool {
 	p.fits++
 	if p.fits == 3 {
 		panic("boom")
 	}
-	return p.Model.Fit(rng, n, theta)
+	return p.Fitter.Fit(s, theta, cov)
 }
 
 // A panic inside a worker fails the run with the cell named, instead of
 // killing the process or hanging the pool.
 func TestRunRecoversWorkerPanic(t *testing.T) {
 	s := mustParse(t, twoArmStudy)
-	s.Arms[0].Model = &panicModel{Model: s.Arms[0].Model}
+	s.Arms[0].Model.Estimator = panicEstimator{s.Arms[0].Model.Estimator}
 	_, err := Run(context.Background(), s, Options{Workers: 1})
 	if err == nil || !strings.Contains(err.Error(), "boom") || !strings.Contains(err.Error(), "n=60, block 0, replicate 2, fitting arm a (normal)") {
 		t.Fatalf("err = %v, want the panic reported with its cell", err)
