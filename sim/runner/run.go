@@ -315,8 +315,9 @@ func newWorker(s *study.Study, res *Result) *worker {
 	w.rng = *rand.New(&w.pcg)
 	w.z = math.Sqrt2 * math.Erfinv(s.Level)
 	w.sizes = make([]int, len(s.Arms))
-	// θ̂, the gradient, the arms' covariances and their samples, written
-	// per replicate, share one padded array; so do the samples' headers.
+	// θ̂, the gradient, the arms' covariances and their samples' data,
+	// written per replicate, share one padded array; the samples'
+	// headers, whose N is written per replicate, get one of their own.
 	d := s.Dim()
 	floats := d + d
 	sampleLens := make([]int, len(s.Arms))
