@@ -20,7 +20,7 @@ func init() {
 		Estimates: []string{"mean_x", "mean_y", "sd_x", "sd_y", "rho"},
 		New: func(v map[string]float64) (Model, error) {
 			rho := v["rho"]
-			m := bivariateNormalModel{
+			m := &bivariateNormalModel{
 				mx: v["mean_x"], my: v["mean_y"], sx: v["sd_x"], sy: v["sd_y"],
 				rho: rho, c: math.Sqrt((1 - rho) * (1 + rho)),
 			}
@@ -43,13 +43,13 @@ func (m bivariateNormalModel) pair(rng *rand.Rand) (z, w float64) {
 	return z, m.rho*z + m.c*rng.NormFloat64()
 }
 
-// The sample is (Σz, Σw, Σz², Σw², Σzw) over the standard-unit draws of
-// pair.
-func (bivariateNormalModel) SampleLen(int) int { return 5 }
+// SampleLen is 5: a bivariate normal sample is (Σz, Σw, Σz², Σw², Σzw)
+// over the standard-unit draws of pair.
+func (*bivariateNormalModel) SampleLen(int) int { return 5 }
 
 // Draw accumulates the standard-unit draws, whose sums are centred at the
 // true means (no cancellation).
-func (m bivariateNormalModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *bivariateNormalModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	var sz, sw, szz, sww, szw float64
 	for range n {
 		z, w := m.pair(rng)
@@ -63,12 +63,12 @@ func (m bivariateNormalModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	s.Data[0], s.Data[1], s.Data[2], s.Data[3], s.Data[4] = sz, sw, szz, sww, szw
 }
 
-func (m bivariateNormalModel) NewFitter(int) Fitter { return m }
+func (m *bivariateNormalModel) NewFitter(int) Fitter { return m }
 
 // Fit rescales the standard-unit sums once: the sds scale by sd_x, sd_y
 // and Pearson r is scale-free. It reports false when a sample has no
 // spread (n = 1), where r is undefined.
-func (m bivariateNormalModel) Fit(s *Sample, theta, cov []float64) bool {
+func (m *bivariateNormalModel) Fit(s *Sample, theta, cov []float64) bool {
 	sz, sw, szz, sww, szw := s.Data[0], s.Data[1], s.Data[2], s.Data[3], s.Data[4]
 	fn := float64(s.N)
 	cz, cw := sz/fn, sw/fn
@@ -96,7 +96,7 @@ func (m bivariateNormalModel) Fit(s *Sample, theta, cov []float64) bool {
 //
 //	Var σ̂x = σx²/2,  Var σ̂y = σy²/2,  Cov(σ̂x, σ̂y) = ρ²σxσy/2,
 //	Cov(σ̂x, r) = ρ(1−ρ²)σx/2,  Cov(σ̂y, r) = ρ(1−ρ²)σy/2,  Var r = (1−ρ²)².
-func (bivariateNormalModel) Cov(theta, cov []float64) {
+func (*bivariateNormalModel) Cov(theta, cov []float64) {
 	sx, sy, rho := theta[2], theta[3], theta[4]
 	for i := range 25 {
 		cov[i] = 0
@@ -117,7 +117,7 @@ func (bivariateNormalModel) Cov(theta, cov []float64) {
 // Bias: the means are unbiased; each sd with divisor n has the univariate
 // bias −3σ/(4n); Pearson r has E r = ρ − ρ(1−ρ²)/(2n) + O(n⁻²)
 // (Fisher 1915; Olkin & Pratt 1958).
-func (bivariateNormalModel) Bias(theta, bias []float64) {
+func (*bivariateNormalModel) Bias(theta, bias []float64) {
 	bias[0], bias[1] = 0, 0
 	bias[2] = -0.75 * theta[2]
 	bias[3] = -0.75 * theta[3]

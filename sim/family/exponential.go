@@ -12,7 +12,7 @@ func init() {
 		},
 		Estimates: []string{"rate"},
 		New: func(v map[string]float64) (Model, error) {
-			m := exponentialModel{rate: v["rate"]}
+			m := &exponentialModel{rate: v["rate"]}
 			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m}, nil
 		},
 	})
@@ -21,11 +21,11 @@ func init() {
 // exponentialModel is the exponential family with its MLE, θ = (rate).
 type exponentialModel struct{ rate float64 }
 
-// The sample is (ΣE) over standard exponential draws E_i, the
-// observations being y_i = E_i/λ.
-func (exponentialModel) SampleLen(int) int { return 1 }
+// SampleLen is 1: an exponential sample is (ΣE) over standard exponential
+// draws E_i, the observations being y_i = E_i/λ.
+func (*exponentialModel) SampleLen(int) int { return 1 }
 
-func (exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (*exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	var sum float64
 	for range n {
 		sum += rng.ExpFloat64()
@@ -33,11 +33,11 @@ func (exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	s.N, s.Data[0] = n, sum
 }
 
-func (m exponentialModel) NewFitter(int) Fitter { return m }
+func (m *exponentialModel) NewFitter(int) Fitter { return m }
 
 // Fit: the MLE 1/ȳ = λ·n/ΣE_i needs one division per sample instead of
 // one a draw.
-func (m exponentialModel) Fit(s *Sample, theta, cov []float64) bool {
+func (m *exponentialModel) Fit(s *Sample, theta, cov []float64) bool {
 	theta[0] = m.rate * float64(s.N) / s.Data[0]
 	m.Cov(theta, cov)
 	return true
@@ -45,7 +45,7 @@ func (m exponentialModel) Fit(s *Sample, theta, cov []float64) bool {
 
 // Cov is the inverse Fisher information of one observation, λ²: the
 // log-density log λ − λy has second derivative −1/λ².
-func (exponentialModel) Cov(theta, cov []float64) { cov[0] = theta[0] * theta[0] }
+func (*exponentialModel) Cov(theta, cov []float64) { cov[0] = theta[0] * theta[0] }
 
 // Bias: nȳ ~ Gamma(n, λ), so E[1/ȳ] = nλ/(n−1) = λ + λ/n + O(n⁻²) and b = λ.
-func (exponentialModel) Bias(theta, bias []float64) { bias[0] = theta[0] }
+func (*exponentialModel) Bias(theta, bias []float64) { bias[0] = theta[0] }

@@ -27,20 +27,18 @@ func init() {
 type normalModel struct{ mean, sd float64 }
 
 func newNormalModel(mean, sd float64) Model {
-	m := normalModel{mean: mean, sd: sd}
+	m := &normalModel{mean: mean, sd: sd}
 	return Model{Truth: []float64{mean, sd}, Sampler: m, Estimator: m, Asymptotics: m}
 }
 
-// normalStats is the length of a normal sample: (Σz, Σz²) over the
-// standard normal draws z_i, the observations being mean + sd·z_i.
-const normalStats = 2
-
-func (normalModel) SampleLen(int) int { return normalStats }
+// SampleLen is 2: a normal sample is (Σz, Σz²) over standard normal
+// draws z_i, the observations being mean + sd·z_i.
+func (*normalModel) SampleLen(int) int { return 2 }
 
 // Draw keeps the sums of standard normal draws: shifting by the true mean
 // keeps the sum of squares free of cancellation, and scaling once (in
 // Fit) saves a multiply a draw.
-func (normalModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (*normalModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	s.N = n
 	s.Data[0], s.Data[1] = sumStdNormals(rng, n)
 }
@@ -62,11 +60,11 @@ func sumStdNormals(rng *rand.Rand, n int) (s1, s2 float64) {
 	return s1, s2
 }
 
-func (m normalModel) NewFitter(int) Fitter { return m }
+func (m *normalModel) NewFitter(int) Fitter { return m }
 
 // Fit rescales the standard-unit sums once: x̄ = mean + sd·z̄ and
 // σ̂ = sd·√(Σ(z − z̄)²/n).
-func (m normalModel) Fit(s *Sample, theta, cov []float64) bool {
+func (m *normalModel) Fit(s *Sample, theta, cov []float64) bool {
 	s1, s2 := s.Data[0], s.Data[1]
 	fn := float64(s.N)
 	ss := s2 - s1*s1/fn
@@ -81,12 +79,12 @@ func (m normalModel) Fit(s *Sample, theta, cov []float64) bool {
 
 // Cov is the inverse Fisher information of one observation:
 // diag(σ², σ²/2) (Casella & Berger 2002, §7.3, from memory).
-func (normalModel) Cov(theta, cov []float64) {
+func (*normalModel) Cov(theta, cov []float64) {
 	s2 := theta[1] * theta[1]
 	cov[0], cov[1], cov[2], cov[3] = s2, 0, 0, s2/2
 }
 
 // Bias: E σ̂ = σ·sqrt((n−1)/n)·c4(n) = σ(1 − 3/(4n)) + O(n⁻²).
-func (normalModel) Bias(theta, bias []float64) {
+func (*normalModel) Bias(theta, bias []float64) {
 	bias[0], bias[1] = 0, -0.75*theta[1]
 }

@@ -83,7 +83,7 @@ func TestSampleBivariateNormalKS(t *testing.T) {
 	std := distuv.UnitNormal.CDF // gonum distuv.Normal CDF
 	for i, rho := range []float64{-0.95, 0, 0.5} {
 		m := mustModel(t, "bivariate_normal", map[string]float64{
-			"mean_x": 0, "mean_y": 0, "sd_x": 1, "sd_y": 1, "rho": rho}).Sampler.(bivariateNormalModel)
+			"mean_x": 0, "mean_y": 0, "sd_x": 1, "sd_y": 1, "rho": rho}).Sampler.(*bivariateNormalModel)
 		rng := testRand(400 + uint64(i))
 		const n = 20000
 		zs, ws, sum, cond := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
