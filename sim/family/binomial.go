@@ -64,7 +64,8 @@ func newBinomialModel(size, p float64) (*binomialModel, error) {
 	return &binomialModel{size: size, p: p, table: t}, nil
 }
 
-// The sample is (Σy), the successes in n·size trials.
+// SampleLen is 1: a binomial sample is (Σy), the successes in n·size
+// trials.
 func (*binomialModel) SampleLen(int) int { return 1 }
 
 // Draw draws n binomial counts by table inversion and keeps their total.

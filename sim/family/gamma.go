@@ -32,8 +32,8 @@ type gammaModel struct {
 // from one observation the likelihood grows without bound in α.
 const gammaMinN = 2
 
-// The sample is (Σw, Σlog w) over draws y_i = d·w_i/β (see gammaGen),
-// nothing below gammaMinN observations.
+// SampleLen is 2: a gamma sample is (Σw, Σlog w) over draws y_i = d·w_i/β
+// (see gammaGen), unwritten below gammaMinN observations.
 func (*gammaModel) SampleLen(int) int { return 2 }
 
 // Draw draws y_i = d·w_i/β and keeps Σw and Σlog w: the shape equation

@@ -62,7 +62,7 @@ func newPoissonModel(mean float64) (*poissonModel, error) {
 	return m, nil
 }
 
-// The sample is (Σy).
+// SampleLen is 1: a Poisson sample is (Σy).
 func (*poissonModel) SampleLen(int) int { return 1 }
 
 // draw returns one observation.

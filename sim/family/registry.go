@@ -7,8 +7,8 @@ import (
 
 // Sample is one replicate's data as a Sampler leaves it for a Fitter: the
 // number of observations drawn and what the sampler keeps of them, either
-// sufficient statistics only (every family today: the normal keeps two
-// sums, whatever n is) or the observations themselves. The layout of Data
+// sufficient statistics only (as every sampler here does: the normal's
+// keeps two sums, whatever n is) or the observations themselves. The layout of Data
 // (which statistics, in which units, or how observations are packed) is
 // the sampler's, and each sampler documents it; a fitter reads the layouts
 // of the samplers it is paired with. Statistics may be kept in the
@@ -55,11 +55,11 @@ type Fitter interface {
 	// Fit writes the estimate θ̂ into theta and the plug-in estimate of
 	// the per-observation covariance of θ̂ into cov (row-major,
 	// len(theta)² entries). The plug-in may use the sample as well as θ̂
-	// (observed information, a sandwich); every estimator today writes
+	// (observed information, a sandwich); the estimators here write their
 	// Asymptotics.Cov at θ̂. Fit reports false when the estimator has no
 	// value for this sample (for example a numerical MLE that did not
-	// converge), leaving cov unwritten; the replicate is then undefined.
-	// Fit allocates nothing.
+	// converge); the replicate is then undefined, and neither theta nor
+	// cov is read. Fit allocates nothing.
 	Fit(s *Sample, theta, cov []float64) bool
 }
 
@@ -111,8 +111,8 @@ type Family struct {
 	Discrete bool
 	Params   []ParamSpec
 	// Estimates names the estimated parameters, the entries of θ, in
-	// order. They are the study file's parameter names but for those
-	// fixed and known (binomial size).
+	// order. For a family's own MLE they are its Params less those fixed
+	// and known (binomial size).
 	Estimates []string
 	// New builds the model from validated parameter values, keyed by
 	// ParamSpec.Name.
