@@ -38,7 +38,7 @@ type bivariateNormalModel struct {
 
 // pair returns one draw in standard units: x = mean_x + sd_x·z,
 // y = mean_y + sd_y·w, with z, w standard normal and corr(z, w) = ρ.
-func (m bivariateNormalModel) pair(rng *rand.Rand) (z, w float64) {
+func (m *bivariateNormalModel) pair(rng *rand.Rand) (z, w float64) {
 	z = rng.NormFloat64()
 	return z, m.rho*z + m.c*rng.NormFloat64()
 }

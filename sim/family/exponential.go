@@ -25,6 +25,7 @@ type exponentialModel struct{ rate float64 }
 // draws E_i, the observations being y_i = E_i/λ.
 func (*exponentialModel) SampleLen(int) int { return 1 }
 
+// Draw keeps the sum of n standard exponential draws.
 func (*exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	var sum float64
 	for range n {
