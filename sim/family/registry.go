@@ -8,13 +8,13 @@ import (
 // Sample is one replicate's data as a Sampler leaves it for a Fitter: the
 // number of observations drawn and what the sampler keeps of them, either
 // sufficient statistics only (as every sampler here does: the normal's
-// keeps two sums, whatever n is) or the observations themselves. The layout of Data
-// (which statistics, in which units, or how observations are packed) is
-// the sampler's, and each sampler documents it; a fitter reads the layouts
-// of the samplers it is paired with. Statistics may be kept in the
-// sampler's own units (the normal's in standard units, so the sum of
-// squares carries no cancellation); a fitter of such a sample is built
-// with those units.
+// keeps two sums, whatever n is) or the observations themselves. The
+// layout of Data (which statistics, in which units, or how observations
+// are packed) is the sampler's, and each sampler documents it on its
+// SampleLen; a fitter reads the layouts of the samplers it is paired with.
+// Statistics may be kept in the sampler's own units (the normal's in
+// standard units, so the sum of squares carries no cancellation); a
+// fitter of such a sample is built with those units.
 //
 // A Sample belongs to one worker, which makes Data long enough once, for
 // the largest n it will draw (Sampler.SampleLen), and reuses it for every
