@@ -450,33 +450,10 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 		for _, p := range f.Params {
 			fmt.Fprintf(stdout, "    %-8s %s\n", p.Name, p.Accepts)
 		}
-		fmt.Fprintf(stdout, "    estimates: %s\n", strings.Join(familyParams(f), ", "))
+		fmt.Fprintf(stdout, "    estimates: %s\n", strings.Join(f.Estimates, ", "))
 		fmt.Fprintf(stdout, "    estimator: %s\n\n", f.Estimator)
 	}
 	return exitOK
-}
-
-// familyParams names what a family estimates, building a model at
-// harmless values only to ask it.
-func familyParams(f *family.Family) []string {
-	values := map[string]float64{}
-	for _, p := range f.Params {
-		values[p.Name] = representative(p)
-	}
-	m, err := f.New(values)
-	if err != nil {
-		return nil
-	}
-	return m.Params()
-}
-
-func representative(p family.ParamSpec) float64 {
-	for _, v := range []float64{0.5, 1, 2, 0} {
-		if p.Check(v) && (!p.Integer || v == float64(int(v))) {
-			return v
-		}
-	}
-	return 1
 }
 
 func cmdReport(args []string, stdout, stderr io.Writer) int {

@@ -11,34 +11,45 @@ func init() {
 		Params: []ParamSpec{
 			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
 		},
-		New: func(v map[string]float64) (Model, error) { return bernoulliModel{p: v["p"]}, nil },
+		Estimates: []string{"p"},
+		New: func(v map[string]float64) (Model, error) {
+			m := &bernoulliModel{p: v["p"]}
+			return Model{Truth: []float64{m.p}, Sampler: m, Estimator: m, Asymptotics: m}, nil
+		},
 	})
 }
 
-// bernoulliModel is the Bernoulli family, θ = (p).
+// bernoulliModel is the Bernoulli family with its MLE, θ = (p).
 type bernoulliModel struct{ p float64 }
 
-func (bernoulliModel) Params() []string { return []string{"p"} }
+// SampleLen is 1: a Bernoulli sample is (number of ones).
+func (*bernoulliModel) SampleLen(int) int { return 1 }
 
-func (m bernoulliModel) Truth(theta []float64) { theta[0] = m.p }
-
-// Fit draws each observation from one uniform, 1 when U < p, and returns
-// the proportion of ones. The MLE exists on the boundary too (0 or 1 when
-// the draws all agree), so Fit always reports true; a transform such as the
-// logit is then infinite, which is the runner's to handle.
-func (m bernoulliModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+// Draw draws each observation from one uniform, 1 when U < p.
+func (m *bernoulliModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	count := 0
 	for range n {
 		if rng.Float64() < m.p {
 			count++
 		}
 	}
-	theta[0] = float64(count) / float64(n)
+	s.N, s.Data[0] = n, float64(count)
+}
+
+func (m *bernoulliModel) NewFitter(int) Fitter { return m }
+
+// Fit returns the proportion of ones. The MLE exists on the boundary too
+// (0 or 1 when the draws all agree), so Fit always reports true; a
+// transform such as the logit is then infinite, which is the runner's to
+// handle.
+func (m *bernoulliModel) Fit(s *Sample, theta, cov []float64) bool {
+	theta[0] = s.Data[0] / float64(s.N)
+	m.Cov(theta, cov)
 	return true
 }
 
 // Cov is the inverse Fisher information of one observation, p(1−p).
-func (bernoulliModel) Cov(theta, cov []float64) { cov[0] = theta[0] * (1 - theta[0]) }
+func (*bernoulliModel) Cov(theta, cov []float64) { cov[0] = theta[0] * (1 - theta[0]) }
 
 // Bias is zero: the proportion is unbiased.
-func (bernoulliModel) Bias(theta, bias []float64) { bias[0] = 0 }
+func (*bernoulliModel) Bias(theta, bias []float64) { bias[0] = 0 }

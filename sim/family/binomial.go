@@ -16,14 +16,22 @@ func init() {
 			{Name: "size", Integer: true, Accepts: "a whole number ≥ 1", Check: atLeastOne},
 			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
 		},
-		New: func(v map[string]float64) (Model, error) { return newBinomialModel(v["size"], v["p"]) },
+		Estimates: []string{"p"},
+		New: func(v map[string]float64) (Model, error) {
+			m, err := newBinomialModel(v["size"], v["p"])
+			if err != nil {
+				return Model{}, err
+			}
+			return Model{Truth: []float64{m.p}, Sampler: m, Estimator: m, Asymptotics: m}, nil
+		},
 	})
 }
 
 // binomialSizeMax is the largest whole number a float64 holds exactly.
 const binomialSizeMax = 1 << 53
 
-// binomialModel is the binomial family with size fixed, θ = (p).
+// binomialModel is the binomial family with size fixed and its MLE,
+// θ = (p).
 type binomialModel struct {
 	size  float64
 	p     float64
@@ -56,19 +64,27 @@ func newBinomialModel(size, p float64) (*binomialModel, error) {
 	return &binomialModel{size: size, p: p, table: t}, nil
 }
 
-func (*binomialModel) Params() []string { return []string{"p"} }
+// SampleLen is 1: a binomial sample is (Σy), the successes in n·size
+// trials.
+func (*binomialModel) SampleLen(int) int { return 1 }
 
-func (m *binomialModel) Truth(theta []float64) { theta[0] = m.p }
-
-// Fit draws n binomial counts by table inversion and returns the total over
-// n·size trials. (The total is Binomial(n·size, p), but the design draws
-// each observation.)
-func (m *binomialModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+// Draw draws n binomial counts by table inversion and keeps their total.
+// (The total is Binomial(n·size, p), but the design draws each
+// observation.)
+func (m *binomialModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	var sum float64
 	for range n {
 		sum += float64(m.table.draw(rng))
 	}
-	theta[0] = sum / (float64(n) * m.size)
+	s.N, s.Data[0] = n, sum
+}
+
+func (m *binomialModel) NewFitter(int) Fitter { return m }
+
+// Fit returns the proportion of successes, the total over n·size trials.
+func (m *binomialModel) Fit(s *Sample, theta, cov []float64) bool {
+	theta[0] = s.Data[0] / (float64(s.N) * m.size)
+	m.Cov(theta, cov)
 	return true
 }
 

@@ -17,43 +17,39 @@ func init() {
 			{Name: "sd_y", Accepts: "a number > 0", Check: positive},
 			{Name: "rho", Accepts: "a number strictly between −1 and 1", Check: openSigned},
 		},
+		Estimates: []string{"mean_x", "mean_y", "sd_x", "sd_y", "rho"},
 		New: func(v map[string]float64) (Model, error) {
 			rho := v["rho"]
-			return bivariateNormalModel{
+			m := &bivariateNormalModel{
 				mx: v["mean_x"], my: v["mean_y"], sx: v["sd_x"], sy: v["sd_y"],
 				rho: rho, c: math.Sqrt((1 - rho) * (1 + rho)),
-			}, nil
+			}
+			return Model{Truth: []float64{m.mx, m.my, m.sx, m.sy, m.rho}, Sampler: m, Estimator: m, Asymptotics: m}, nil
 		},
 	})
 }
 
-// bivariateNormalModel is the bivariate normal family,
+// bivariateNormalModel is the bivariate normal family with its MLE,
 // θ = (mean_x, mean_y, sd_x, sd_y, rho).
 type bivariateNormalModel struct {
 	mx, my, sx, sy, rho float64
 	c                   float64 // √(1−ρ²), as (1−ρ)(1+ρ) to keep digits near |ρ| = 1
 }
 
-func (bivariateNormalModel) Params() []string {
-	return []string{"mean_x", "mean_y", "sd_x", "sd_y", "rho"}
-}
-
-func (m bivariateNormalModel) Truth(theta []float64) {
-	theta[0], theta[1], theta[2], theta[3], theta[4] = m.mx, m.my, m.sx, m.sy, m.rho
-}
-
 // pair returns one draw in standard units: x = mean_x + sd_x·z,
 // y = mean_y + sd_y·w, with z, w standard normal and corr(z, w) = ρ.
-func (m bivariateNormalModel) pair(rng *rand.Rand) (z, w float64) {
+func (m *bivariateNormalModel) pair(rng *rand.Rand) (z, w float64) {
 	z = rng.NormFloat64()
 	return z, m.rho*z + m.c*rng.NormFloat64()
 }
 
-// Fit accumulates the standard-unit draws, whose sums are centred at the
-// true means (no cancellation), and rescales once: the sds scale by sd_x,
-// sd_y and Pearson r is scale-free. It reports false when a sample has no
-// spread (n = 1), where r is undefined.
-func (m bivariateNormalModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+// SampleLen is 5: a bivariate normal sample is (Σz, Σw, Σz², Σw², Σzw)
+// over the standard-unit draws of pair.
+func (*bivariateNormalModel) SampleLen(int) int { return 5 }
+
+// Draw accumulates the standard-unit draws, whose sums are centred at the
+// true means (no cancellation).
+func (m *bivariateNormalModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	var sz, sw, szz, sww, szw float64
 	for range n {
 		z, w := m.pair(rng)
@@ -63,7 +59,18 @@ func (m bivariateNormalModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
 		sww += w * w
 		szw += z * w
 	}
-	fn := float64(n)
+	s.N = n
+	s.Data[0], s.Data[1], s.Data[2], s.Data[3], s.Data[4] = sz, sw, szz, sww, szw
+}
+
+func (m *bivariateNormalModel) NewFitter(int) Fitter { return m }
+
+// Fit rescales the standard-unit sums once: the sds scale by sd_x, sd_y
+// and Pearson r is scale-free. It reports false when a sample has no
+// spread (n = 1), where r is undefined.
+func (m *bivariateNormalModel) Fit(s *Sample, theta, cov []float64) bool {
+	sz, sw, szz, sww, szw := s.Data[0], s.Data[1], s.Data[2], s.Data[3], s.Data[4]
+	fn := float64(s.N)
 	cz, cw := sz/fn, sw/fn
 	vzz := szz - sz*cz
 	vww := sww - sw*cw
@@ -77,6 +84,7 @@ func (m bivariateNormalModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
 	theta[2] = m.sx * math.Sqrt(vzz/fn)
 	theta[3] = m.sy * math.Sqrt(vww/fn)
 	theta[4] = math.Max(-1, math.Min(1, r)) // rounding can push |r| past 1
+	m.Cov(theta, cov)
 	return true
 }
 
@@ -88,7 +96,7 @@ func (m bivariateNormalModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
 //
 //	Var σ̂x = σx²/2,  Var σ̂y = σy²/2,  Cov(σ̂x, σ̂y) = ρ²σxσy/2,
 //	Cov(σ̂x, r) = ρ(1−ρ²)σx/2,  Cov(σ̂y, r) = ρ(1−ρ²)σy/2,  Var r = (1−ρ²)².
-func (bivariateNormalModel) Cov(theta, cov []float64) {
+func (*bivariateNormalModel) Cov(theta, cov []float64) {
 	sx, sy, rho := theta[2], theta[3], theta[4]
 	for i := range 25 {
 		cov[i] = 0
@@ -109,7 +117,7 @@ func (bivariateNormalModel) Cov(theta, cov []float64) {
 // Bias: the means are unbiased; each sd with divisor n has the univariate
 // bias −3σ/(4n); Pearson r has E r = ρ − ρ(1−ρ²)/(2n) + O(n⁻²)
 // (Fisher 1915; Olkin & Pratt 1958).
-func (bivariateNormalModel) Bias(theta, bias []float64) {
+func (*bivariateNormalModel) Bias(theta, bias []float64) {
 	bias[0], bias[1] = 0, 0
 	bias[2] = -0.75 * theta[2]
 	bias[3] = -0.75 * theta[3]

@@ -255,12 +255,11 @@ func expectedDerivs(c fisherCase, theta []float64) derivs {
 func TestFamilyCovFisher(t *testing.T) {
 	for _, c := range fisherCases() {
 		m := mustModel(t, c.family, c.values)
-		p := len(m.Params())
-		theta := make([]float64, p)
-		m.Truth(theta)
+		p := len(m.Truth)
+		theta := m.Truth
 		ref := inverseInfo(t, c, expectedDerivs(c, theta).info)
 		cov := make([]float64, p*p)
-		m.Cov(theta, cov)
+		m.Asymptotics.Cov(theta, cov)
 		name := fmt.Sprintf("%s %v", c.family, c.values)
 		for i := range p {
 			for j := range p {
@@ -302,13 +301,13 @@ func inverseInfo(t *testing.T, c fisherCase, info *mat.SymDense) *mat.SymDense {
 func TestFamilyBiasCoxSnell(t *testing.T) {
 	for _, c := range fisherCases() {
 		m := mustModel(t, c.family, c.values)
-		p := len(m.Params())
-		theta := make([]float64, p)
-		m.Truth(theta)
+		names := estimates(t, c.family)
+		p := len(m.Truth)
+		theta := m.Truth
 		d := expectedDerivs(c, theta)
 		k := inverseInfo(t, c, d.info)
 		bias := make([]float64, p)
-		m.Bias(theta, bias)
+		m.Asymptotics.Bias(theta, bias)
 		name := fmt.Sprintf("%s %v", c.family, c.values)
 		for s := range p {
 			var b float64
@@ -325,7 +324,7 @@ func TestFamilyBiasCoxSnell(t *testing.T) {
 			// informations of condition up to ~10³ brings that to ~1e-5.
 			// The unit is √Σₛₛ, the spread of one observation's estimate.
 			if tol := 1e-5 * (math.Abs(bias[s]) + math.Sqrt(k.At(s, s))); math.Abs(b-bias[s]) > tol {
-				t.Errorf("%s: Bias[%s] = %.10g, numerical Cox–Snell %.10g", name, m.Params()[s], bias[s], b)
+				t.Errorf("%s: Bias[%s] = %.10g, numerical Cox–Snell %.10g", name, names[s], bias[s], b)
 			}
 		}
 		var wsum float64

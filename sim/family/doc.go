@@ -1,9 +1,13 @@
 // Package family holds the data-generating families deltaprobe can draw
-// from and the estimators fitted to them: for each, its parameters, a
-// sampler, the estimator (maximum likelihood unless the family says
-// otherwise), the per-observation inverse Fisher information and the
-// estimator's known O(1/n) bias, each formula with its published source.
+// from and the estimators fitted to them: for each, its parameters and
+// the names of what it estimates, a sampler, the estimator (maximum
+// likelihood unless the family says otherwise), the per-observation
+// inverse Fisher information and the estimator's known O(1/n) bias, each
+// formula with its published source.
 //
-// Samplers are exact (no normal approximation to a count) and allocate
-// nothing per replicate.
+// Drawing and fitting are separate steps: a Sampler draws a replicate into
+// a Sample (sufficient statistics only, or the observations), and a
+// Fitter, each worker's own, computes θ̂ and its plug-in covariance from
+// it. Samplers are exact (no normal approximation to a count); neither
+// step allocates per replicate.
 package family

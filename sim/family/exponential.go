@@ -10,31 +10,43 @@ func init() {
 		Params: []ParamSpec{
 			{Name: "rate", Accepts: "a number > 0", Check: positive},
 		},
-		New: func(v map[string]float64) (Model, error) { return exponentialModel{rate: v["rate"]}, nil },
+		Estimates: []string{"rate"},
+		New: func(v map[string]float64) (Model, error) {
+			m := &exponentialModel{rate: v["rate"]}
+			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m}, nil
+		},
 	})
 }
 
-// exponentialModel is the exponential family, θ = (rate).
+// exponentialModel is the exponential family with its MLE, θ = (rate).
 type exponentialModel struct{ rate float64 }
 
-func (exponentialModel) Params() []string { return []string{"rate"} }
+// SampleLen is 1: an exponential sample is (ΣE) over standard exponential
+// draws E_i, the observations being y_i = E_i/λ.
+func (*exponentialModel) SampleLen(int) int { return 1 }
 
-func (m exponentialModel) Truth(theta []float64) { theta[0] = m.rate }
-
-// Fit sums standard exponential draws E_i (y_i = E_i/λ), so the MLE
-// 1/ȳ = λ·n/ΣE_i needs one division per sample instead of one a draw.
-func (m exponentialModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
-	var s float64
+// Draw keeps the sum of n standard exponential draws.
+func (*exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
+	var sum float64
 	for range n {
-		s += rng.ExpFloat64()
+		sum += rng.ExpFloat64()
 	}
-	theta[0] = m.rate * float64(n) / s
+	s.N, s.Data[0] = n, sum
+}
+
+func (m *exponentialModel) NewFitter(int) Fitter { return m }
+
+// Fit: the MLE 1/ȳ = λ·n/ΣE_i needs one division per sample instead of
+// one a draw.
+func (m *exponentialModel) Fit(s *Sample, theta, cov []float64) bool {
+	theta[0] = m.rate * float64(s.N) / s.Data[0]
+	m.Cov(theta, cov)
 	return true
 }
 
 // Cov is the inverse Fisher information of one observation, λ²: the
 // log-density log λ − λy has second derivative −1/λ².
-func (exponentialModel) Cov(theta, cov []float64) { cov[0] = theta[0] * theta[0] }
+func (*exponentialModel) Cov(theta, cov []float64) { cov[0] = theta[0] * theta[0] }
 
 // Bias: nȳ ~ Gamma(n, λ), so E[1/ȳ] = nλ/(n−1) = λ + λ/n + O(n⁻²) and b = λ.
-func (exponentialModel) Bias(theta, bias []float64) { bias[0] = theta[0] }
+func (*exponentialModel) Bias(theta, bias []float64) { bias[0] = theta[0] }

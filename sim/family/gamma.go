@@ -14,31 +14,37 @@ func init() {
 			{Name: "shape", Accepts: "a number > 0", Check: positive},
 			{Name: "rate", Accepts: "a number > 0", Check: positive},
 		},
+		Estimates: []string{"shape", "rate"},
 		New: func(v map[string]float64) (Model, error) {
-			return &gammaModel{shape: v["shape"], rate: v["rate"], gen: newGammaGen(v["shape"])}, nil
+			m := &gammaModel{shape: v["shape"], rate: v["rate"], gen: newGammaGen(v["shape"])}
+			return Model{Truth: []float64{m.shape, m.rate}, Sampler: m, Estimator: m, Asymptotics: m}, nil
 		},
 	})
 }
 
-// gammaModel is the gamma family, θ = (shape α, rate β).
+// gammaModel is the gamma family with its MLE, θ = (shape α, rate β).
 type gammaModel struct {
 	shape, rate float64
 	gen         gammaGen
 }
 
-func (*gammaModel) Params() []string { return []string{"shape", "rate"} }
+// gammaMinN is the fewest observations the gamma MLE has a value for:
+// from one observation the likelihood grows without bound in α.
+const gammaMinN = 2
 
-func (m *gammaModel) Truth(theta []float64) { theta[0], theta[1] = m.shape, m.rate }
+// SampleLen is 2: a gamma sample is (Σw, Σlog w) over draws y_i = d·w_i/β
+// (see gammaGen), unwritten below gammaMinN observations.
+func (*gammaModel) SampleLen(int) int { return 2 }
 
-// Fit draws y_i = d·w_i/β (see gammaGen). The shape equation depends only
-// on s = log w̄ − mean(log w), which is scale-free, and ȳ = d·w̄/β gives
-// β̂ = α̂/ȳ = α̂β/(d·w̄). It reports false for n < 2, where the likelihood
-// grows without bound in α, when s is not positive (all draws equal to
-// rounding) or when the Newton iteration fails. Draws that underflow to
-// w = 0 (shapes near 0) still carry their exact log w.
-func (m *gammaModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
-	if n < 2 {
-		return false
+// Draw draws y_i = d·w_i/β and keeps Σw and Σlog w: the shape equation
+// depends only on s = log w̄ − mean(log w), which is scale-free. Draws
+// that underflow to w = 0 (shapes near 0) still carry their exact log w.
+// Below gammaMinN observations Draw draws nothing: no estimate exists
+// there, so the replicate is undefined whatever it would draw.
+func (m *gammaModel) Draw(rng *rand.Rand, n int, s *Sample) {
+	s.N = n
+	if n < gammaMinN {
+		return
 	}
 	var sw, slw float64
 	for range n {
@@ -46,6 +52,21 @@ func (m *gammaModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
 		sw += w
 		slw += lw
 	}
+	s.Data[0], s.Data[1] = sw, slw
+}
+
+func (m *gammaModel) NewFitter(int) Fitter { return m }
+
+// Fit solves the shape equation (gammaShapeMLE) and, with ȳ = d·w̄/β,
+// gives β̂ = α̂/ȳ = α̂β/(d·w̄). It reports false below gammaMinN
+// observations, when s is not positive (all draws equal to rounding) or
+// when the Newton iteration fails.
+func (m *gammaModel) Fit(s *Sample, theta, cov []float64) bool {
+	n := s.N
+	if n < gammaMinN {
+		return false
+	}
+	sw, slw := s.Data[0], s.Data[1]
 	fn := float64(n)
 	mw := sw / fn
 	a, ok := gammaShapeMLE(math.Log(mw) - slw/fn)
@@ -54,6 +75,7 @@ func (m *gammaModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
 	}
 	theta[0] = a
 	theta[1] = a * m.rate / (m.gen.d * mw)
+	m.Cov(theta, cov)
 	return true
 }
 

@@ -29,6 +29,43 @@ func mustModel(t testing.TB, family string, values map[string]float64) Model {
 	return m
 }
 
+// trial draws and fits one arm's replicates as a runner's worker does:
+// one sample and one fitter of its own, reused for every replicate.
+type trial struct {
+	m      Model
+	sample Sample
+	fitter Fitter
+	cov    []float64 // the plug-in covariance of the latest fit
+}
+
+// newTrial returns a trial of m for samples of at most maxN observations.
+func newTrial(m Model, maxN int) *trial {
+	p := len(m.Truth)
+	return &trial{
+		m:      m,
+		sample: Sample{Data: make([]float64, m.Sampler.SampleLen(maxN))},
+		fitter: m.Estimator.NewFitter(maxN),
+		cov:    make([]float64, p*p),
+	}
+}
+
+// fit draws a sample of n observations with rng and fits it, writing θ̂
+// into theta; it reports what Fit reports.
+func (tr *trial) fit(rng *rand.Rand, n int, theta []float64) bool {
+	tr.m.Sampler.Draw(rng, n, &tr.sample)
+	return tr.fitter.Fit(&tr.sample, theta, tr.cov)
+}
+
+// estimates returns the names of θ's entries for a family.
+func estimates(t testing.TB, family string) []string {
+	t.Helper()
+	f, ok := Lookup(family)
+	if !ok {
+		t.Fatalf("family %q not registered", family)
+	}
+	return f.Estimates
+}
+
 // ksCritical001 is the 0.1% critical value of √N·D for the one-sample
 // Kolmogorov–Smirnov statistic, from the first term of the asymptotic
 // Kolmogorov tail P(√N·D > c) ≈ 2·exp(−2c²) (from memory):

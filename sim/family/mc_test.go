@@ -26,16 +26,17 @@ var mcCases = []mcCase{
 	{"bivariate_normal", map[string]float64{"mean_x": 1, "mean_y": -2, "sd_x": 1.5, "sd_y": 0.5, "rho": 0.6}},
 }
 
-// replicate runs Fit r times at sample size n and returns the estimates,
+// replicate draws and fits r samples of size n and returns the estimates,
 // row-major r×p. Every replicate in these tests is defined; a false from
 // Fit fails the test.
 func replicate(t *testing.T, m Model, seed uint64, n, r int) []float64 {
 	t.Helper()
-	p := len(m.Params())
+	p := len(m.Truth)
 	out := make([]float64, r*p)
 	rng := testRand(seed)
+	tr := newTrial(m, n)
 	for k := range r {
-		if !m.Fit(rng, n, out[k*p:(k+1)*p]) {
+		if !tr.fit(rng, n, out[k*p:(k+1)*p]) {
 			t.Fatalf("Fit reported false at n = %d", n)
 		}
 	}
@@ -55,7 +56,8 @@ func TestFamilyCovMonteCarlo(t *testing.T) {
 		t.Run(fmt.Sprintf("%s/%d", c.family, ci), func(t *testing.T) {
 			t.Parallel()
 			m := mustModel(t, c.family, c.values)
-			p := len(m.Params())
+			names := estimates(t, c.family)
+			p := len(m.Truth)
 			est := replicate(t, m, uint64(2000+ci), n, r)
 			mean := make([]float64, p)
 			for k := range r {
@@ -63,10 +65,9 @@ func TestFamilyCovMonteCarlo(t *testing.T) {
 					mean[i] += est[k*p+i] / r
 				}
 			}
-			theta := make([]float64, p)
-			m.Truth(theta)
+			theta := m.Truth
 			cov := make([]float64, p*p)
-			m.Cov(theta, cov)
+			m.Asymptotics.Cov(theta, cov)
 			for i := range p {
 				for j := i; j < p; j++ {
 					prods := make([]float64, r)
@@ -77,7 +78,7 @@ func TestFamilyCovMonteCarlo(t *testing.T) {
 					scale := math.Sqrt(cov[p*i+i] * cov[p*j+j])
 					if tol := 4*se + 10*scale/n; math.Abs(got-cov[p*i+j]) > tol {
 						t.Errorf("%s %v: n·Cov(θ̂)[%s,%s] = %.5g ± %.2g (MCSE), Cov = %.5g",
-							c.family, c.values, m.Params()[i], m.Params()[j], got, se, cov[p*i+j])
+							c.family, c.values, names[i], names[j], got, se, cov[p*i+j])
 					}
 				}
 			}
@@ -98,13 +99,13 @@ func TestFamilyBiasMonteCarlo(t *testing.T) {
 		t.Run(fmt.Sprintf("%s/%d", c.family, ci), func(t *testing.T) {
 			t.Parallel()
 			m := mustModel(t, c.family, c.values)
-			p := len(m.Params())
+			names := estimates(t, c.family)
+			p := len(m.Truth)
 			const r = 40000
 			est := replicate(t, m, uint64(3000+ci), n, r)
-			theta := make([]float64, p)
-			m.Truth(theta)
+			theta := m.Truth
 			bias := make([]float64, p)
-			m.Bias(theta, bias)
+			m.Asymptotics.Bias(theta, bias)
 			d := make([]float64, r)
 			for i := range p {
 				for k := range r {
@@ -113,10 +114,10 @@ func TestFamilyBiasMonteCarlo(t *testing.T) {
 				got, se := meanSE(d)
 				want := bias[i] / n
 				tol := 4*se + 10*math.Abs(bias[i])/(n*n)
-				t.Logf("%s: E θ̂ − θ = %.5g ± %.2g, b/n = %.5g, tolerance %.2g", m.Params()[i], got, se, want, tol)
+				t.Logf("%s: E θ̂ − θ = %.5g ± %.2g, b/n = %.5g, tolerance %.2g", names[i], got, se, want, tol)
 				if math.Abs(got-want) > tol {
 					t.Errorf("%s %v: E θ̂ − θ for %s = %.5g ± %.2g (MCSE), b/n = %.5g (tolerance %.2g)",
-						c.family, c.values, m.Params()[i], got, se, want, tol)
+						c.family, c.values, names[i], got, se, want, tol)
 				}
 			}
 		})
@@ -166,7 +167,7 @@ func TestFamilyBiasExact(t *testing.T) {
 	}
 	for ci, c := range cases {
 		m := mustModel(t, c.family, c.values)
-		p := len(m.Params())
+		p := len(m.Truth)
 		const r = 200000
 		est := replicate(t, m, uint64(4000+ci), c.n, r)
 		xs := make([]float64, r)
@@ -218,10 +219,8 @@ func TestFamilyBiasLimit(t *testing.T) {
 	}
 	for _, c := range cases {
 		m := mustModel(t, c.family, c.values)
-		p := len(m.Params())
-		theta, bias := make([]float64, p), make([]float64, p)
-		m.Truth(theta)
-		m.Bias(theta, bias)
+		theta, bias := m.Truth, make([]float64, len(m.Truth))
+		m.Asymptotics.Bias(theta, bias)
 		got := rich(c.exact, theta[c.param])
 		// 1e-4 of |b| covers the O(n⁻²) term and the ~1e-9 relative
 		// rounding of the Gamma-function ratio.

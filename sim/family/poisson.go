@@ -15,7 +15,14 @@ func init() {
 		Params: []ParamSpec{
 			{Name: "mean", Accepts: "a number > 0", Check: positive},
 		},
-		New: func(v map[string]float64) (Model, error) { return newPoissonModel(v["mean"]) },
+		Estimates: []string{"mean"},
+		New: func(v map[string]float64) (Model, error) {
+			m, err := newPoissonModel(v["mean"])
+			if err != nil {
+				return Model{}, err
+			}
+			return Model{Truth: []float64{m.mean}, Sampler: m, Estimator: m, Asymptotics: m}, nil
+		},
 	})
 }
 
@@ -28,7 +35,7 @@ const poissonTableMax = 1e5
 // represents exactly (2⁵³ ≈ 9·10¹⁵).
 const poissonMeanMax = 1e15
 
-// poissonModel is the Poisson family, θ = (mean).
+// poissonModel is the Poisson family with its MLE, θ = (mean).
 type poissonModel struct {
 	mean  float64
 	table *cdfTable // nil when ptrs is used
@@ -55,9 +62,8 @@ func newPoissonModel(mean float64) (*poissonModel, error) {
 	return m, nil
 }
 
-func (*poissonModel) Params() []string { return []string{"mean"} }
-
-func (m *poissonModel) Truth(theta []float64) { theta[0] = m.mean }
+// SampleLen is 1: a Poisson sample is (Σy).
+func (*poissonModel) SampleLen(int) int { return 1 }
 
 // draw returns one observation.
 func (m *poissonModel) draw(rng *rand.Rand) float64 {
@@ -67,15 +73,23 @@ func (m *poissonModel) draw(rng *rand.Rand) float64 {
 	return m.ptrs.draw(rng)
 }
 
-// Fit draws n counts; the MLE is their mean. The sum is kept as a float64,
-// exact while it stays below 2⁵³. (The sum is itself Poisson(nμ), but the
-// design draws each observation.)
-func (m *poissonModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+// Draw draws n counts and keeps their sum as a float64, exact while it
+// stays below 2⁵³. (The sum is itself Poisson(nμ), but the design draws
+// each observation.)
+func (m *poissonModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	var sum float64
 	for range n {
 		sum += m.draw(rng)
 	}
-	theta[0] = sum / float64(n)
+	s.N, s.Data[0] = n, sum
+}
+
+func (m *poissonModel) NewFitter(int) Fitter { return m }
+
+// Fit: the MLE is the mean count.
+func (m *poissonModel) Fit(s *Sample, theta, cov []float64) bool {
+	theta[0] = s.Data[0] / float64(s.N)
+	m.Cov(theta, cov)
 	return true
 }
 

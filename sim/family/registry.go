@@ -5,26 +5,90 @@ import (
 	"sort"
 )
 
-// Model is a family with its parameters fixed at their true values. It is
-// shared by every worker, so its methods must not change its state.
-type Model interface {
-	// Params names the estimated parameters, in the order of θ.
-	Params() []string
-	// Truth writes θ0 into theta.
-	Truth(theta []float64)
-	// Fit draws a sample of n observations with rng and writes the
-	// estimate θ̂ into theta. It reports false when the estimator has no
+// Sample is one replicate's data as a Sampler leaves it for a Fitter: the
+// number of observations drawn and what the sampler keeps of them, either
+// sufficient statistics only (as every sampler here does: the normal's
+// keeps two sums, whatever n is) or the observations themselves. The
+// layout of Data (which statistics, in which units, or how observations
+// are packed) is the sampler's, and each sampler documents it on its
+// SampleLen; a fitter reads the layouts of the samplers it is paired with.
+// Statistics may be kept in the sampler's own units (the normal's in
+// standard units, so the sum of squares carries no cancellation); a
+// fitter of such a sample is built with those units.
+//
+// A Sample belongs to one worker, which makes Data long enough once, for
+// the largest n it will draw (Sampler.SampleLen), and reuses it for every
+// replicate.
+type Sample struct {
+	N    int       // observations drawn
+	Data []float64 // at least SampleLen(N) long; Draw writes the first SampleLen(N) entries
+}
+
+// Sampler draws samples from a data-generating model whose parameters are
+// fixed at their true values. It is shared by every worker, so its methods
+// must not change its state.
+type Sampler interface {
+	// SampleLen is the length of Sample.Data that Draw fills for n
+	// observations: a constant for a sampler that keeps sufficient
+	// statistics, proportional to n for one that keeps observations.
+	SampleLen(n int) int
+	// Draw draws n observations with rng into s, setting s.N to n. It
+	// allocates nothing.
+	Draw(rng *rand.Rand, n int, s *Sample)
+}
+
+// Estimator makes the fitters of one estimator. It is shared by every
+// worker, so it must not change its state.
+type Estimator interface {
+	// NewFitter returns a fitter for samples of at most maxN
+	// observations. A worker calls it once and keeps the fitter to
+	// itself, so whatever buffers an iterative fit needs are allocated
+	// here, once per worker, and never per replicate.
+	NewFitter(maxN int) Fitter
+}
+
+// Fitter computes an estimate and its plug-in covariance from a sample.
+// A fitter belongs to one worker: it may keep buffers from one replicate
+// to the next (kept inside padding, as expr.Evaluator keeps its own, if
+// it writes them per replicate), but it reads the sample only.
+type Fitter interface {
+	// Fit writes the estimate θ̂ into theta and the plug-in estimate of
+	// the per-observation covariance of θ̂ into cov (row-major,
+	// len(theta)² entries). The plug-in may use the sample as well as θ̂
+	// (observed information, a sandwich); the estimators here write their
+	// Asymptotics.Cov at θ̂. Fit reports false when the estimator has no
 	// value for this sample (for example a numerical MLE that did not
-	// converge); the replicate is then undefined. Fit allocates nothing.
-	Fit(rng *rand.Rand, n int, theta []float64) bool
+	// converge); the replicate is then undefined, and neither theta nor
+	// cov is read. Fit allocates nothing.
+	Fit(s *Sample, theta, cov []float64) bool
+}
+
+// Asymptotics is what first-order theory says about an estimator under
+// the data-generating model; the delta-method predictions are built from
+// it at the truth. It is shared by every worker and allocates nothing.
+type Asymptotics interface {
 	// Cov writes Σ(θ), the per-observation asymptotic covariance of θ̂
-	// (the inverse of the expected Fisher information of one
-	// observation), row-major, len(Params())² entries. It allocates
-	// nothing.
+	// (for a maximum-likelihood fit of the data's own family, the inverse
+	// of the expected Fisher information of one observation), row-major,
+	// len(theta)² entries.
 	Cov(theta, cov []float64)
-	// Bias writes b(θ), the estimator's first-order bias per observation:
-	// E θ̂ − θ = b(θ)/n + o(1/n). Zero where the estimator is unbiased.
+	// Bias writes b(θ), the estimator's first-order bias per
+	// observation: E θ̂ − θ = b(θ)/n + o(1/n). Zero where the estimator
+	// is unbiased.
 	Bias(theta, bias []float64)
+}
+
+// Model is one arm's data-generating model with its estimator, the
+// parameters fixed at their true values: a sampler, an estimator and the
+// estimator's asymptotics, kept apart so that a study can draw from one
+// model and fit another. All of it is shared by every worker.
+type Model struct {
+	// Truth is θ0, the value the estimator targets, one entry per name
+	// in the family's Estimates. It must not be changed.
+	Truth       []float64
+	Sampler     Sampler
+	Estimator   Estimator
+	Asymptotics Asymptotics
 }
 
 // ParamSpec describes one parameter a family takes in the study file.
@@ -46,6 +110,10 @@ type Family struct {
 	// search must allow for.
 	Discrete bool
 	Params   []ParamSpec
+	// Estimates names the estimated parameters, the entries of θ, in
+	// order. For a family's own MLE they are its Params less those fixed
+	// and known (binomial size).
+	Estimates []string
 	// New builds the model from validated parameter values, keyed by
 	// ParamSpec.Name.
 	New func(values map[string]float64) (Model, error)

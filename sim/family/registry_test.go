@@ -58,15 +58,19 @@ func TestFamilyRegistry(t *testing.T) {
 		if f.Summary == "" || f.Estimator == "" {
 			t.Errorf("%s: missing Summary or Estimator", c.name)
 		}
-		m := mustModel(t, c.name, c.values)
-		if got := m.Params(); !slices.Equal(got, c.estimated) {
-			t.Errorf("%s: Params() = %v, want %v", c.name, got, c.estimated)
+		if !slices.Equal(f.Estimates, c.estimated) {
+			t.Errorf("%s: Estimates = %v, want %v", c.name, f.Estimates, c.estimated)
 		}
-		theta := make([]float64, len(c.estimated))
-		m.Truth(theta)
+		m := mustModel(t, c.name, c.values)
+		if m.Sampler == nil || m.Estimator == nil || m.Asymptotics == nil {
+			t.Fatalf("%s: model %+v lacks a piece", c.name, m)
+		}
+		if len(m.Truth) != len(c.estimated) {
+			t.Fatalf("%s: Truth has %d entries, want one per estimate %v", c.name, len(m.Truth), c.estimated)
+		}
 		for i, p := range c.estimated {
-			if theta[i] != c.values[p] {
-				t.Errorf("%s: Truth %s = %v, want %v", c.name, p, theta[i], c.values[p])
+			if m.Truth[i] != c.values[p] {
+				t.Errorf("%s: Truth %s = %v, want %v", c.name, p, m.Truth[i], c.values[p])
 			}
 		}
 	}
@@ -133,32 +137,29 @@ func TestFamilyNewErrors(t *testing.T) {
 	}
 }
 
-// TestFamilyFitAllocs checks that Fit, Cov, Bias and Truth allocate nothing.
+// TestFamilyFitAllocs checks that Draw, Fit, Cov and Bias allocate
+// nothing, for every family and for the PTRS path of the poisson.
 func TestFamilyFitAllocs(t *testing.T) {
-	for _, c := range familyContract {
+	ptrs := contractCase{"poisson", nil, []string{"mean"}, map[string]float64{"mean": 1e7}}
+	for _, c := range append(slices.Clone(familyContract), ptrs) {
 		m := mustModel(t, c.name, c.values)
 		p := len(c.estimated)
 		theta, cov, bias := make([]float64, p), make([]float64, p*p), make([]float64, p)
+		tr := newTrial(m, 50)
 		rng := testRand(1)
-		if a := testing.AllocsPerRun(100, func() { m.Fit(rng, 50, theta) }); a != 0 {
-			t.Errorf("%s: Fit allocates %v per call", c.name, a)
+		if a := testing.AllocsPerRun(100, func() { tr.fit(rng, 50, theta) }); a != 0 {
+			t.Errorf("%s %v: Draw and Fit allocate %v per call", c.name, c.values, a)
 		}
-		if a := testing.AllocsPerRun(100, func() { m.Cov(theta, cov); m.Bias(theta, bias); m.Truth(theta) }); a != 0 {
-			t.Errorf("%s: Cov/Bias/Truth allocate %v per call", c.name, a)
+		if a := testing.AllocsPerRun(100, func() { m.Asymptotics.Cov(theta, cov); m.Asymptotics.Bias(theta, bias) }); a != 0 {
+			t.Errorf("%s %v: Cov and Bias allocate %v per call", c.name, c.values, a)
 		}
-	}
-	// The PTRS path of the poisson too.
-	m := mustModel(t, "poisson", map[string]float64{"mean": 1e7})
-	var theta [1]float64
-	rng := testRand(2)
-	if a := testing.AllocsPerRun(100, func() { m.Fit(rng, 50, theta[:]) }); a != 0 {
-		t.Errorf("poisson (PTRS): Fit allocates %v per call", a)
 	}
 }
 
-// TestFamilyFitConcurrent runs one shared model from several goroutines,
-// each with its own generator, and checks that every goroutine gets what
-// a serial run with the same seed gets (run it with -race too).
+// TestFamilyFitConcurrent shares one model between several goroutines,
+// each with its own generator, sample and fitter, as the runner's workers
+// have, and checks that every goroutine gets what a serial run with the
+// same seed gets (run it with -race too).
 func TestFamilyFitConcurrent(t *testing.T) {
 	const workers, reps, n = 4, 200, 30
 	ptrs := contractCase{"poisson", nil, []string{"mean"}, map[string]float64{"mean": 5e6}}
@@ -167,8 +168,9 @@ func TestFamilyFitConcurrent(t *testing.T) {
 		p := len(c.estimated)
 		run := func(seed uint64, out []float64) {
 			rng := rand.New(rand.NewPCG(seed, 7))
+			tr := newTrial(m, n)
 			for k := range reps {
-				if !m.Fit(rng, n, out[k*p:(k+1)*p]) {
+				if !tr.fit(rng, n, out[k*p:(k+1)*p]) {
 					out[k*p] = math.NaN()
 				}
 			}
@@ -197,17 +199,20 @@ func TestFamilyFitConcurrent(t *testing.T) {
 	}
 }
 
+// BenchmarkSample times drawing and fitting one sample of 50 observations
+// (the plug-in covariance included), as a worker does for one arm.
 func BenchmarkSample(b *testing.B) {
+	bench := func(b *testing.B, m Model) {
+		tr := newTrial(m, 50)
+		theta := make([]float64, len(m.Truth))
+		rng := testRand(9)
+		b.ReportAllocs()
+		for b.Loop() {
+			tr.fit(rng, 50, theta)
+		}
+	}
 	for _, c := range familyContract {
-		b.Run(c.name, func(b *testing.B) {
-			m := mustModel(b, c.name, c.values)
-			theta := make([]float64, len(c.estimated))
-			rng := testRand(9)
-			b.ReportAllocs()
-			for b.Loop() {
-				m.Fit(rng, 50, theta)
-			}
-		})
+		b.Run(c.name, func(b *testing.B) { bench(b, mustModel(b, c.name, c.values)) })
 	}
 	// Larger means and shapes take the other code paths.
 	for _, c := range []struct {
@@ -219,15 +224,7 @@ func BenchmarkSample(b *testing.B) {
 		{"gamma_boost", "gamma", map[string]float64{"shape": 0.3, "rate": 1}},
 		{"binomial_wide", "binomial", map[string]float64{"size": 1e6, "p": 0.4}},
 	} {
-		b.Run(c.name, func(b *testing.B) {
-			m := mustModel(b, c.family, c.values)
-			theta := make([]float64, len(m.Params()))
-			rng := testRand(9)
-			b.ReportAllocs()
-			for b.Loop() {
-				m.Fit(rng, 50, theta)
-			}
-		})
+		b.Run(c.name, func(b *testing.B) { bench(b, mustModel(b, c.family, c.values)) })
 	}
 }
 
@@ -238,15 +235,15 @@ func TestFamilyFitUndefined(t *testing.T) {
 	for _, name := range []string{"gamma", "bivariate_normal"} {
 		i := slices.IndexFunc(familyContract, func(c contractCase) bool { return c.name == name })
 		c := familyContract[i]
-		m := mustModel(t, name, c.values)
+		tr := newTrial(mustModel(t, name, c.values), 2)
 		theta := make([]float64, len(c.estimated))
 		rng := testRand(5)
 		for range 100 {
-			if m.Fit(rng, 1, theta) {
+			if tr.fit(rng, 1, theta) {
 				t.Errorf("%s: Fit at n = 1 reported true", name)
 				break
 			}
-			if !m.Fit(rng, 2, theta) {
+			if !tr.fit(rng, 2, theta) {
 				t.Errorf("%s: Fit at n = 2 reported false", name)
 				break
 			}

@@ -8,20 +8,20 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 )
 
-// Goodness of fit of every sampler against gonum's distributions. Where Fit
-// at n = 1 returns a one-to-one function of its single observation
+// Goodness of fit of every sampler against gonum's distributions. Where the
+// fit at n = 1 returns a one-to-one function of its single observation
 // (exponential, lognormal, poisson, bernoulli, binomial), the draws are
-// taken through Fit itself, so the code under test is the code the runner
-// calls. All checks are at the 0.1% level with fixed seeds.
+// taken through Draw and Fit themselves, so the code under test is the
+// code the runner calls. All checks are at the 0.1% level with fixed seeds.
 
 func TestSampleExponentialKS(t *testing.T) {
 	for i, rate := range []float64{0.05, 1, 7.5} {
-		m := mustModel(t, "exponential", map[string]float64{"rate": rate})
+		tr := newTrial(mustModel(t, "exponential", map[string]float64{"rate": rate}), 1)
 		rng := testRand(100 + uint64(i))
 		xs := make([]float64, 20000)
 		var th [1]float64
 		for j := range xs {
-			m.Fit(rng, 1, th[:])
+			tr.fit(rng, 1, th[:])
 			xs[j] = 1 / th[0] // n = 1: λ̂ = 1/y
 		}
 		ksCheck(t, fmt.Sprintf("exponential(rate=%g)", rate), xs, distuv.Exponential{Rate: rate}.CDF) // gonum distuv.Exponential CDF
@@ -30,12 +30,12 @@ func TestSampleExponentialKS(t *testing.T) {
 
 func TestSampleLognormalKS(t *testing.T) {
 	for i, c := range []struct{ meanlog, sdlog float64 }{{0, 1}, {-3, 0.1}, {2, 2.5}} {
-		m := mustModel(t, "lognormal", map[string]float64{"meanlog": c.meanlog, "sdlog": c.sdlog})
+		tr := newTrial(mustModel(t, "lognormal", map[string]float64{"meanlog": c.meanlog, "sdlog": c.sdlog}), 1)
 		rng := testRand(200 + uint64(i))
 		xs := make([]float64, 20000)
 		var th [2]float64
 		for j := range xs {
-			m.Fit(rng, 1, th[:])
+			tr.fit(rng, 1, th[:])
 			xs[j] = math.Exp(th[0]) // n = 1: meanloĝ = log y
 		}
 		ksCheck(t, fmt.Sprintf("lognormal(%g, %g)", c.meanlog, c.sdlog), xs,
@@ -83,7 +83,7 @@ func TestSampleBivariateNormalKS(t *testing.T) {
 	std := distuv.UnitNormal.CDF // gonum distuv.Normal CDF
 	for i, rho := range []float64{-0.95, 0, 0.5} {
 		m := mustModel(t, "bivariate_normal", map[string]float64{
-			"mean_x": 0, "mean_y": 0, "sd_x": 1, "sd_y": 1, "rho": rho}).(bivariateNormalModel)
+			"mean_x": 0, "mean_y": 0, "sd_x": 1, "sd_y": 1, "rho": rho}).Sampler.(*bivariateNormalModel)
 		rng := testRand(400 + uint64(i))
 		const n = 20000
 		zs, ws, sum, cond := make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
@@ -106,12 +106,12 @@ func TestSampleBivariateNormalKS(t *testing.T) {
 func TestSamplePoissonChiSquare(t *testing.T) {
 	// Table inversion up to poissonTableMax, PTRS above it.
 	for i, mean := range []float64{1e-3, 0.2, 1, 4.5, 30, 250, 9e4, 2e5, 1e7, 1e13} {
-		m := mustModel(t, "poisson", map[string]float64{"mean": mean})
+		tr := newTrial(mustModel(t, "poisson", map[string]float64{"mean": mean}), 1)
 		rng := testRand(500 + uint64(i))
 		draws := make([]int, 200000)
 		var th [1]float64
 		for j := range draws {
-			m.Fit(rng, 1, th[:])
+			tr.fit(rng, 1, th[:])
 			draws[j] = int(th[0])
 		}
 		d := distuv.Poisson{Lambda: mean} // gonum distuv.Poisson Prob and CDF
@@ -175,12 +175,12 @@ func TestSampleBinomialChiSquare(t *testing.T) {
 		{1, 0.3}, {5, 0.5}, {20, 0.03}, {40, 0.97}, {1000, 0.4}, {1e6, 1e-4}, {1e7, 0.5}, {3, 1e-6},
 	}
 	for i, c := range cases {
-		m := mustModel(t, "binomial", map[string]float64{"size": c.size, "p": c.p})
+		tr := newTrial(mustModel(t, "binomial", map[string]float64{"size": c.size, "p": c.p}), 1)
 		rng := testRand(700 + uint64(i))
 		draws := make([]int, 200000)
 		var th [1]float64
 		for j := range draws {
-			m.Fit(rng, 1, th[:])
+			tr.fit(rng, 1, th[:])
 			draws[j] = int(math.Round(th[0] * c.size)) // n = 1: p̂ = y/size
 		}
 		d := distuv.Binomial{N: c.size, P: c.p} // gonum distuv.Binomial Prob and CDF
@@ -190,12 +190,12 @@ func TestSampleBinomialChiSquare(t *testing.T) {
 
 func TestSampleBernoulliChiSquare(t *testing.T) {
 	for i, p := range []float64{0.001, 0.37, 0.9} {
-		m := mustModel(t, "bernoulli", map[string]float64{"p": p})
+		tr := newTrial(mustModel(t, "bernoulli", map[string]float64{"p": p}), 1)
 		rng := testRand(800 + uint64(i))
 		draws := make([]int, 200000)
 		var th [1]float64
 		for j := range draws {
-			m.Fit(rng, 1, th[:])
+			tr.fit(rng, 1, th[:])
 			draws[j] = int(th[0])
 		}
 		d := distuv.Bernoulli{P: p} // gonum distuv.Bernoulli Prob and CDF

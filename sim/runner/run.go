@@ -15,6 +15,7 @@ import (
 	"unsafe"
 
 	"deltaprobe/sim/expr"
+	"deltaprobe/sim/family"
 	"deltaprobe/sim/study"
 )
 
@@ -273,23 +274,25 @@ func padded[T any](n int) []T {
 // nothing, and keeps everything it writes per replicate inside its own
 // padding (see pad).
 type worker struct {
-	_      [pad]byte
-	pcg    rand.PCG  // by value: its state is written on every draw
-	rng    rand.Rand // draws from pcg
-	s      *study.Study
-	res    *Result
-	z      float64 // normal quantile of the Wald interval
-	theta  []float64
-	grad   []float64
-	covs   [][]float64
-	dims   []int // parameters per arm
-	sizes  []int
-	evals  []*expr.Evaluator
-	accs   []cellAcc
-	useArm [][]bool // [transform][arm]: whether the transform reads the arm
-	rep    int      // replicate within the block, for panic reports
-	stage  int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
-	_      [pad]byte
+	_       [pad]byte
+	pcg     rand.PCG  // by value: its state is written on every draw
+	rng     rand.Rand // draws from pcg
+	s       *study.Study
+	res     *Result
+	z       float64 // normal quantile of the Wald interval
+	theta   []float64
+	grad    []float64
+	covs    [][]float64     // per arm: the plug-in covariance of its θ̂
+	samples []family.Sample // per arm: the latest draw, read by its fitter
+	fitters []family.Fitter // per arm: this worker's own, with any buffers its fit keeps
+	dims    []int           // parameters per arm
+	sizes   []int
+	evals   []*expr.Evaluator
+	accs    []cellAcc
+	useArm  [][]bool // [transform][arm]: whether the transform reads the arm
+	rep     int      // replicate within the block, for panic reports
+	stage   int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
+	_       [pad]byte
 }
 
 // cellAcc accumulates one transform over one block. Counters and
@@ -312,14 +315,23 @@ func newWorker(s *study.Study, res *Result) *worker {
 	w.rng = *rand.New(&w.pcg)
 	w.z = math.Sqrt2 * math.Erfinv(s.Level)
 	w.sizes = make([]int, len(s.Arms))
-	// θ̂, the gradient and the arms' covariances, written per replicate,
-	// share one padded array.
+	// θ̂, the gradient, the arms' covariances and their samples' data,
+	// written per replicate, share one padded array; the samples'
+	// headers, whose N is written per replicate, get one of their own.
 	d := s.Dim()
 	floats := d + d
-	for _, a := range s.Arms {
-		k := len(a.Model.Params())
+	sampleLens := make([]int, len(s.Arms))
+	for ai, a := range s.Arms {
+		k := len(a.Model.Truth)
 		w.dims = append(w.dims, k)
-		floats += k * k
+		maxN := 0
+		for _, n := range s.SampleSizes {
+			size := s.ArmSize(ai, n)
+			maxN = max(maxN, size)
+			sampleLens[ai] = max(sampleLens[ai], a.Model.Sampler.SampleLen(size))
+		}
+		w.fitters = append(w.fitters, a.Model.Estimator.NewFitter(maxN))
+		floats += k*k + sampleLens[ai]
 	}
 	buf := padded[float64](floats)
 	w.theta, buf = buf[:d:d], buf[d:]
@@ -328,13 +340,18 @@ func newWorker(s *study.Study, res *Result) *worker {
 		w.covs = append(w.covs, buf[:k*k:k*k])
 		buf = buf[k*k:]
 	}
+	w.samples = padded[family.Sample](len(s.Arms))
+	for ai, l := range sampleLens {
+		w.samples[ai].Data = buf[:l:l]
+		buf = buf[l:]
+	}
 	w.accs = padded[cellAcc](len(s.Transforms))
 	for ti, t := range s.Transforms {
 		w.evals = append(w.evals, t.Program.NewEvaluator())
 		w.accs[ti] = cellAcc{vals: padded[float64](BlockSize)[:0], delta: newHistogram(), wald: newHistogram()}
 		use := make([]bool, len(s.Arms))
 		for ai, a := range s.Arms {
-			for i := range a.Model.Params() {
+			for i := range a.Model.Truth {
 				if t.Program.Uses(a.Offset + i) {
 					use[ai] = true
 				}
@@ -403,12 +420,12 @@ func (w *worker) replicate() {
 	for a := range s.Arms {
 		arm := &s.Arms[a]
 		w.stage = a
-		theta := w.theta[arm.Offset:]
-		if !arm.Model.Fit(&w.rng, w.sizes[a], theta) {
+		sample := &w.samples[a]
+		arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
+		off := arm.Offset
+		if !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a]) {
 			fitted = false
-			continue
 		}
-		arm.Model.Cov(theta, w.covs[a])
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]

@@ -3,11 +3,14 @@ package runner
 import (
 	"context"
 	"errors"
+	"math"
 	"math/rand/v2"
 	"strings"
+	"sync/atomic"
 	"testing"
 
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/study"
 	"deltaprobe/sim/study/studytest"
 )
 
@@ -48,6 +51,122 @@ func TestReplicateAllocatesNothing(t *testing.T) {
 	}
 }
 
+// normalObservations is a normal sampler that keeps every observation,
+// y_i = mean + sd·z_i, drawing the same z_i as the normal family does.
+type normalObservations struct{ mean, sd float64 }
+
+func (normalObservations) SampleLen(n int) int { return n }
+
+func (m normalObservations) Draw(rng *rand.Rand, n int, s *family.Sample) {
+	s.N = n
+	for i := range n {
+		s.Data[i] = m.mean + m.sd*rng.NormFloat64()
+	}
+}
+
+// normalFromObservations makes fitters of the normal MLE for kept
+// observations, each with a buffer of its own for the deviations from the
+// mean, and counts the fitters it makes and the largest n asked for.
+type normalFromObservations struct {
+	made, maxN *atomic.Int64
+}
+
+func (e normalFromObservations) NewFitter(maxN int) family.Fitter {
+	e.made.Add(1)
+	e.maxN.Store(int64(maxN))
+	return &deviationsFitter{dev: make([]float64, maxN)}
+}
+
+type deviationsFitter struct{ dev []float64 }
+
+func (f *deviationsFitter) Fit(s *family.Sample, theta, cov []float64) bool {
+	y := s.Data[:s.N]
+	var sum float64
+	for _, v := range y {
+		sum += v
+	}
+	mean := sum / float64(s.N)
+	var ss float64
+	for i, v := range y {
+		f.dev[i] = v - mean
+		ss += f.dev[i] * f.dev[i]
+	}
+	theta[0], theta[1] = mean, math.Sqrt(ss/float64(s.N))
+	v := theta[1] * theta[1]
+	cov[0], cov[1], cov[2], cov[3] = v, 0, 0, v/2
+	return true
+}
+
+// keepObservations swaps every arm of a normal study for a sampler that
+// keeps its observations and a fitter with a buffer, and returns the
+// counters of fitters made and of the largest n each arm's were made for.
+func keepObservations(s *study.Study) (made, maxN []*atomic.Int64) {
+	for a := range s.Arms {
+		m := &s.Arms[a].Model
+		made = append(made, new(atomic.Int64))
+		maxN = append(maxN, new(atomic.Int64))
+		m.Sampler = normalObservations{mean: m.Truth[0], sd: m.Truth[1]}
+		m.Estimator = normalFromObservations{made: made[a], maxN: maxN[a]}
+	}
+	return made, maxN
+}
+
+// A sampler that keeps all n observations and a fitter that keeps a
+// buffer run through the worker allocation-free, each fitter made once
+// for the arm's largest n, and agree with the normal family's
+// sufficient statistics to rounding (the same draws, summed in other
+// units).
+func TestWorkerKeepsObservationsAndFitBuffers(t *testing.T) {
+	sums, obs := studytest.Parse(t, twoArmStudy), studytest.Parse(t, twoArmStudy)
+	made, maxN := keepObservations(obs)
+	ws, wo := newWorker(sums, NewResult(sums)), newWorker(obs, NewResult(obs))
+	for a := range obs.Arms {
+		if got, want := maxN[a].Load(), int64(obs.ArmSize(a, 60)); made[a].Load() != 1 || got != want {
+			t.Errorf("arm %d: %d fitters made for n ≤ %d, want 1 for n ≤ %d", a, made[a].Load(), got, want)
+		}
+		if got, want := len(wo.samples[a].Data), obs.ArmSize(a, 60); got != want {
+			t.Errorf("arm %d: sample data has room for %d values, want %d", a, got, want)
+		}
+	}
+	for _, w := range []*worker{ws, wo} {
+		w.runBlock(job{ni: 1, block: 0, count: 1})
+	}
+	for r := range 200 {
+		ws.replicate()
+		wo.replicate()
+		for i, want := range ws.theta {
+			if got := wo.theta[i]; math.Abs(got-want) > 1e-12*math.Abs(want) {
+				t.Fatalf("replicate %d: θ̂[%d] = %v from observations, %v from sums", r, i, got, want)
+			}
+		}
+		for a := range ws.covs {
+			for i, want := range ws.covs[a] {
+				if got := wo.covs[a][i]; math.Abs(got-want) > 1e-12*math.Abs(want) {
+					t.Fatalf("replicate %d: arm %d cov[%d] = %v from observations, %v from sums", r, a, i, got, want)
+				}
+			}
+		}
+	}
+	if allocs := testing.AllocsPerRun(200, wo.replicate); allocs != 0 {
+		t.Errorf("a replicate with kept observations allocates %v times, want 0", allocs)
+	}
+}
+
+// Each worker makes its own fitter for every arm, once (run with -race:
+// the fitters' buffers are written per replicate).
+func TestRunMakesOneFitterPerWorker(t *testing.T) {
+	s := studytest.Parse(t, twoArmStudy)
+	made, _ := keepObservations(s)
+	if _, err := Run(context.Background(), s, Options{Workers: 2}); err != nil {
+		t.Fatal(err)
+	}
+	for a := range s.Arms {
+		if got := made[a].Load(); got != 2 {
+			t.Errorf("arm %d: %d fitters made by 2 workers, want 2", a, got)
+		}
+	}
+}
+
 func TestRunCountsEveryReplicate(t *testing.T) {
 	s := studytest.Parse(t, twoArmStudy)
 	res, err := Run(context.Background(), s, Options{Workers: 2})
@@ -85,25 +204,31 @@ func TestRunStopsWhenCancelled(t *testing.T) {
 	}
 }
 
-// panicModel wraps a model and panics on its third fit.
-type panicModel struct {
-	family.Model
+// panicEstimator makes fitters that panic on their third fit.
+type panicEstimator struct{ family.Estimator }
+
+func (e panicEstimator) NewFitter(maxN int) family.Fitter {
+	return &panicFitter{Fitter: e.Estimator.NewFitter(maxN)}
+}
+
+type panicFitter struct {
+	family.Fitter
 	fits int
 }
 
-func (p *panicModel) Fit(rng *rand.Rand, n int, theta []float64) bool {
+func (p *panicFitter) Fit(s *family.Sample, theta, cov []float64) bool {
 	p.fits++
 	if p.fits == 3 {
 		panic("boom")
 	}
-	return p.Model.Fit(rng, n, theta)
+	return p.Fitter.Fit(s, theta, cov)
 }
 
 // A panic inside a worker fails the run with the cell named, instead of
 // killing the process or hanging the pool.
 func TestRunRecoversWorkerPanic(t *testing.T) {
 	s := studytest.Parse(t, twoArmStudy)
-	s.Arms[0].Model = &panicModel{Model: s.Arms[0].Model}
+	s.Arms[0].Model.Estimator = panicEstimator{s.Arms[0].Model.Estimator}
 	_, err := Run(context.Background(), s, Options{Workers: 1})
 	if err == nil || !strings.Contains(err.Error(), "boom") || !strings.Contains(err.Error(), "n=60, block 0, replicate 2, fitting arm a (normal)") {
 		t.Fatalf("err = %v, want the panic reported with its cell", err)

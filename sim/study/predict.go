@@ -12,7 +12,7 @@ type Prediction struct {
 func (s *Study) Truth() []float64 {
 	theta := make([]float64, s.Dim())
 	for _, a := range s.Arms {
-		a.Model.Truth(theta[a.Offset:])
+		copy(theta[a.Offset:], a.Model.Truth)
 	}
 	return theta
 }
@@ -29,11 +29,11 @@ func (s *Study) Predict(t, n int) Prediction {
 	d := len(theta)
 	p := Prediction{Truth: v, DeltaVar: s.deltaVar(grad, theta, n)}
 	for ai, a := range s.Arms {
-		k := len(a.Model.Params())
+		k := len(a.Model.Truth)
 		cov := make([]float64, k*k)
 		bias := make([]float64, k)
-		a.Model.Cov(theta[a.Offset:a.Offset+k], cov)
-		a.Model.Bias(theta[a.Offset:a.Offset+k], bias)
+		a.Model.Asymptotics.Cov(theta[a.Offset:a.Offset+k], cov)
+		a.Model.Asymptotics.Bias(theta[a.Offset:a.Offset+k], bias)
 		na := float64(s.ArmSize(ai, n))
 		var trace, gb float64
 		for i := 0; i < k; i++ {
@@ -51,9 +51,9 @@ func (s *Study) Predict(t, n int) Prediction {
 func (s *Study) deltaVar(grad, theta []float64, n int) float64 {
 	var total float64
 	for ai, a := range s.Arms {
-		k := len(a.Model.Params())
+		k := len(a.Model.Truth)
 		cov := make([]float64, k*k)
-		a.Model.Cov(theta[a.Offset:a.Offset+k], cov)
+		a.Model.Asymptotics.Cov(theta[a.Offset:a.Offset+k], cov)
 		total += QuadForm(grad[a.Offset:a.Offset+k], cov) / float64(s.ArmSize(ai, n))
 	}
 	return total

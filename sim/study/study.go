@@ -78,8 +78,8 @@ type Arm struct {
 	Family     string
 	Values     map[string]float64 // the family's parameters, as given
 	Allocation float64            // arm size = ceil(n × Allocation)
-	Model      family.Model
-	Offset     int // index of the arm's first parameter in θ
+	Model      family.Model       // the family at Values with its estimator
+	Offset     int                // index of the arm's first parameter in θ
 }
 
 // Transform is one function of θ whose delta-method interval is checked.
@@ -113,7 +113,7 @@ func DefaultCriteria(level float64) Criteria {
 func (s *Study) ParamNames() []string {
 	var names []string
 	for _, a := range s.Arms {
-		for _, p := range a.Model.Params() {
+		for _, p := range a.Estimates() {
 			if a.Name == "" {
 				names = append(names, p)
 			} else {
@@ -124,11 +124,21 @@ func (s *Study) ParamNames() []string {
 	return names
 }
 
+// Estimates names the arm's estimated parameters, in the order of its
+// part of θ: its family's Estimates.
+func (a *Arm) Estimates() []string {
+	f, ok := family.Lookup(a.Family)
+	if !ok {
+		panic("study: an arm of the unregistered family " + a.Family)
+	}
+	return f.Estimates
+}
+
 // Dim is the length of θ.
 func (s *Study) Dim() int {
 	d := 0
 	for _, a := range s.Arms {
-		d += len(a.Model.Params())
+		d += len(a.Model.Truth)
 	}
 	return d
 }
@@ -449,7 +459,7 @@ func (d *decoder) arms(raw map[string]any, s *Study) {
 	off := 0
 	for i := range s.Arms {
 		s.Arms[i].Offset = off
-		off += len(s.Arms[i].Model.Params())
+		off += len(s.Arms[i].Model.Truth)
 	}
 }
 
