@@ -25,11 +25,13 @@ type bernoulliModel struct{ p float64 }
 // SampleLen is 1: a Bernoulli sample is (number of ones).
 func (*bernoulliModel) SampleLen(int) int { return 1 }
 
-// Draw draws each observation from one uniform, 1 when U < p.
+// Draw draws each observation from one uniform, 1 when U < p. It reads p
+// into a local once; read through m, it is reloaded after every draw's
+// call (see sumStdNormals).
 func (m *bernoulliModel) Draw(rng *rand.Rand, n int, s *Sample) {
-	count := 0
+	count, p := 0, m.p
 	for range n {
-		if rng.Float64() < m.p {
+		if rng.Float64() < p {
 			count++
 		}
 	}
