@@ -608,8 +608,8 @@ func loadAverage() string {
 }
 
 // sumNormals draws n standard normals and returns their sum and sum of
-// squares. The draw loop is a function of its own, as the normal sampler's Draw is (sim/family/normal.go),
-// because every register is caller-saved in Go's calling convention:
+// squares. The draw loop is a function of its own, as the normal
+// sampler's is (sumStdNormals in sim/family/normal.go), because every register is caller-saved in Go's calling convention:
 // inside the replicate loop, each draw would reload that loop's dozen live
 // values after the call. (The compiler would inline it back, hence the
 // directive.)
