@@ -54,6 +54,7 @@ func TestReadmeCommands(t *testing.T) {
 // Every example study loads and runs (with few replicates, to stay fast;
 // `make examples` runs them in full).
 func TestExampleStudiesRun(t *testing.T) {
+	t.Parallel()
 	files, err := filepath.Glob(filepath.Join(repoRoot, "studies", "*.toml"))
 	if err != nil || len(files) < 4 {
 		t.Fatalf("want at least 4 example studies, found %d (%v)", len(files), err)

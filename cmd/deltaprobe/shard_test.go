@@ -27,6 +27,7 @@ func readFile(t *testing.T, path string) []byte {
 // For every N from 1 to 7 and every K, the merged shards equal the
 // unsharded run byte for byte.
 func TestShardsMergeToTheUnshardedBytes(t *testing.T) {
+	t.Parallel()
 	study := writeStudy(t, shardStudy)
 	whole := filepath.Join(t.TempDir(), "whole")
 	if code, _, stderr := runCLI(t, "run", study, "-o", whole, "-quiet"); code != exitOK {
@@ -59,6 +60,7 @@ func TestShardsMergeToTheUnshardedBytes(t *testing.T) {
 }
 
 func TestMergeRefusesBadSets(t *testing.T) {
+	t.Parallel()
 	study := writeStudy(t, shardStudy)
 	base := t.TempDir()
 	made := 0
@@ -160,6 +162,7 @@ func TestParseShard(t *testing.T) {
 // Indexed-job semantics: separate processes with JOB_COMPLETION_INDEX
 // set, merged, equal one run.
 func TestIndexedJobProcesses(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("runs child processes")
 	}

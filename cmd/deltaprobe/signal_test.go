@@ -60,6 +60,7 @@ func waitForBlocks(t *testing.T, path string, deadline time.Duration) {
 // SIGINT saves every finished block and exits 130; -resume continues and
 // the final CSV equals an uninterrupted run's byte for byte.
 func TestInterruptAndResume(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("runs child processes")
 	}
@@ -121,6 +122,7 @@ func readResult(t *testing.T, path string) map[string]any {
 // After kill -9, every file present parses (writes are atomic), and the
 // run resumes from the last saved state to the uninterrupted answer.
 func TestHardKillLeavesOnlyWholeFiles(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("runs child processes")
 	}
@@ -189,6 +191,7 @@ func TestResumeRefusesAnEditedStudy(t *testing.T) {
 }
 
 func TestDryRunWritesNothing(t *testing.T) {
+	t.Parallel()
 	study := writeStudy(t, smallStudy)
 	out := filepath.Join(t.TempDir(), "out")
 	code, stdout, stderr := runCLI(t, "run", study, "-o", out, "-dry-run")
