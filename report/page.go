@@ -163,6 +163,21 @@ func newStudyPage(st study.Info, tool string, glance, provenance []keyValue) stu
 	return p
 }
 
+// criterionRules says, criterion by criterion, when it passes, naming
+// the interval that decides it as interval.
+func criterionRules(bands study.Criteria, interval string) []string {
+	var out []string
+	for _, c := range measure.Criteria() {
+		b := c.Band(bands)
+		band := fmtG(b[0]) + "–" + fmtG(b[1])
+		if b[0] == -b[1] {
+			band = "±" + fmtG(b[1])
+		}
+		out = append(out, strings.NewReplacer("{interval}", interval, "{band}", band).Replace(c.Rule))
+	}
+	return out
+}
+
 // newAnswerLine is transform info's answer v, explained by why; stem is
 // the transform's file-name stem, which its anchor on the page shares.
 func newAnswerLine(info study.TransformInfo, stem string, v measure.TransformVerdict, why string) answerLine {
@@ -214,12 +229,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 	for _, c := range measure.Criteria() {
 		d.CriterionNames = append(d.CriterionNames, c.Name)
 	}
-	c := st.Criteria
-	d.Criteria = []string{
-		fmt.Sprintf("Coverage: its Wilson 95%% interval lies inside %s–%s.", fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
-		fmt.Sprintf("Variance: the Monte Carlo 95%% interval of delta_var / emp_var lies inside %s–%s.", fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
-		fmt.Sprintf("Bias: the Monte Carlo 95%% interval of bias / delta-method sd lies inside ±%s.", fmtG(c.StdBias)),
-	}
+	d.Criteria = criterionRules(st.Criteria, "95% interval")
 	stems := transformStems(st.Transforms)
 	nn := len(st.SampleSizes)
 	for t, info := range st.Transforms {

@@ -73,13 +73,8 @@ func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
 		Method:    p.Method,
 		Steps:     planStepsTable(p),
 	}
-	c := st.Criteria
 	z := fmt3(p.Z)
-	d.Criteria = []string{
-		fmt.Sprintf("Coverage: its Wilson interval, at z = %s, lies inside %s–%s.", z, fmtG(c.Coverage[0]), fmtG(c.Coverage[1])),
-		fmt.Sprintf("Variance: the Monte Carlo interval of delta_var / emp_var, at z = %s, lies inside %s–%s.", z, fmtG(c.VarRatio[0]), fmtG(c.VarRatio[1])),
-		fmt.Sprintf("Bias: bias / delta-method sd ± %s Monte Carlo standard errors lies inside ±%s.", z, fmtG(c.StdBias)),
-	}
+	d.Criteria = criterionRules(st.Criteria, "interval (z = "+z+", widened for repeated looks)")
 	stems := transformStems(st.Transforms)
 	for t, info := range st.Transforms {
 		v := newPlanView(p, t)
