@@ -22,8 +22,8 @@ type Criterion struct {
 	Noun    string // the measure in a sentence: "the variance ratio"
 	// Rule says when the criterion passes, for the pages: {interval}
 	// stands for the kind of interval, {band} for the band.
-	Rule string
-	Ratio   bool   // a ratio: figures may show it on a log axis
+	Rule  string
+	Ratio bool // a ratio: figures may show it on a log axis
 	// Ideal is the value the measure has when the approximation is exact,
 	// given the study's nominal level; Nominal says it is that level.
 	Ideal   func(level float64) float64

@@ -145,7 +145,7 @@ var (
 		Name: "variance", Title: "Variance ratio", Short: "var.", Noun: "the variance ratio",
 		Heading: "Variance ratio, delta method / simulated", Axis: "variance ratio", Ratio: true,
 		Ideal: func(float64) float64 { return 1 },
-		Rule: "Variance: the Monte Carlo {interval} of delta_var / emp_var lies inside {band}.", Measure: VarRatio, MCSE: VarRatioMCSE,
+		Rule:  "Variance: the Monte Carlo {interval} of delta_var / emp_var lies inside {band}.", Measure: VarRatio, MCSE: VarRatioMCSE,
 		Band: func(c study.Criteria) [2]float64 { return c.VarRatio },
 		Interval: func(c *Cell, r *Row, z float64) (float64, float64) {
 			ev, mcse := r.Get(EmpVar), r.Get(EmpVarMCSE)
@@ -167,7 +167,7 @@ var (
 		Name: "bias", Title: "Bias", Short: "bias", Noun: "the standardised bias",
 		Heading: "Bias, in delta-method standard deviations", Axis: "bias / delta sd",
 		Ideal: func(float64) float64 { return 0 },
-		Rule: "Bias: the Monte Carlo {interval} of bias / delta-method sd lies inside {band}.", Measure: StdBias, MCSE: StdBiasMCSE,
+		Rule:  "Bias: the Monte Carlo {interval} of bias / delta-method sd lies inside {band}.", Measure: StdBias, MCSE: StdBiasMCSE,
 		Band: func(c study.Criteria) [2]float64 { return [2]float64{-c.StdBias, c.StdBias} },
 		Interval: func(_ *Cell, r *Row, z float64) (float64, float64) {
 			sb, mcse := r.Get(StdBias), r.Get(StdBiasMCSE)
