@@ -130,7 +130,8 @@ var (
 		Name: "coverage", Title: "Coverage", Short: "cov.", Noun: "coverage",
 		Heading: "Coverage of the Wald interval", Axis: "coverage",
 		Ideal: func(level float64) float64 { return level }, Nominal: true,
-		Rule: "Coverage: its Wilson {interval} lies inside {band}.", Measure: Coverage, MCSE: CoverageMCSE,
+		Measure: Coverage, MCSE: CoverageMCSE,
+		Rule: "Coverage: its Wilson {interval} lies inside {band}.",
 		Band: func(c study.Criteria) [2]float64 { return c.Coverage },
 		Interval: func(c *Cell, _ *Row, z float64) (float64, float64) {
 			return wilson(float64(c.Cell.Covered), float64(c.Cell.Replicates), z)
@@ -144,8 +145,9 @@ var (
 	VarianceCheck = defineCriterion(Criterion{
 		Name: "variance", Title: "Variance ratio", Short: "var.", Noun: "the variance ratio",
 		Heading: "Variance ratio, delta method / simulated", Axis: "variance ratio", Ratio: true,
-		Ideal: func(float64) float64 { return 1 },
-		Rule:  "Variance: the Monte Carlo {interval} of delta_var / emp_var lies inside {band}.", Measure: VarRatio, MCSE: VarRatioMCSE,
+		Ideal:   func(float64) float64 { return 1 },
+		Measure: VarRatio, MCSE: VarRatioMCSE,
+		Rule: "Variance: the Monte Carlo {interval} of delta_var / emp_var lies inside {band}.",
 		Band: func(c study.Criteria) [2]float64 { return c.VarRatio },
 		Interval: func(c *Cell, r *Row, z float64) (float64, float64) {
 			ev, mcse := r.Get(EmpVar), r.Get(EmpVarMCSE)
@@ -166,8 +168,9 @@ var (
 	BiasCheck = defineCriterion(Criterion{
 		Name: "bias", Title: "Bias", Short: "bias", Noun: "the standardised bias",
 		Heading: "Bias, in delta-method standard deviations", Axis: "bias / delta sd",
-		Ideal: func(float64) float64 { return 0 },
-		Rule:  "Bias: the Monte Carlo {interval} of bias / delta-method sd lies inside {band}.", Measure: StdBias, MCSE: StdBiasMCSE,
+		Ideal:   func(float64) float64 { return 0 },
+		Measure: StdBias, MCSE: StdBiasMCSE,
+		Rule: "Bias: the Monte Carlo {interval} of bias / delta-method sd lies inside {band}.",
 		Band: func(c study.Criteria) [2]float64 { return [2]float64{-c.StdBias, c.StdBias} },
 		Interval: func(_ *Cell, r *Row, z float64) (float64, float64) {
 			sb, mcse := r.Get(StdBias), r.Get(StdBiasMCSE)
