@@ -38,7 +38,7 @@ func summaryMeasures() []*measure.Measure {
 var VerdictColumns = verdictColumns()
 
 func verdictColumns() []string {
-	cols := []string{"transform", "smallest_n", "status", "limiting"}
+	cols := []string{"transform", "smallest_n", "n_low", "n_high", "status", "limiting"}
 	for _, c := range measure.Criteria() {
 		cols = append(cols, "n_"+c.Name)
 	}
@@ -102,7 +102,7 @@ func SummaryCSV(rows []measure.Row) []byte {
 func VerdictsCSV(vs []measure.TransformVerdict) []byte {
 	records := make([][]string, len(vs))
 	for i, v := range vs {
-		rec := []string{v.Transform, formatN(v.SmallestN), string(v.Status), v.Limiting}
+		rec := []string{v.Transform, formatN(v.SmallestN), formatN(v.Low), formatN(v.High), string(v.Status), v.Limiting}
 		for _, n := range v.PerCriterion {
 			rec = append(rec, formatN(n))
 		}

@@ -412,7 +412,10 @@ func verdictPhrase(v measure.TransformVerdict) string {
 	case measure.NotReached:
 		return fmt.Sprintf("Not adequate within the grid; %s fails at the largest n.", v.Limiting)
 	case measure.StatusUnclear:
-		return fmt.Sprintf("Undecided: %s is unclear at the largest n.", v.Limiting)
+		if v.High == 0 {
+			return fmt.Sprintf("Undecided: %s is unclear at the largest n; the smallest adequate n is %s or more, if any.", v.Limiting, formatN(v.Low))
+		}
+		return fmt.Sprintf("Undecided: the smallest adequate n lies in %d–%d; more replicates would decide it.", v.Low, v.High)
 	}
 	return ""
 }

@@ -63,6 +63,7 @@ type answerLine struct {
 // verdictLine is a transform's row of the run page's verdict table.
 type verdictLine struct {
 	answerLine
+	Bounds       string   // where the smallest adequate n lies
 	PerCriterion []string // by criterion, in table order
 }
 
@@ -229,7 +230,9 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 	for _, c := range measure.Criteria() {
 		d.CriterionNames = append(d.CriterionNames, c.Name)
 	}
-	d.Criteria = criterionRules(st.Criteria, "95% interval")
+	dec := measure.GridDecisions(st)
+	d.Criteria = criterionRules(st.Criteria, fmt.Sprintf("interval (z = %.3f)", dec.Z))
+	d.Criteria = append(d.Criteria, "Guarantee: "+dec.Method()+".")
 	stems := transformStems(st.Transforms)
 	nn := len(st.SampleSizes)
 	for t, info := range st.Transforms {
@@ -239,6 +242,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		}
 		trows := rows[t*nn : (t+1)*nn]
 		line := verdictLine{answerLine: newAnswerLine(info, stems[t], v, explain(trows, v))}
+		line.Bounds = boundsText(v)
 		for _, n := range v.PerCriterion {
 			line.PerCriterion = append(line.PerCriterion, dash(formatN(n)))
 		}

@@ -45,6 +45,13 @@ func explain(rows []measure.Row, v measure.TransformVerdict) string {
 	case measure.NotReached:
 		return fmt.Sprintf("Not adequate at any n of the grid. At the largest, n = %d, %s.", last.N, runVoice.shortfalls(last))
 	case measure.StatusUnclear:
+		if v.High > 0 {
+			var ns []string
+			for _, u := range v.Undecided {
+				ns = append(ns, strconv.Itoa(u.N))
+			}
+			return fmt.Sprintf("Undecided: the smallest adequate n lies between %d and %d, but the replicates did not decide n = %s. More replicates would narrow the Monte Carlo intervals and settle it.", v.Low, v.High, strings.Join(ns, ", "))
+		}
 		return fmt.Sprintf("Undecided. At the largest n, %d, no criterion fails, but %s. More replicates would narrow the Monte Carlo intervals and settle it.", last.N, runVoice.shortfalls(last))
 	}
 	return ""
@@ -73,9 +80,10 @@ type checkSentences struct {
 
 // runVoice says what each criterion's failure means for the quantity
 // itself, in the criterion's own words (measure's table), of the Monte
-// Carlo 95% intervals that the run's verdicts use.
+// Carlo intervals that the run's verdicts use (their level is stated
+// once, with the criteria).
 var runVoice = checkVoice{
-	interval: "Monte Carlo 95% interval",
+	interval: "Monte Carlo interval",
 	sentences: func(cr *measure.Criterion) checkSentences {
 		return checkSentences{
 			below:    cr.Below,

@@ -162,9 +162,9 @@ const runPageParts = `{{define "page kind"}}deltaprobe report{{end}}
 {{if .Incomplete}}<p><strong>This run is incomplete: the numbers use only the blocks that finished.</strong></p>
 {{end}}<div class="scroll">
 <table class="verdicts">
-<thead><tr><th scope="col">transform</th><th scope="col">adequate from n</th><th scope="col">status</th><th scope="col">limiting criterion</th>{{range .CriterionNames}}<th scope="col">{{.}} alone</th>{{end}}<th scope="col">expression</th></tr></thead>
+<thead><tr><th scope="col">transform</th><th scope="col">adequate from n</th><th scope="col">bounds</th><th scope="col">status</th><th scope="col">limiting criterion</th>{{range .CriterionNames}}<th scope="col">{{.}} alone</th>{{end}}<th scope="col">expression</th></tr></thead>
 <tbody>
-{{range .Verdicts}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="num">{{.Smallest}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td>{{range .PerCriterion}}<td class="num">{{.}}</td>{{end}}<td class="expr">{{.Expr}}</td></tr>
+{{range .Verdicts}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="num">{{.Smallest}}</td><td class="num">{{.Bounds}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td>{{range .PerCriterion}}<td class="num">{{.}}</td>{{end}}<td class="expr">{{.Expr}}</td></tr>
 {{end}}</tbody>
 </table>
 </div>

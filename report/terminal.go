@@ -21,23 +21,69 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	for _, c := range measure.Criteria() {
 		shorts = append(shorts, c.Short)
 	}
-	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimited by\t"+strings.Join(shorts, "\t"))
+	fmt.Fprintln(tw, "transform\tsmallest n\tbounds\tstatus\tlimited by\t"+strings.Join(shorts, "\t"))
 	for _, v := range vs {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s", clip(v.Transform, 22), dash(formatN(v.SmallestN)), v.Status, v.Limiting)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s", clip(v.Transform, 20), dash(formatN(v.SmallestN)), boundsText(v), v.Status, v.Limiting)
 		for _, n := range v.PerCriterion {
 			fmt.Fprintf(tw, "\t%s", dash(formatN(n)))
 		}
 		fmt.Fprintln(tw)
 	}
 	tw.Flush()
-	wrap(w, "", fmt.Sprintf("%s: the smallest n from which that criterion alone passes. Level %v, %d replicates per n; a study checks the approximation only under the model it states.",
-		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates))
+	wrap(w, "", fmt.Sprintf("bounds: the smallest adequate n lies in this range of the grid; it is named only where the replicates decided it. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
+		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
+	for _, v := range vs {
+		if len(v.Undecided) > 0 {
+			wrap(w, "  ", v.Transform+": "+undecidedText(v.Undecided, r.Study.Replicates))
+		}
+	}
 	if ws := measure.Warnings(r, rows); len(ws) > 0 {
 		fmt.Fprintf(w, "\nwarnings (%d):\n", len(ws))
 		for _, m := range ws {
 			wrap(w, "  - ", m)
 		}
 	}
+}
+
+// boundsText writes a transform's bounds on its smallest adequate n:
+// "40" when they meet, "20–80" when they do not, "20–" when no n passes
+// for sure up to the largest, "–" when the largest n fails.
+func boundsText(v measure.TransformVerdict) string {
+	switch {
+	case v.Low == 0:
+		return "–"
+	case v.Low == v.High:
+		return formatN(v.Low)
+	case v.High == 0:
+		return formatN(v.Low) + "–"
+	}
+	return formatN(v.Low) + "–" + formatN(v.High)
+}
+
+// undecidedText names the undecided n and roughly the replicates that
+// would decide each.
+func undecidedText(us []measure.UndecidedN, have int) string {
+	var parts []string
+	for _, u := range us {
+		switch {
+		case u.Need == 0:
+			parts = append(parts, fmt.Sprintf("n=%d (too uncertain to say how many)", u.N))
+		case u.Need <= int64(have):
+			parts = append(parts, fmt.Sprintf("n=%d (about as many replicates again)", u.N))
+		default:
+			parts = append(parts, fmt.Sprintf("n=%d (about %d replicates)", u.N, roundNeed(u.Need)))
+		}
+	}
+	return "undecided at " + strings.Join(parts, ", ")
+}
+
+// roundNeed rounds a rough replicate count up to two significant digits.
+func roundNeed(n int64) int64 {
+	unit := int64(1)
+	for n/unit >= 100 {
+		unit *= 10
+	}
+	return (n + unit - 1) / unit * unit
 }
 
 // wrap prints text in lines of at most 79 columns, the first starting

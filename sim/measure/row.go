@@ -6,10 +6,6 @@ import (
 	"deltaprobe/sim/runner"
 )
 
-// mcZ is the normal quantile of the two-sided 95% Monte Carlo intervals
-// that decide each criterion in a run.
-const mcZ = 1.959963984540054
-
 // Row is one transform at one sample size: every measure, every check and
 // the verdict; one line of summary.csv.
 type Row struct {
@@ -47,12 +43,15 @@ func (r Row) Count(m *Measure) int64 { return int64(r.Values[m.index]) }
 func (r Row) Check(c *Criterion) Check { return r.Checks[c.index] }
 
 // Summarize computes every row, transform by transform and n by n,
-// deciding each criterion from its Monte Carlo 95% interval.
+// deciding each criterion from its Monte Carlo interval at the quantile
+// of GridDecisions, which makes each transform's answer hold with the
+// study's family-wise confidence.
 func Summarize(r *runner.Result) []Row {
+	z := GridDecisions(r.Study).Z
 	var rows []Row
 	for t := range r.Study.Transforms {
 		for ni := range r.Study.SampleSizes {
-			rows = append(rows, SummarizeCell(r, t, ni, mcZ))
+			rows = append(rows, SummarizeCell(r, t, ni, z))
 		}
 	}
 	return rows

@@ -1,5 +1,7 @@
 package measure
 
+import "math"
+
 // Verdict is the outcome of a criterion or of all of them.
 type Verdict string
 
@@ -23,16 +25,37 @@ const (
 // TransformVerdict is one line of verdicts.csv.
 type TransformVerdict struct {
 	Transform string `json:"transform"`
-	SmallestN int    `json:"smallest_n"` // 0 unless adequate
-	Status    Status `json:"status"`
-	Limiting  string `json:"limiting"` // the criterion that sets SmallestN, or fails at the largest n
+	SmallestN int    `json:"smallest_n"` // 0 unless adequate; then Low = High = SmallestN
+	// Low and High bound the smallest adequate n: Low is the smallest n
+	// above the largest n that decidedly fails (the smallest n if none
+	// does), High the smallest n from which every larger n decidedly
+	// passes (0 when the largest n does not pass).
+	Low      int    `json:"n_low"`
+	High     int    `json:"n_high"`
+	Status   Status `json:"status"`
+	Limiting string `json:"limiting"` // the criterion that sets SmallestN, or blocks adequacy at the largest n
 	// PerCriterion holds, by criterion in table order, the smallest
-	// adequate n of each criterion alone; 0 where there is none.
+	// adequate n of each criterion alone by the same rule; 0 where its
+	// bounds do not meet.
 	PerCriterion []int `json:"per_criterion"`
+	// Undecided lists the n between Low and High that are unclear, with
+	// roughly the replicates that would decide them.
+	Undecided []UndecidedN `json:"undecided,omitempty"`
 }
 
-// Verdicts decides, for every transform of a grid run, the smallest n of
-// the grid from which this n and every larger one pass.
+// UndecidedN is an n whose verdict the replicates did not decide.
+type UndecidedN struct {
+	N int `json:"n"`
+	// Need is roughly the replicates at which the unclear criteria's
+	// intervals would shrink clear of the band's edges, if their values
+	// stayed where they are: R·(half-width / distance to the edge)²,
+	// the largest over the unclear criteria; 0 when that cannot be said
+	// (a value on an edge, an interval without an end).
+	Need int64 `json:"need"`
+}
+
+// Verdicts decides, for every transform of a grid run, the bounds on the
+// smallest n of the grid from which this n and every larger one pass.
 func Verdicts(rows []Row) []TransformVerdict {
 	var out []TransformVerdict
 	for start := 0; start < len(rows); {
@@ -40,51 +63,112 @@ func Verdicts(rows []Row) []TransformVerdict {
 		for end < len(rows) && rows[end].Transform == rows[start].Transform {
 			end++
 		}
-		g := rows[start:end]
-		answer := 0
-		if i := finalPasses(g, func(r Row) Verdict { return r.Verdict }, false); i >= 0 {
-			answer = g[i].N
-		}
-		out = append(out, Conclude(g, Answer{N: answer, Lowest: g[0].N}))
+		out = append(out, Conclude(rows[start:end], Answer{Lowest: rows[start].N}))
 		start = end
 	}
 	return out
 }
 
-// Answer is what a search found for one transform, for Conclude.
+// Answer is what a search adds to the rows it evaluated, for Conclude.
 type Answer struct {
-	N         int  // the smallest adequate n found; 0 if none
-	Undecided bool // N was found, but what vouches for it could not be decided
-	Lowest    int  // the smallest n that could have been the answer
-	// SkipUnclear: an undecided n neither supports nor refutes a
-	// criterion's own smallest n (the plan's rule); otherwise it ends the
-	// run of passes (the grid's rule).
-	SkipUnclear bool
+	// Search says the rows come from a plan's search, whose own rule
+	// (a pass with a decided failure just below it and no failure in a
+	// window above) found N, the smallest adequate n (0: none).
+	Search bool
+	N      int
+	// Undecided: what would vouch for an answer could not be looked at
+	// (a plan's budget ran out before its window was checked).
+	Undecided bool
+	Lowest    int // the smallest n that could have been the answer
 }
 
 // Conclude is the one verdict aggregation of run and plan: from the rows
-// of one transform, sorted by n, and the answer its search found, it
-// gives the status, the limiting criterion and each criterion's own
-// smallest n.
+// of one transform, sorted by n, it gives the bounds on the smallest
+// adequate n, the status, the limiting criterion and each criterion's
+// own smallest n, by one rule.
 //
-// The status is adequate when an answer was found and decided,
-// not_reached when the largest n fails, and unclear otherwise. Each
-// criterion's n is the start of the final run of n where it passes (see
-// Answer.SkipUnclear). The limiting criterion of an adequate answer is
-// the one that needs the largest n ("none" when the answer is the lowest
-// n possible); otherwise it is the first criterion whose check at the
-// largest n has the verdict that prevents adequacy.
+// Only decided verdicts count: Low is the smallest n above the largest n
+// that fails, High the smallest n from which every larger n passes. The
+// status is adequate when they meet (SmallestN = Low = High), not_reached
+// when the largest n fails, and unclear otherwise. The limiting criterion
+// of an adequate answer is the first whose own n is the answer ("none"
+// when the answer is the lowest n possible); when the largest n fails, the
+// first criterion that fails there; when undecided, the first criterion
+// unclear at the smallest undecided n.
 func Conclude(rows []Row, a Answer) TransformVerdict {
 	tv := TransformVerdict{Transform: rows[0].Transform, PerCriterion: make([]int, len(criteria))}
+	if a.Search {
+		return searched(rows, a)
+	}
+	tv.Low, tv.High = bounds(rows, func(r Row) Verdict { return r.Verdict })
 	for c := range criteria {
-		if i := finalPasses(rows, func(r Row) Verdict { return r.Checks[c].Verdict }, a.SkipUnclear); i >= 0 {
-			tv.PerCriterion[c] = rows[i].N
+		lo, hi := bounds(rows, func(r Row) Verdict { return r.Checks[c].Verdict })
+		if lo > 0 && lo == hi {
+			tv.PerCriterion[c] = lo
+		}
+	}
+	top := rows[len(rows)-1]
+	switch {
+	case tv.Low > 0 && tv.Low == tv.High && !a.Undecided:
+		tv.Status, tv.SmallestN, tv.Limiting = Adequate, tv.Low, "none"
+		if tv.SmallestN > a.Lowest {
+			for c, cr := range criteria {
+				if tv.PerCriterion[c] == tv.SmallestN {
+					tv.Limiting = cr.Name
+					break
+				}
+			}
+		}
+		return tv
+	case top.Verdict == Fail && !a.Undecided:
+		tv.Status = NotReached
+	default:
+		tv.Status = StatusUnclear
+		tv.Undecided = undecided(rows, tv.Low, tv.High)
+	}
+	// What blocks adequacy: the failure at the largest n, or the first
+	// undecided n's unclear criterion.
+	at, want := top, top.Verdict
+	if tv.Status == StatusUnclear {
+		want = Unclear
+		for _, r := range rows {
+			if len(tv.Undecided) > 0 && r.N == tv.Undecided[0].N {
+				at = r
+			}
+		}
+	}
+	for c, cr := range criteria {
+		if at.Checks[c].Verdict == want {
+			tv.Limiting = cr.Name
+			break
+		}
+	}
+	return tv
+}
+
+// searched concludes a plan's search by the search's own rule: adequate
+// at the answer it found unless the budget left the answer's window
+// unchecked; each criterion's n is the start of its final run of passes
+// among the evaluated n, an undecided n neither ending nor extending it.
+// Its bounds are the answer itself (the search vouches for no other n);
+// the rule of a grid run, for plans, is work still to do.
+func searched(rows []Row, a Answer) TransformVerdict {
+	tv := TransformVerdict{Transform: rows[0].Transform, PerCriterion: make([]int, len(criteria))}
+	for c := range criteria {
+		for i := len(rows) - 1; i >= 0; i-- {
+			v := rows[i].Checks[c].Verdict
+			if v == Fail {
+				break
+			}
+			if v == Pass {
+				tv.PerCriterion[c] = rows[i].N
+			}
 		}
 	}
 	top := rows[len(rows)-1]
 	switch {
 	case a.N > 0 && !a.Undecided:
-		tv.Status, tv.SmallestN, tv.Limiting = Adequate, a.N, "none"
+		tv.Status, tv.SmallestN, tv.Low, tv.High, tv.Limiting = Adequate, a.N, a.N, a.N, "none"
 		if a.N > a.Lowest {
 			best := 0
 			for c, cr := range criteria {
@@ -112,23 +196,51 @@ func Conclude(rows []Row, a Answer) TransformVerdict {
 	return tv
 }
 
-// finalPasses returns the index where the final run of passes of rows
-// starts, reading the verdict with v, or −1 when there is none. With
-// skipUnclear an unclear row neither ends nor extends the run; without
-// it, the run must reach the largest n and an unclear row ends it.
-func finalPasses(rows []Row, v func(Row) Verdict, skipUnclear bool) int {
-	start := -1
-	for i := len(rows) - 1; i >= 0; i-- {
-		switch v(rows[i]) {
-		case Pass:
-			start = i
+// bounds returns Low and High (see TransformVerdict) of rows sorted by n,
+// reading each row's verdict with v; 0 where a bound does not exist.
+func bounds(rows []Row, v func(Row) Verdict) (low, high int) {
+	lastFail := -1
+	for i, r := range rows {
+		if v(r) == Fail {
+			lastFail = i
+		}
+	}
+	if lastFail+1 < len(rows) {
+		low = rows[lastFail+1].N
+	}
+	for i := len(rows) - 1; i >= 0 && v(rows[i]) == Pass; i-- {
+		high = rows[i].N
+	}
+	return low, high
+}
+
+// undecided lists the unclear n from low up to high (or to the largest n
+// when high is 0), each with the replicates that would roughly decide it.
+func undecided(rows []Row, low, high int) []UndecidedN {
+	var out []UndecidedN
+	for _, r := range rows {
+		if r.N < low || (high > 0 && r.N >= high) || r.Verdict != Unclear {
 			continue
-		case Unclear:
-			if skipUnclear {
+		}
+		u := UndecidedN{N: r.N}
+		reps := float64(r.Count(Replicates))
+		for c, cr := range criteria {
+			ch := r.Checks[c]
+			if ch.Verdict != Unclear {
 				continue
 			}
+			v, half := r.Get(cr.Measure), (ch.High-ch.Low)/2
+			d := math.Min(math.Abs(v-ch.Band[0]), math.Abs(v-ch.Band[1]))
+			if !(d > 0) || math.IsNaN(half) || math.IsInf(half, 0) {
+				u.Need = 0
+				break
+			}
+			need := int64(math.Ceil(reps * (half / d) * (half / d)))
+			if need > u.Need {
+				u.Need = need
+			}
 		}
-		break
+		out = append(out, u)
 	}
-	return start
+	return out
 }

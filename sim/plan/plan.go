@@ -309,10 +309,9 @@ func (p *planner) grow(res *runner.Result, n, reps int) error {
 // says the budget ran out before answer's window was checked, which makes
 // the status unclear.
 //
-// measure.Conclude, the aggregation a grid run uses too, decides it; the
-// per-criterion columns follow the answer's own rule (an undecided n does
-// not count against a criterion), so the limiting criterion's n never
-// exceeds smallest_n.
+// measure.Conclude, the aggregation a grid run uses too, decides it, by
+// the search's rule (Answer.Search): an undecided n above the answer is
+// reported but does not move it.
 func (p *planner) finish(t, answer, window int, budgetCut bool) {
 	var steps []Step
 	for key, st := range p.evals {
@@ -325,7 +324,7 @@ func (p *planner) finish(t, answer, window int, budgetCut bool) {
 	for i, st := range steps {
 		rows[i] = st.Row
 	}
-	tv := measure.Conclude(rows, measure.Answer{N: answer, Undecided: budgetCut, Lowest: p.spec.NMin, SkipUnclear: true})
+	tv := measure.Conclude(rows, measure.Answer{Search: true, N: answer, Undecided: budgetCut, Lowest: p.spec.NMin})
 	// Oscillation: a failure above the smallest n that ever passed.
 	firstPass := 0
 	for _, st := range steps {

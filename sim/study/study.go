@@ -34,6 +34,9 @@ const (
 	defaultLevel   = 0.95
 	defaultRepl    = 10000
 	defaultStdBias = 0.1
+	// DefaultConfidence is the family-wise confidence of an answer when
+	// [criteria] confidence is not given.
+	DefaultConfidence = 0.95
 )
 
 // BlockSize is the number of replicates in one block, the unit of work,
@@ -94,6 +97,10 @@ type Criteria struct {
 	Coverage [2]float64 `json:"coverage"`  // band for the Wald coverage
 	VarRatio [2]float64 `json:"var_ratio"` // band for delta_var / emp_var
 	StdBias  float64    `json:"std_bias"`  // bound on |bias| / sqrt(delta_var)
+	// Confidence is the family-wise confidence of each transform's
+	// answer: the probability that every decision it rests on is right.
+	// 0 (a result saved before the key existed) means the default.
+	Confidence float64 `json:"confidence,omitempty"`
 }
 
 // DefaultCriteria returns Bradley's (1978) liberal band for the coverage
@@ -102,9 +109,10 @@ type Criteria struct {
 func DefaultCriteria(level float64) Criteria {
 	alpha := 1 - level
 	return Criteria{
-		Coverage: [2]float64{1 - 1.5*alpha, 1 - 0.5*alpha},
-		VarRatio: [2]float64{0.9, 1.1},
-		StdBias:  defaultStdBias,
+		Coverage:   [2]float64{1 - 1.5*alpha, 1 - 0.5*alpha},
+		VarRatio:   [2]float64{0.9, 1.1},
+		StdBias:    defaultStdBias,
+		Confidence: DefaultConfidence,
 	}
 }
 
@@ -670,7 +678,7 @@ func (d *decoder) criteria(raw map[string]any, level float64) Criteria {
 		d.fail("criteria", "criteria must be a table ([criteria]), got %s", typeName(v))
 		return c
 	}
-	d.unknownKeys("criteria", m, []string{"coverage", "var_ratio", "std_bias"})
+	d.unknownKeys("criteria", m, []string{"coverage", "var_ratio", "std_bias", "confidence"})
 	if band, ok := d.band(m, "coverage"); ok {
 		switch {
 		case !(band[0] >= 0 && band[1] <= 1):
@@ -693,6 +701,13 @@ func (d *decoder) criteria(raw map[string]any, level float64) Criteria {
 			d.fail("criteria.std_bias", "std_bias = %v is out of range: the bound on |bias|/sd must be > 0 and at most 10, e.g. 0.1", b)
 		} else {
 			c.StdBias = b
+		}
+	}
+	if v, ok := d.number(m, "criteria", "confidence"); ok {
+		if !(v >= 0.5 && v < 1) {
+			d.fail("criteria.confidence", "confidence = %v is out of range: the family-wise confidence of an answer must be at least 0.5 and below 1, e.g. 0.95", v)
+		} else {
+			c.Confidence = v
 		}
 	}
 	return c
