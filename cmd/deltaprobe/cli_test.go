@@ -5,6 +5,7 @@ import (
 	"flag"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -107,6 +108,10 @@ func TestRunGolden(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
 	golden(t, "testdata/run.stdout", []byte(stdout))
+	// The time is the simulation's, named as such, not the writing's.
+	if want := regexp.MustCompile(`^simulated in [0-9]+\.[0-9]s; wrote ` + regexp.QuoteMeta(out) + ` \(summary\.csv, `); !want.MatchString(stderr) {
+		t.Errorf("stderr %q does not match %s", stderr, want)
+	}
 	for _, name := range []string{"summary.csv", "verdicts.csv"} {
 		b, err := os.ReadFile(filepath.Join(out, name))
 		if err != nil {
