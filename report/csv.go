@@ -45,10 +45,11 @@ func verdictColumns() []string {
 	return cols
 }
 
-// formatFloat writes 8 significant digits: far more than any Monte Carlo
-// estimate here can claim, and stable to the byte. A value that does not
-// exist (NaN) is an empty field.
-func formatFloat(x float64) string {
+// csvFloat writes the shortest decimal that parses back to the same
+// float64, so a CSV file holds exactly the numbers the measures hold and
+// is stable to the byte. A value that does not exist (NaN) is an empty
+// field; infinities are Inf and -Inf.
+func csvFloat(x float64) string {
 	switch {
 	case math.IsNaN(x):
 		return ""
@@ -57,7 +58,7 @@ func formatFloat(x float64) string {
 	case math.IsInf(x, -1):
 		return "-Inf"
 	}
-	return strconv.FormatFloat(x, 'g', 8, 64)
+	return strconv.FormatFloat(x, 'g', -1, 64)
 }
 
 // formatMeasure writes one measure's value for a CSV file.
@@ -65,7 +66,7 @@ func formatMeasure(m *measure.Measure, r measure.Row) string {
 	if m.Count {
 		return strconv.FormatInt(r.Count(m), 10)
 	}
-	return formatFloat(r.Get(m))
+	return csvFloat(r.Get(m))
 }
 
 func formatN(n int) string {

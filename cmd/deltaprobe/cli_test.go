@@ -5,6 +5,7 @@ import (
 	"flag"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -107,6 +108,10 @@ func TestRunGolden(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
 	golden(t, "testdata/run.stdout", []byte(stdout))
+	// The time is the simulation's, named as such, not the writing's.
+	if want := regexp.MustCompile(`^simulated in [0-9]+\.[0-9]s; wrote ` + regexp.QuoteMeta(out) + ` \(summary\.csv, `); !want.MatchString(stderr) {
+		t.Errorf("stderr %q does not match %s", stderr, want)
+	}
 	for _, name := range []string{"summary.csv", "verdicts.csv"} {
 		b, err := os.ReadFile(filepath.Join(out, name))
 		if err != nil {
@@ -207,6 +212,8 @@ func TestUsageErrors(t *testing.T) {
 		{"few replicates", []string{"run", study, "-replicates", "5"}, "-replicates 5 is out of range"},
 		{"negative seed", []string{"run", study, "-seed", "-5"}, "-seed -5 is out of range"},
 		{"seed -1 given", []string{"run", study, "-seed", "-1"}, "-seed -1 is out of range"},
+		{"seed not a number", []string{"run", study, "-seed", "x"}, `invalid value "x" for flag -seed: parse error`},
+		{"seed too large", []string{"run", study, "-seed", "9223372036854775808"}, "value out of range"},
 		{"zero replicates given", []string{"run", study, "-replicates", "0"}, "-replicates 0 is out of range"},
 		{"missing file", []string{"predict", "no-such-file.toml"}, "no-such-file.toml"},
 		{"families with args", []string{"families", "normal"}, "takes no arguments"},
@@ -219,6 +226,22 @@ func TestUsageErrors(t *testing.T) {
 			}
 			if !strings.Contains(stderr, c.want) {
 				t.Errorf("stderr %q does not contain %q", stderr, c.want)
+			}
+		})
+	}
+}
+
+// -seed defaults to the study file's seed; the help must not show a
+// sentinel as its default.
+func TestSeedHelp(t *testing.T) {
+	for _, cmd := range []string{"run", "plan"} {
+		t.Run(cmd, func(t *testing.T) {
+			_, _, stderr := runCLI(t, cmd, "-h")
+			if !strings.Contains(stderr, "-seed S\n") || !strings.Contains(stderr, "seed S ≥ 0, overriding the study file's seed (default: the file's)") {
+				t.Errorf("help does not describe -seed:\n%s", stderr)
+			}
+			if strings.Contains(stderr, "default -1") {
+				t.Errorf("help shows a default of -1:\n%s", stderr)
 			}
 		})
 	}

@@ -159,3 +159,19 @@ func TestReportRefuses(t *testing.T) {
 		})
 	}
 }
+
+// plan checks -seed as run does, after parsing.
+func TestPlanSeedOutOfRange(t *testing.T) {
+	study := writeStudy(t, planStudy)
+	out := filepath.Join(t.TempDir(), "out")
+	code, stdout, stderr := runCLI(t, "plan", study, "-seed", "-3", "-o", out, "-quiet")
+	if code != exitUsage || stdout != "" {
+		t.Errorf("exit %d, stdout %q; want %d and nothing", code, stdout, exitUsage)
+	}
+	if want := "deltaprobe plan: -seed -3 is out of range: accepted are whole numbers ≥ 0\n"; stderr != want {
+		t.Errorf("stderr %q, want %q", stderr, want)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("plan created its output folder after refusing -seed")
+	}
+}

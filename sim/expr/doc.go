@@ -10,7 +10,8 @@
 // logit, expit, tanh, atanh and Phi (the standard normal CDF). "^" binds
 // tightest, is right-associative and binds tighter than unary minus, so
 // -x^2 is -(x^2) and 2^-1 is 2^(-1); then come * and /, then + and -, both
-// left-associative.
+// left-associative. log is the natural logarithm. Two spellings from
+// other notations are refused with a hint: ln (use log) and ** (use ^).
 //
 // Derivatives come from forward-mode automatic differentiation over the
 // compiled instructions: first order in Evaluator.ValueGrad, which allocates

@@ -48,11 +48,19 @@ func unknownNameMessage(name string, vars []string) string {
 	return sb.String()
 }
 
+// otherNames are functions other notations name differently, with the
+// name this language uses and what to know about it.
+var otherNames = map[string]struct{ name, note string }{
+	"ln": {"log", "log is the natural logarithm"},
+}
+
 func unknownFunctionMessage(name string) string {
 	var sb strings.Builder
 	fmt.Fprintf(&sb, "unknown function %q", name)
 	names := builtinNames()
-	if s, ok := spelling.Closest(name, names); ok {
+	if o, ok := otherNames[name]; ok {
+		fmt.Fprintf(&sb, "; did you mean %q? %s; known functions: ", o.name, o.note)
+	} else if s, ok := spelling.Closest(name, names); ok {
 		fmt.Fprintf(&sb, "; did you mean %q? known functions: ", s)
 	} else {
 		sb.WriteString("; known functions: ")

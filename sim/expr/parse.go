@@ -224,6 +224,10 @@ func (p *parser) parsePrimary(context string) (*node, error) {
 		sb.WriteString(" (there is no unary \"+\")")
 	case tokComma:
 		sb.WriteString(" (commas are not part of the language)")
+	case tokStar:
+		if prev := p.toks[p.pos-1]; prev.kind == tokStar && prev.pos == t.pos-1 {
+			sb.WriteString(" (\"**\" is not an operator; for a power write ^, as in x^2)")
+		}
 	}
 	return nil, errorAt(t.pos, "%s", sb.String())
 }

@@ -19,6 +19,8 @@ func TestSyntaxErrors(t *testing.T) {
 		{"   ", 4, "the expression is empty"},
 		{"mean +", 7, `after "+", found the end of the expression`},
 		{"mean * * sd", 8, `after "*", found "*"`},
+		{"mean**2", 6, `after "*", found "*" ("**" is not an operator; for a power write ^, as in x^2)`},
+		{"2*mean ** 2", 9, `("**" is not an operator; for a power write ^`},
 		{"2^", 3, `after "^"`},
 		{"-", 2, `after unary "-"`},
 		{"sd ^ ^ 2", 6, `after "^", found "^"`},
@@ -38,6 +40,7 @@ func TestSyntaxErrors(t *testing.T) {
 		{"mean, sd", 5, "commas are not part of the language"},
 		{",", 1, "commas are not part of the language"},
 		{"frob(mean)", 1, `unknown function "frob"; known functions: log, exp, sqrt, log1p, expm1, logit, expit, tanh, atanh, Phi`},
+		{"ln(mean)", 1, `unknown function "ln"; did you mean "log"? log is the natural logarithm; known functions: log, exp,`},
 		{"phi(mean)", 1, `unknown function "phi"; did you mean "Phi"?`},
 		{"foo(mean)", 1, `unknown function "foo"; did you mean "log"?`}, // distance 2, the documented reach
 		{"x", 1, `unknown name "x"; known names: mean, sd`},             // "sd" is 2 edits away, but that is every letter of "x"

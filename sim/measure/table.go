@@ -89,9 +89,9 @@ var (
 		Value: func(c *Cell, _ *Row) float64 { return share(c, c.Cell.MissBelow) }})
 	MissAbove = define(Measure{Name: "miss_above", Group: Intervals,
 		Value: func(c *Cell, _ *Row) float64 { return share(c, c.Cell.MissAbove) }})
-	// robust_se is the interquartile range of τ̂ over that of N(0, 1),
+	// iqr_sd is the interquartile range of τ̂ over that of N(0, 1),
 	// 2·Φ⁻¹(0.75) (common practice); it exists even when Var τ̂ does not.
-	RobustSE = define(Measure{Name: "robust_se", Group: Variance,
+	IQRSD = define(Measure{Name: "iqr_sd", Group: Variance,
 		Value: func(c *Cell, _ *Row) float64 {
 			const iqrNormal = 2 * 0.6744897501960817
 			return (c.Cell.Delta.Quantile(0.75) - c.Cell.Delta.Quantile(0.25)) * c.SDDelta / iqrNormal

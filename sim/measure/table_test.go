@@ -23,7 +23,7 @@ func TestTableOrder(t *testing.T) {
 	want := []string{"replicates", "undefined", "truth", "mean", "bias", "bias_mcse",
 		"rel_bias", "std_bias", "bias_2nd", "emp_var", "emp_var_mcse", "delta_var",
 		"var_ratio", "var_ratio_mcse", "plugin_var", "plugin_ratio", "coverage",
-		"coverage_mcse", "miss_below", "miss_above", "robust_se", "skewness",
+		"coverage_mcse", "miss_below", "miss_above", "iqr_sd", "skewness",
 		"ex_kurtosis", "ks_pivot"}
 	if !slices.Equal(columns, want) {
 		t.Errorf("summary measures\n%q\nwant\n%q", columns, want)

@@ -38,8 +38,21 @@ func (es StudyErrors) Error() string {
 	return strings.Join(msgs, "\n")
 }
 
+// sorted orders the errors by line, then column, keeping the order they
+// were found in otherwise. Errors without a line (a key missing from the
+// top of the file, a problem with the whole file) have no place in the
+// file to sit beside, so they come last rather than before line 1.
 func (es StudyErrors) sorted() StudyErrors {
-	sort.SliceStable(es, func(i, j int) bool { return es[i].Line < es[j].Line })
+	sort.SliceStable(es, func(i, j int) bool {
+		a, b := es[i], es[j]
+		if (a.Line == 0) != (b.Line == 0) {
+			return b.Line == 0
+		}
+		if a.Line != b.Line {
+			return a.Line < b.Line
+		}
+		return a.Col < b.Col
+	})
 	return es
 }
 

@@ -237,6 +237,11 @@ func TestPredictClosedForms(t *testing.T) {
 				if !predictClose(got.Bias2nd, w.bias2nd, bscale) {
 					t.Errorf("n=%d bias_2nd = %.17g, derived %.17g (error %.2g, scale %.3g)", n, got.Bias2nd, w.bias2nd, got.Bias2nd-w.bias2nd, bscale)
 				}
+				// An exact zero by cancellation is written as 0, not as
+				// the rounding left over from the cancelling terms.
+				if w.bias2nd == 0 && got.Bias2nd != 0 {
+					t.Errorf("n=%d bias_2nd = %.17g, want exactly 0 (the terms cancel)", n, got.Bias2nd)
+				}
 			}
 		})
 	}
