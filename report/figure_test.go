@@ -12,6 +12,8 @@ import (
 	"testing"
 
 	"deltaprobe/sim/runner"
+
+	"gonum.org/v1/plot/vg"
 )
 
 func TestSafeNames(t *testing.T) {
@@ -105,9 +107,13 @@ func TestFigures(t *testing.T) {
 					t.Errorf("two figures share the file %q", f.File)
 				}
 				files[f.File] = true
-				// 160 pixels an inch; trends 10 inches tall, shapes 2.45
-				// inches a row of two sample sizes and 1.1 for the heading.
+				// 160 pixels an inch; trends 10 inches tall plus the lines a
+				// long subtitle wraps onto (TestLongSubtitleWraps), shapes
+				// 2.45 inches a row of two sample sizes and 1.1 for the heading.
 				wantH := 1600
+				if f.Kind == KindTrends && f.Height > 1600 && f.Height < 1600+3*60 {
+					wantH = f.Height
+				}
 				if f.Kind == KindShapes {
 					rows := (len(shapeIndices(r.Study.SampleSizes, 0)) + 1) / 2
 					wantH = int(math.Round((2.45*float64(rows) + 1.1) * 160))
@@ -272,5 +278,25 @@ func TestSampleSizeTicks(t *testing.T) {
 	}
 	if labelled[0] != "4" || labelled[len(labelled)-1] != "32768" {
 		t.Errorf("labels %v: want the smallest and the largest n labelled", labelled)
+	}
+}
+
+// A subtitle longer than the figure is wide wraps onto lines that each
+// fit, instead of running off the edge (it did for not_reached answers).
+func TestLongSubtitleWraps(t *testing.T) {
+	sub := "Delta method against 20000 simulated replicates per n; Wald intervals at level 0.95. " +
+		"Not adequate within the grid; variance fails at the largest n."
+	h := wrappedHeading("title", sub)
+	if len(h.lines) < 2 {
+		t.Fatalf("subtitle of %d characters kept on %d line", len(sub), len(h.lines))
+	}
+	st := subtitleStyle()
+	for _, l := range h.lines {
+		if w := st.Width(l); w > figWidth-2*vg.Points(headingMargin) {
+			t.Errorf("line %q is %v wide, more than the figure allows", l, w)
+		}
+	}
+	if h.height() <= oneLineHeading("title", sub).height() {
+		t.Error("the wrapped heading takes no more room than one line")
 	}
 }

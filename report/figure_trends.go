@@ -334,11 +334,16 @@ func trendsPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformV
 	title := figureTitle(info, "")
 	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
 		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
-	key := trendsKey(rows, v)
-	png, w, h, err := encodePNG(trendsHeight, func(dc draw.Canvas) {
+	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
+	// A subtitle too long for one line wraps, and the figure grows by
+	// the lines it adds, in whole pixels, so the panels keep their room.
+	head := wrappedHeading(title, sub)
+	height := trendsHeight + head.height() - oneLineHeading(title, sub).height()
+	height = vg.Length(math.Ceil(float64(height.Dots(figDPI)))) / figDPI * vg.Inch
+	png, w, h, err := encodePNG(height, func(dc draw.Canvas) {
 		grid := runPanelGrid(panelRows(panels, 3, 2))
 		grid.extra = func(c draw.Canvas) { drawKey(c, key) }
-		grid.draw(oneLineHeading(title, sub).draw(dc))
+		grid.draw(head.draw(dc))
 	})
 	return png, w, h, err
 }
@@ -370,9 +375,9 @@ func noiseSeries(p *plot.Plot, x, y []float64) ([]plot.Thumbnailer, error) {
 
 // trendsKey explains the figure in words and lists the verdicts by n, so
 // the PNG can be read on its own, away from the page.
-func trendsKey(rows []measure.Row, v measure.TransformVerdict) []string {
+func trendsKey(rows []measure.Row, v measure.TransformVerdict, d measure.Decisions) []string {
 	paras := []string{
-		"Bars are the Monte Carlo 95% intervals the verdict uses (Wilson intervals for the coverage). " +
+		fmt.Sprintf("Bars are the Monte Carlo intervals the verdict uses, at z = %.3f (Wilson intervals for the coverage), so that the answer holds with family-wise confidence %s over its %d decisions (Bonferroni). ", d.Z, fmtG(d.Confidence), d.Count) +
 			"A criterion passes at n when its bar lies inside the grey band, fails when the bar lies wholly outside it, and is unclear otherwise.",
 		"Only variance, coverage and bias decide the verdict; the one-sided misses and the KS distance help to see why.",
 	}

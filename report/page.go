@@ -255,7 +255,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 func figureCaption(kind string) string {
 	switch kind {
 	case KindTrends:
-		return "Each criterion against n. Grey bands are the study's accepted bands; bars are the Monte Carlo 95% intervals the verdicts use; the dash-dot line marks the smallest adequate n. One-sided misses and the KS distance of the Wald pivot are there to show why, and decide nothing."
+		return "Each criterion against n. Grey bands are the study's accepted bands; bars are the Monte Carlo intervals the verdicts use, at the family-wise level stated with the criteria; the dash-dot line marks the smallest adequate n. One-sided misses and the KS distance of the Wald pivot are there to show why, and decide nothing."
 	case KindShapes:
 		return "The standardised estimate, (estimate − truth) / delta-method sd, at each n: as a histogram under the N(0, 1) density, and as quantiles against N(0, 1) quantiles. A shift shows bias, a spread unlike the curve a wrong variance, a bend in the quantiles skewness or heavy tails. Undefined replicates are left out."
 	}

@@ -168,7 +168,7 @@ const runPageParts = `{{define "page kind"}}deltaprobe report{{end}}
 {{end}}</tbody>
 </table>
 </div>
-{{template "explanations" .Verdicts}}<p class="note">“Adequate from n” is the smallest n of the grid at which all three criteria pass, there and at every larger n. The last three columns give the same for each criterion alone; a dash means that criterion does not reach it within the grid. A criterion passes at n when its Monte Carlo 95% interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
+{{template "explanations" .Verdicts}}<p class="note">“Adequate from n” is the smallest n of the grid at which all three criteria pass, there and at every larger n, named only where the replicates decided it; “bounds” is the range of the grid where it lies (one n when decided, a range when not, a dash when the largest n fails). The last three columns give the same for each criterion alone; a dash means the replicates did not decide it within the grid. A criterion passes at n when its Monte Carlo interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
 {{template "bullets" .Criteria}}</section>
 <section id="scope" class="scope">
 <p><strong>What this check does and does not show.</strong> It checks the delta-method approximation only under the model this study states: the family and parameter values below, these sample sizes, this estimator and these transforms. Data that depart from that model – another distribution, other parameter values, dependence, missing values, another estimator – may behave differently. Every number here is a Monte Carlo estimate and carries Monte Carlo error.</p>

@@ -21,16 +21,16 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	for _, c := range measure.Criteria() {
 		shorts = append(shorts, c.Short)
 	}
-	fmt.Fprintln(tw, "transform\tsmallest n\tbounds\tstatus\tlimited by\t"+strings.Join(shorts, "\t"))
+	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimiting\t"+strings.Join(shorts, "\t"))
 	for _, v := range vs {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s", clip(v.Transform, 20), dash(formatN(v.SmallestN)), boundsText(v), v.Status, v.Limiting)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s", clip(v.Transform, 22), boundsText(v), v.Status, v.Limiting)
 		for _, n := range v.PerCriterion {
 			fmt.Fprintf(tw, "\t%s", dash(formatN(n)))
 		}
 		fmt.Fprintln(tw)
 	}
 	tw.Flush()
-	wrap(w, "", fmt.Sprintf("bounds: the smallest adequate n lies in this range of the grid; it is named only where the replicates decided it. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
+	wrap(w, "", fmt.Sprintf("smallest n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
 		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
 	for _, v := range vs {
 		if len(v.Undecided) > 0 {
@@ -47,11 +47,11 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 
 // boundsText writes a transform's bounds on its smallest adequate n:
 // "40" when they meet, "20–80" when they do not, "20–" when no n passes
-// for sure up to the largest, "–" when the largest n fails.
+// for sure up to the largest, a dash when the largest n fails.
 func boundsText(v measure.TransformVerdict) string {
 	switch {
 	case v.Low == 0:
-		return "–"
+		return dash("")
 	case v.Low == v.High:
 		return formatN(v.Low)
 	case v.High == 0:
