@@ -313,8 +313,8 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 	return panel{title: "Normality of the Wald pivot", plot: p, legend: legend}, nil
 }
 
-// trendsPNG draws the trends figure of transform t.
-func trendsPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict) ([]byte, int, int, error) {
+// trendsFigure draws the trends figure of transform t with enc.
+func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
 	var panels []panel
 	for _, mk := range []func() (panel, error){
@@ -335,12 +335,11 @@ func trendsPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformV
 	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
 		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
 	key := trendsKey(rows, v)
-	png, w, h, err := encodePNG(trendsHeight, func(dc draw.Canvas) {
+	return encodeSized(enc, trendsHeight, func(dc draw.Canvas) {
 		grid := runPanelGrid(panelRows(panels, 3, 2))
 		grid.extra = func(c draw.Canvas) { drawKey(c, key) }
 		grid.draw(oneLineHeading(title, sub).draw(dc))
 	})
-	return png, w, h, err
 }
 
 // runPanelGrid spaces the panels of the run's figures, the trends and the
