@@ -213,11 +213,12 @@ func encodeSVG(height vg.Length, drawFn func(dc draw.Canvas)) ([]byte, error) {
 	return buf.Bytes(), nil
 }
 
-// encodePDF renders a drawing as a one-page PDF with the fonts embedded.
+// encodePDF renders a drawing as a one-page PDF, its regular face
+// embedded (see pdfTextCanvas).
 func encodePDF(height vg.Length, drawFn func(dc draw.Canvas)) ([]byte, error) {
 	c := vgpdf.New(figWidth, height)
 	c.EmbedFonts(true)
-	dc := draw.New(cp1252Canvas{c})
+	dc := draw.New(pdfTextCanvas{CanvasSizer: c, pdf: c})
 	fillBackground(dc)
 	drawFn(dc)
 	var buf bytes.Buffer
@@ -234,26 +235,35 @@ func fillBackground(dc draw.Canvas) {
 	dc.Fill(dc.Rectangle.Path())
 }
 
-// cp1252Canvas passes text to the PDF canvas so that it comes out right.
+// pdfTextCanvas passes text to the PDF canvas so that it comes out right.
 //
 // It encodes the text in code page 1252, the encoding the canvas's
 // embedded fonts use: the PDF writer takes the bytes of a string as they
 // are, so any character beyond ASCII would otherwise come out as two or
 // three wrong ones.
 //
-// And it names a bold or italic face as a normal one of a variant of its
-// own: the canvas registers every face under its name with no style, but
-// asks the writer for a bold face under its name with style "B", which
-// the writer then does not find. The face itself, and so the glyphs and
-// their widths, is unchanged.
-type cp1252Canvas struct {
+// It names a bold or italic face as a normal one of a variant of its own:
+// the canvas registers every face under its name with no style, but asks
+// the writer for a bold face under its name with style "B", which the
+// writer then does not find. The face itself, and so the glyphs' widths,
+// is unchanged.
+//
+// And it embeds the regular face only. The canvas names every embedded
+// font's data alike, so a document embedding two faces holds the data of
+// one of them for both: bold text would be set in regular glyphs. A bold
+// face is referenced by name instead (LiberationSans-Bold, whose metrics
+// are Arial's), so a viewer sets it in that face or one of the same
+// widths.
+type pdfTextCanvas struct {
 	vg.CanvasSizer
+	pdf *vgpdf.Canvas
 }
 
-func (c cp1252Canvas) FillString(f font.Face, pt vg.Point, s string) {
+func (c pdfTextCanvas) FillString(f font.Face, pt vg.Point, s string) {
 	if f.Font.Weight != xfont.WeightNormal || f.Font.Style != xfont.StyleNormal {
 		f.Font.Variant = font.Variant(fmt.Sprintf("%s-w%d-s%d", f.Font.Variant, f.Font.Weight, f.Font.Style))
 		f.Font.Weight, f.Font.Style = xfont.WeightNormal, xfont.StyleNormal
+		defer c.pdf.EmbedFonts(c.pdf.EmbedFonts(false))
 	}
 	c.CanvasSizer.FillString(f, pt, toCP1252(s))
 }
