@@ -1,10 +1,8 @@
 package report
 
 import (
-	"bytes"
 	"fmt"
 	"image/color"
-	"image/png"
 	"math"
 	"runtime"
 	"strconv"
@@ -21,18 +19,28 @@ import (
 	"gonum.org/v1/plot/text"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgimg"
 )
 
-// Figure is one rendered PNG of the report.
+// Figure is one figure of the report, rendered in one or more formats.
 type Figure struct {
-	File      string // file name inside the output folder
-	Transform int    // index into Result.Study.Transforms
-	Kind      string // "trends" or "shapes"
-	PNG       []byte
-	Width     int // pixels
-	Height    int // pixels
+	File      string       // the file the page shows: the PNG, else the SVG
+	Files     []FigureFile // one a format, in the order of Formats
+	Transform int          // index into Result.Study.Transforms
+	Kind      string       // "trends", "shapes" or "plan"
+	Width     int          // pixels of the PNG, also when there is none
+	Height    int          // pixels
 	Alt       string
+}
+
+// Data returns the figure's bytes in format f, nil if it was not rendered
+// in f.
+func (fig Figure) Data(f Format) []byte {
+	for _, ff := range fig.Files {
+		if ff.Format == f {
+			return ff.Data
+		}
+	}
+	return nil
 }
 
 // Figure kinds, as they end the file names.
@@ -121,39 +129,50 @@ func newPanel() *plot.Plot {
 	return p
 }
 
-// Figures renders every figure of r: for each transform, its trends and
-// its shapes. Figures are independent, so they render in parallel; each is
-// a pure function of r and comes out byte for byte the same every time.
-func Figures(r *runner.Result) ([]Figure, error) {
+// Figures renders every figure of r in each of formats (none: the
+// DefaultFormats): for each transform, its trends and its shapes. Figures
+// are independent, so they render in parallel; each is a pure function
+// of r and comes out byte for byte the same every time.
+func Figures(r *runner.Result, formats ...Format) ([]Figure, error) {
+	formats, err := checkFormats(formats)
+	if err != nil {
+		return nil, err
+	}
 	rows := measure.Summarize(r)
 	verdicts := measure.Verdicts(rows)
 	stems := transformStems(r.Study.Transforms)
 	figs := make([]Figure, 0, 2*len(stems))
 	for t := range stems {
 		figs = append(figs,
-			Figure{File: stems[t] + "-" + KindTrends + ".png", Transform: t, Kind: KindTrends},
-			Figure{File: stems[t] + "-" + KindShapes + ".png", Transform: t, Kind: KindShapes})
+			Figure{File: stems[t] + "-" + KindTrends, Transform: t, Kind: KindTrends},
+			Figure{File: stems[t] + "-" + KindShapes, Transform: t, Kind: KindShapes})
 	}
 	nn := len(r.Study.SampleSizes)
-	err := renderEach(len(figs), func(i int) error {
+	err = renderEach(len(figs), func(i int) error {
 		f := &figs[i]
 		t := f.Transform
 		var v measure.TransformVerdict
 		if t < len(verdicts) {
 			v = verdicts[t]
 		}
+		stem := f.File
 		var err error
 		switch f.Kind {
 		case KindTrends:
-			f.PNG, f.Width, f.Height, err = trendsPNG(r, t, rows[t*nn:(t+1)*nn], v)
+			f.Files, f.Width, f.Height, err = renderFormats(stem, formats, func(enc encodeFunc) ([]byte, int, int, error) {
+				return trendsFigure(r, t, rows[t*nn:(t+1)*nn], v, enc)
+			})
 			f.Alt = trendsAlt(r, t, v)
 		case KindShapes:
-			f.PNG, f.Width, f.Height, err = shapesPNG(r, t, rows[t*nn:(t+1)*nn], v)
+			f.Files, f.Width, f.Height, err = renderFormats(stem, formats, func(enc encodeFunc) ([]byte, int, int, error) {
+				return shapesFigure(r, t, rows[t*nn:(t+1)*nn], v, enc)
+			})
 			f.Alt = shapesAlt(r, t)
 		}
 		if err != nil {
-			return fmt.Errorf("drawing %s: %w", f.File, err)
+			return fmt.Errorf("drawing %s: %w", stem, err)
 		}
+		f.File = shownFile(f.Files)
 		return nil
 	})
 	if err != nil {
@@ -227,22 +246,6 @@ func renderEach(n int, draw func(i int) error) error {
 		}
 	}
 	return nil
-}
-
-// encodePNG renders a drawing of the given height onto a figure-wide
-// canvas and encodes it.
-func encodePNG(height vg.Length, drawFn func(dc draw.Canvas)) ([]byte, int, int, error) {
-	img := vgimg.NewWith(vgimg.UseWH(figWidth, height), vgimg.UseDPI(figDPI), vgimg.UseBackgroundColor(color.White))
-	drawFn(draw.New(img))
-	var buf bytes.Buffer
-	// Best speed: the figures are mostly flat colour, so the files stay
-	// small, and encoding no longer dominates writing the report.
-	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	if err := enc.Encode(&buf, img.Image()); err != nil {
-		return nil, 0, 0, fmt.Errorf("encoding PNG: %w", err)
-	}
-	b := img.Image().Bounds()
-	return buf.Bytes(), b.Dx(), b.Dy(), nil
 }
 
 // figureTitle names the transform and its expression, clipped so that a

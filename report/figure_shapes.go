@@ -192,8 +192,8 @@ func qqPoints(h *runner.Histogram) (plotter.XYs, float64) {
 	return pts, zmax
 }
 
-// shapesPNG draws the shapes figure of transform t.
-func shapesPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict) ([]byte, int, int, error) {
+// shapesFigure draws the shapes figure of transform t with enc.
+func shapesFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	idx := shapeIndices(r.Study.SampleSizes, v.SmallestN)
 	hs := make([]*runner.Histogram, len(idx))
 	minTotal := int64(math.MaxInt64)
@@ -303,7 +303,7 @@ func shapesPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformV
 		{label: "y = x: exactly N(0, 1)", thumbs: []plot.Thumbnailer{hLine{style: diagonal}}},
 	}
 	height := vg.Length(rowsN)*shapeRowHeight + 1.1*vg.Inch
-	return encodePNG(height, func(dc draw.Canvas) {
+	return encodeSized(enc, height, func(dc draw.Canvas) {
 		rest := oneLineHeading(figureTitle(info, ": shape of the standardised estimate"), sub).draw(dc)
 		lc := draw.Crop(rest, vg.Points(14), vg.Points(-14), 0, 0)
 		used := drawLegend(lc, legend)

@@ -118,7 +118,7 @@ func TestFigures(t *testing.T) {
 					rows := (len(shapeIndices(r.Study.SampleSizes, 0)) + 1) / 2
 					wantH = int(math.Round((2.45*float64(rows) + 1.1) * 160))
 				}
-				checkPNG(t, f.File, f.PNG, 1600, wantH)
+				checkPNG(t, f.File, f.Data(FormatPNG), 1600, wantH)
 				if f.Width != 1600 || f.Height != wantH {
 					t.Errorf("%s reports %d×%d, want 1600×%d", f.File, f.Width, f.Height, wantH)
 				}
@@ -153,7 +153,7 @@ func TestFiguresDeterministic(t *testing.T) {
 		t.Fatal(err)
 	}
 	for i := range first {
-		if sha256.Sum256(first[i].PNG) != sha256.Sum256(again[i].PNG) {
+		if sha256.Sum256(first[i].Data(FormatPNG)) != sha256.Sum256(again[i].Data(FormatPNG)) {
 			t.Errorf("%s differs between renderings of the result before and after saving and loading it", first[i].File)
 		}
 	}

@@ -313,8 +313,8 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 	return panel{title: "Normality of the Wald pivot", plot: p, legend: legend}, nil
 }
 
-// trendsPNG draws the trends figure of transform t.
-func trendsPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict) ([]byte, int, int, error) {
+// trendsFigure draws the trends figure of transform t with enc.
+func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
 	var panels []panel
 	for _, mk := range []func() (panel, error){
@@ -340,12 +340,11 @@ func trendsPNG(r *runner.Result, t int, rows []measure.Row, v measure.TransformV
 	head := wrappedHeading(title, sub)
 	height := trendsHeight + head.height() - oneLineHeading(title, sub).height()
 	height = vg.Length(math.Ceil(float64(height.Dots(figDPI)))) / figDPI * vg.Inch
-	png, w, h, err := encodePNG(height, func(dc draw.Canvas) {
+	return encodeSized(enc, height, func(dc draw.Canvas) {
 		grid := runPanelGrid(panelRows(panels, 3, 2))
 		grid.extra = func(c draw.Canvas) { drawKey(c, key) }
 		grid.draw(head.draw(dc))
 	})
-	return png, w, h, err
 }
 
 // runPanelGrid spaces the panels of the run's figures, the trends and the

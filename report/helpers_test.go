@@ -96,14 +96,16 @@ func storedPlanFigures(t testing.TB, dir string) []Figure {
 // bytes as figs holds: a second rendering of the same input.
 func sameFiles(t *testing.T, dir string, figs []Figure) {
 	t.Helper()
-	for _, f := range figs {
-		b, err := os.ReadFile(filepath.Join(dir, f.File))
-		if err != nil {
-			t.Error(err)
-			continue
-		}
-		if !bytes.Equal(b, f.PNG) {
-			t.Errorf("%s as written differs from another rendering of the same input", f.File)
+	for _, fig := range figs {
+		for _, f := range fig.Files {
+			b, err := os.ReadFile(filepath.Join(dir, f.Name))
+			if err != nil {
+				t.Error(err)
+				continue
+			}
+			if !bytes.Equal(b, f.Data) {
+				t.Errorf("%s as written differs from another rendering of the same input", f.Name)
+			}
 		}
 	}
 }

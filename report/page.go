@@ -75,6 +75,29 @@ type transformSection struct {
 type figureRef struct {
 	File, Alt, Caption string
 	Width, Height      int
+	Image              bool         // File is an image a browser shows (PNG or SVG), not a PDF
+	Label              string       // File's format, for a link when it is not an image
+	Also               []figureLink // the figure's files in its other formats
+}
+
+// figureLink is a link to a figure's file in one format.
+type figureLink struct {
+	File, Label string
+}
+
+// newFigureRef is what the page needs of f under caption.
+func newFigureRef(f Figure, caption string) figureRef {
+	ref := figureRef{File: f.File, Alt: f.Alt, Caption: caption, Width: f.Width, Height: f.Height}
+	for _, ff := range f.Files {
+		label := strings.ToUpper(string(ff.Format))
+		if ff.Name == f.File {
+			ref.Image = ff.Format == FormatPNG || ff.Format == FormatSVG
+			ref.Label = label
+			continue
+		}
+		ref.Also = append(ref.Also, figureLink{File: ff.Name, Label: label})
+	}
+	return ref
 }
 
 type summaryTable struct {
@@ -198,7 +221,7 @@ func (p *studyPage) addSection(line answerLine, t int, figs []Figure, caption fu
 	sec := transformSection{Name: line.Name, Expr: line.Expr, Anchor: line.Anchor}
 	for _, f := range figs {
 		if f.Transform == t {
-			sec.Figures = append(sec.Figures, figureRef{File: f.File, Alt: f.Alt, Caption: caption(f), Width: f.Width, Height: f.Height})
+			sec.Figures = append(sec.Figures, newFigureRef(f, caption(f)))
 		}
 	}
 	p.Sections = append(p.Sections, sec)

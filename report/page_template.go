@@ -127,8 +127,9 @@ footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
 {{end}}{{end}}
 {{define "figure sections"}}{{range .}}<h3 id="{{.Anchor}}">{{.Name}} <span class="expr">= {{.Expr}}</span></h3>
 {{range .Figures}}<figure>
-<a href="{{.File}}"><img src="{{.File}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Alt}}" /></a>
-<figcaption>{{.Caption}}</figcaption>
+{{if .Image}}<a href="{{.File}}"><img src="{{.File}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Alt}}" /></a>
+{{else}}<p><a href="{{.File}}">{{.Alt}} ({{.Label}})</a></p>
+{{end}}<figcaption>{{.Caption}}{{with .Also}} <span class="also">Also as {{range $i, $l := .}}{{if $i}}, {{end}}<a href="{{$l.File}}">{{$l.Label}}</a>{{end}}.</span>{{end}}</figcaption>
 </figure>
 {{end}}{{end}}{{end}}
 {{define "summary table"}}<div class="scroll">

@@ -130,20 +130,29 @@ func (v planView) zoomRange() (lo, hi int, ok bool) {
 	return lo, hi, true
 }
 
-// PlanFigures renders the plan's figure of every transform, in study
-// order, in parallel; each is a pure function of the saved plan p and
-// comes out byte for byte the same every time.
-func PlanFigures(p *plan.Result) ([]Figure, error) {
+// PlanFigures renders the plan's figure of every transform in each of
+// formats (none: the DefaultFormats), in study order, in parallel; each
+// is a pure function of the saved plan p and comes out byte for byte the
+// same every time.
+func PlanFigures(p *plan.Result, formats ...Format) ([]Figure, error) {
+	formats, err := checkFormats(formats)
+	if err != nil {
+		return nil, err
+	}
 	stems := transformStems(p.Study.Transforms)
 	figs := make([]Figure, len(stems))
-	err := renderEach(len(stems), func(t int) error {
+	err = renderEach(len(stems), func(t int) error {
 		v := newPlanView(p, t)
-		f := Figure{File: stems[t] + "-" + KindPlan + ".png", Transform: t, Kind: KindPlan, Alt: planAlt(v)}
+		stem := stems[t] + "-" + KindPlan
+		f := Figure{Transform: t, Kind: KindPlan, Alt: planAlt(v)}
 		var err error
-		f.PNG, f.Width, f.Height, err = planPNG(p, v)
+		f.Files, f.Width, f.Height, err = renderFormats(stem, formats, func(enc encodeFunc) ([]byte, int, int, error) {
+			return planFigure(p, v, enc)
+		})
 		if err != nil {
-			return fmt.Errorf("drawing %s: %w", f.File, err)
+			return fmt.Errorf("drawing %s: %w", stem, err)
 		}
+		f.File = shownFile(f.Files)
 		figs[t] = f
 		return nil
 	})
@@ -262,8 +271,8 @@ func (a planAxis) replicatesPanel(steps []plan.Step, perN int, title, xlabel str
 	return &panel{title: title, plot: p}
 }
 
-// planPNG draws the plan figure of one transform.
-func planPNG(p *plan.Result, v planView) ([]byte, int, int, error) {
+// planFigure draws the plan figure of one transform with enc.
+func planFigure(p *plan.Result, v planView, enc encodeFunc) ([]byte, int, int, error) {
 	spec, s := p.Spec, p.Study
 	var ns []int
 	for _, st := range v.steps {
@@ -348,7 +357,7 @@ func planPNG(p *plan.Result, v planView) ([]byte, int, int, error) {
 	// Whole pixels, so the reported size is the decoded size.
 	height = vg.Length(math.Ceil(float64(height.Dots(figDPI)))) / figDPI * vg.Inch
 
-	return encodePNG(height, func(dc draw.Canvas) {
+	return encodeSized(enc, height, func(dc draw.Canvas) {
 		rest := head.draw(dc)
 		lc := draw.Crop(rest, vg.Points(22), -vg.Points(22), 0, 0)
 		used := drawLegend(lc, legend)

@@ -63,7 +63,7 @@ func TestPlanFigures(t *testing.T) {
 				if f.Width != 1600 || f.Height <= 1600 {
 					t.Errorf("%s reports %d×%d, want 1600 wide and more than 1600 tall", f.File, f.Width, f.Height)
 				}
-				checkPNG(t, f.File, f.PNG, f.Width, f.Height)
+				checkPNG(t, f.File, f.Data(FormatPNG), f.Width, f.Height)
 				if f.Alt == "" {
 					t.Errorf("%s has no alt text", f.File)
 				}
@@ -83,7 +83,7 @@ func TestPlanFiguresDeterministic(t *testing.T) {
 		t.Fatal(err)
 	}
 	for i := range a {
-		if !bytes.Equal(a[i].PNG, b[i].PNG) {
+		if !bytes.Equal(a[i].Data(FormatPNG), b[i].Data(FormatPNG)) {
 			t.Errorf("%s differs between two renderings of the same plan", a[i].File)
 		}
 	}

@@ -35,15 +35,21 @@ const usage = `deltaprobe checks whether the delta-method approximation holds at
 usage:
   deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
                             [-dry-run] [-checkpoint 5s] [-shard K/N | -shard auto [-shards N]]
+                            [-figures png,svg,pdf]
                                     simulate the study's grid of sample sizes
-  deltaprobe run -resume DIR        continue an interrupted run (or shard)
-  deltaprobe merge -o DIR [-partial] [-force] PART...
+  deltaprobe run -resume DIR [-figures png,svg,pdf]
+                                    continue an interrupted run (or shard)
+  deltaprobe merge -o DIR [-partial] [-force] [-figures png,svg,pdf] PART...
                                     merge shards' result.json files (or their folders)
   deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
+                             [-figures png,svg,pdf]
                                     search for the smallest adequate n ([plan] table)
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
-  deltaprobe report DIR             rewrite the tables, figures and page of a run folder
+  deltaprobe report DIR [-figures png,svg,pdf]
+                                    rewrite the tables, figures and page of a run folder
                                     (DIR/result.json) or a plan folder (DIR/plan.json)
+
+-figures writes each figure as PNG (the default), SVG and/or PDF, e.g. -figures png,pdf.
   deltaprobe families               the data-generating families and their estimators
   deltaprobe version
 
@@ -146,6 +152,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	every := fs.Duration("checkpoint", checkpointEvery, "save the state this often while running")
 	shardFlag := fs.String("shard", "", "run only shard K/N of the blocks (0 ≤ K < N), or auto from the job array's environment")
 	shards := fs.Int("shards", 0, "with -shard auto under an indexed job: the number of shards")
+	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
 		return flagErr(err)
@@ -260,7 +267,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "shard %s done: its blocks are in %s; merge every shard with deltaprobe merge\n", res.Shard, resultPath)
 		return exitOK
 	}
-	if err := report.Write(dir, res); err != nil {
+	if err := report.Write(dir, res, *figures...); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
 		return exitFailure
 	}
@@ -501,7 +508,8 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 }
 
 func cmdReport(args []string, stdout, stderr io.Writer) int {
-	fs := newFlagSet("report", "report DIR", stderr)
+	fs := newFlagSet("report", "report DIR [-figures png,svg,pdf]", stderr)
+	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
 		return flagErr(err)
@@ -512,7 +520,7 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 	}
 	dir := positional[0]
 	if _, err := os.Stat(filepath.Join(dir, plan.File)); err == nil {
-		return reportPlan(dir, stdout, stderr)
+		return reportPlan(dir, *figures, stdout, stderr)
 	}
 	if _, err := os.Stat(filepath.Join(dir, "result.json")); errors.Is(err, os.ErrNotExist) {
 		fmt.Fprintf(stderr, "deltaprobe report: %s holds neither result.json (a run's state) nor %s (a plan's): give the folder a run or plan wrote\n", dir, plan.File)
@@ -523,7 +531,7 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
 		return exitUsage
 	}
-	if err := report.Write(dir, res); err != nil {
+	if err := report.Write(dir, res, *figures...); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
 		return exitFailure
 	}
@@ -534,13 +542,13 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 
 // reportPlan rewrites a plan folder's tables, figures and page from its
 // plan.json.
-func reportPlan(dir string, stdout, stderr io.Writer) int {
+func reportPlan(dir string, figures []report.Format, stdout, stderr io.Writer) int {
 	res, err := plan.Load(filepath.Join(dir, plan.File))
 	if err != nil {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
 		return exitUsage
 	}
-	if err := report.WritePlan(dir, res); err != nil {
+	if err := report.WritePlan(dir, res, figures...); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
 		return exitFailure
 	}
@@ -558,6 +566,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	fs.Var(&seed, "seed", "seed `S` ≥ 0, overriding the study file's seed (default: the file's)")
 	force := fs.Bool("force", false, "write into a non-empty output folder")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
+	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
 		return flagErr(err)
@@ -607,7 +616,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		return exitFailure
 	}
-	if err := report.WritePlan(dir, res); err != nil {
+	if err := report.WritePlan(dir, res, *figures...); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		return exitFailure
 	}
@@ -678,10 +687,11 @@ func parseShard(spec string, shards int, getenv func(string) string) (runner.Sha
 }
 
 func cmdMerge(args []string, stdout, stderr io.Writer) int {
-	fs := newFlagSet("merge", "merge -o DIR [-partial] [-force] PART...", stderr)
+	fs := newFlagSet("merge", "merge -o DIR [-partial] [-force] [-figures png,svg,pdf] PART...", stderr)
 	out := fs.String("o", "", "output folder for the merged result (required)")
 	partial := fs.Bool("partial", false, "merge an incomplete set on purpose; the output says what is missing")
 	force := fs.Bool("force", false, "write into a non-empty output folder")
+	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
 		return flagErr(err)
@@ -720,11 +730,32 @@ func cmdMerge(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
 		return exitFailure
 	}
-	if err := report.Write(*out, merged); err != nil {
+	if err := report.Write(*out, merged, *figures...); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
 		return exitFailure
 	}
 	report.VerdictTable(stdout, merged)
 	fmt.Fprintf(stderr, "merged %d parts into %s\n", len(parts), *out)
 	return exitOK
+}
+
+// figuresFlag is the -figures flag: the formats the figures are written in.
+type figuresFlag []report.Format
+
+func (f *figuresFlag) String() string { return report.FormatList(*f) }
+
+func (f *figuresFlag) Set(s string) error {
+	formats, err := report.ParseFormats(s)
+	if err != nil {
+		return err
+	}
+	*f = formats
+	return nil
+}
+
+// addFiguresFlag defines -figures on fs, by default report.DefaultFormats.
+func addFiguresFlag(fs *flag.FlagSet) *figuresFlag {
+	f := figuresFlag(report.DefaultFormats)
+	fs.Var(&f, "figures", "figure formats: a comma-separated subset of "+report.FormatList(report.Formats))
+	return &f
 }

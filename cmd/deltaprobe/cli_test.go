@@ -328,7 +328,7 @@ func TestDocListsEveryCommand(t *testing.T) {
 			t.Errorf("main.go's package comment lacks %q from the usage text", want)
 		}
 	}
-	for _, flag := range []string{"-checkpoint", "-shards", "-partial", "-force", "-budget", "-resume", "-dry-run"} {
+	for _, flag := range []string{"-checkpoint", "-shards", "-partial", "-force", "-budget", "-resume", "-dry-run", "-figures"} {
 		if !strings.Contains(usage, flag) || !strings.Contains(string(doc), flag) {
 			t.Errorf("flag %s missing from the usage text or the package comment", flag)
 		}

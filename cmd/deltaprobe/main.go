@@ -6,11 +6,13 @@
 //
 //	deltaprobe run STUDY.toml [-o DIR] [-workers N] [-replicates R] [-seed S] [-force] [-quiet]
 //	                          [-dry-run] [-checkpoint 5s] [-shard K/N | -shard auto [-shards N]]
-//	deltaprobe run -resume DIR
-//	deltaprobe merge -o DIR [-partial] [-force] PART...
+//	                          [-figures png,svg,pdf]
+//	deltaprobe run -resume DIR [-figures png,svg,pdf]
+//	deltaprobe merge -o DIR [-partial] [-force] [-figures png,svg,pdf] PART...
 //	deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
+//	                           [-figures png,svg,pdf]
 //	deltaprobe predict STUDY.toml
-//	deltaprobe report DIR
+//	deltaprobe report DIR [-figures png,svg,pdf]
 //	deltaprobe families
 //	deltaprobe version
 //
