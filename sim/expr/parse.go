@@ -225,7 +225,8 @@ func (p *parser) parsePrimary(context string) (*node, error) {
 	case tokComma:
 		sb.WriteString(" (commas are not part of the language)")
 	case tokStar:
-		if prev := p.toks[p.pos-1]; prev.kind == tokStar && prev.pos == t.pos-1 {
+		// A "*" with nothing before it has no previous token.
+		if p.pos > 0 && p.toks[p.pos-1].kind == tokStar && p.toks[p.pos-1].pos == t.pos-1 {
 			sb.WriteString(" (\"**\" is not an operator; for a power write ^, as in x^2)")
 		}
 	}
