@@ -3,7 +3,6 @@ package report
 import (
 	"bytes"
 	"encoding/csv"
-	"math"
 	"strconv"
 
 	"deltaprobe/sim/measure"
@@ -49,17 +48,7 @@ func verdictColumns() []string {
 // float64, so a CSV file holds exactly the numbers the measures hold and
 // is stable to the byte. A value that does not exist (NaN) is an empty
 // field; infinities are Inf and -Inf.
-func csvFloat(x float64) string {
-	switch {
-	case math.IsNaN(x):
-		return ""
-	case math.IsInf(x, 1):
-		return "Inf"
-	case math.IsInf(x, -1):
-		return "-Inf"
-	}
-	return strconv.FormatFloat(x, 'g', -1, 64)
-}
+func csvFloat(x float64) string { return plainFloat(x, -1) }
 
 // formatMeasure writes one measure's value for a CSV file.
 func formatMeasure(m *measure.Measure, r measure.Row) string {

@@ -137,13 +137,19 @@ func Conclude(rows []Row, a Answer) TransformVerdict {
 			}
 		}
 	}
+	tv.Limiting = firstWith(at, want)
+	return tv
+}
+
+// firstWith names the first criterion whose check at row r has verdict
+// v, or "" if none has.
+func firstWith(r Row, v Verdict) string {
 	for c, cr := range criteria {
-		if at.Checks[c].Verdict == want {
-			tv.Limiting = cr.Name
-			break
+		if r.Checks[c].Verdict == v {
+			return cr.Name
 		}
 	}
-	return tv
+	return ""
 }
 
 // searched concludes a plan's search by the search's own rule: adequate
@@ -187,12 +193,7 @@ func searched(rows []Row, a Answer) TransformVerdict {
 	if tv.Status == StatusUnclear && want == Pass {
 		want = Unclear
 	}
-	for c, cr := range criteria {
-		if top.Checks[c].Verdict == want {
-			tv.Limiting = cr.Name
-			break
-		}
-	}
+	tv.Limiting = firstWith(top, want)
 	return tv
 }
 
