@@ -63,6 +63,6 @@ func armSizesGlance(st study.Info, ns []int) []keyValue {
 	for i, n := range ns {
 		parts[i] = fmt.Sprintf("at n = %d, %s", n, armSizesText(st, n))
 	}
-	return []keyValue{{"Arm sizes", "n is the base size of each arm, which draws ceil(n × allocation) observations; the total N is their sum (n_total). " +
+	return []keyValue{{"Arm sizes", "n is the base size of each arm, which draws ceil(n × allocation) observations; the total N is their sum (n_total): " +
 		strings.Join(parts, "; ") + "."}}
 }
