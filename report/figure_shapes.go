@@ -8,6 +8,7 @@ import (
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -253,7 +254,7 @@ func shapesFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 			notes = []string{"no defined replicates"}
 		}
 		note := strings.Join(notes, ", ")
-		panels = append(panels, panel{title: fmt.Sprintf("n = %d", n), note: note, plot: hp})
+		panels = append(panels, panel{title: shapeTitle(r.Study, n), note: note, plot: hp})
 		hists = append(hists, hp)
 
 		qp := newPanel()
@@ -332,4 +333,13 @@ func (g glyphThumb) Thumbnail(c *draw.Canvas) { c.DrawGlyph(g.style, c.Center())
 func shapesAlt(r *runner.Result, t int) string {
 	return fmt.Sprintf("Shapes for %s: for each sample size, a histogram of the standardised estimate under the N(0, 1) density, and its quantiles against N(0, 1) quantiles.",
 		r.Study.Transforms[t].Name)
+}
+
+// shapeTitle heads the small multiple at n: "n = 40", and with several
+// arms or an allocation the total as well, "n = 40 (N = 100)".
+func shapeTitle(st study.Info, n int) string {
+	if st.PerArm() {
+		return fmt.Sprintf("n = %d (N = %d)", n, st.Total(n))
+	}
+	return fmt.Sprintf("n = %d", n)
 }

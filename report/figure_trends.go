@@ -37,6 +37,7 @@ type trendAxes struct {
 	tickGap  float64
 	criteria study.Criteria
 	level    float64
+	xlabel   string
 }
 
 func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
@@ -54,7 +55,17 @@ func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
 		tickGap:  0.09 * span,
 		criteria: r.Study.Criteria,
 		level:    r.Study.Level,
+		xlabel:   sampleSizeLabel(r.Study),
 	}
+}
+
+// sampleSizeLabel is the trends figure's x-axis label; the subtitle says
+// what a base size n stands for.
+func sampleSizeLabel(st study.Info) string {
+	if st.PerArm() {
+		return "base sample size n per arm (log scale)"
+	}
+	return "sample size n (log scale)"
 }
 
 // newPanel is a panel with the trend figure's shared log n axis.
@@ -62,7 +73,7 @@ func (a trendAxes) newPanel(ylabel string) *plot.Plot {
 	p := newPanel()
 	p.X.Scale = plot.LogScale{}
 	p.X.Tick.Marker = sampleSizeTicks{ns: a.ns, minGap: a.tickGap}
-	p.X.Label.Text = "sample size n (log scale)"
+	p.X.Label.Text = a.xlabel
 	p.Y.Label.Text = ylabel
 	p.Y.Tick.Marker = stepTicks{maxLabels: 5}
 	return p
@@ -334,6 +345,9 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	title := figureTitle(info, "")
 	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
 		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
+	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
+		sub += " " + note
+	}
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
 	// A subtitle too long for one line wraps, and the figure grows by
 	// the lines it adds, in whole pixels, so the panels keep their room.

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"html/template"
 	"math"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -235,6 +236,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		{"Sample sizes", joinInts(st.SampleSizes)},
 		{"Replicates", fmt.Sprintf("%d per sample size", st.Replicates)},
 	}
+	glance = slices.Insert(glance, 1, armSizesGlance(st, st.SampleSizes)...)
 	provenance := []keyValue{
 		{"Replicates per sample size", strconv.Itoa(st.Replicates)},
 		{"Block size", strconv.Itoa(r.BlockSize)},

@@ -2,6 +2,7 @@ package report
 
 import (
 	"fmt"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -52,6 +53,7 @@ func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
 		{"Decisions", fmt.Sprintf("each at confidence %s; %s", fmtG(spec.Confidence), p.Method)},
 		{"Window", "above each answer, " + window + " are also checked"},
 	}
+	glance = slices.Insert(glance, 1, armSizesGlance(st, []int{spec.NMin, spec.NMax})...)
 	exhausted := "no"
 	if p.Exhausted {
 		exhausted = "yes: decisions marked unclear could not be made within it"

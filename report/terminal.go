@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strconv"
 	"strings"
 	"text/tabwriter"
 
@@ -30,6 +31,9 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 		fmt.Fprintln(tw)
 	}
 	tw.Flush()
+	if note := armSizesNote(r.Study, exampleN(r.Study, firstSmallest(vs))); note != "" {
+		wrap(w, "", note)
+	}
 	wrap(w, "", fmt.Sprintf("smallest n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
 		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
 	for _, v := range vs {
@@ -43,6 +47,17 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 			wrap(w, "  - ", m)
 		}
 	}
+}
+
+// firstSmallest is the first transform's smallest adequate n that there
+// is, 0 if none.
+func firstSmallest(vs []measure.TransformVerdict) int {
+	for _, v := range vs {
+		if v.SmallestN > 0 {
+			return v.SmallestN
+		}
+	}
+	return 0
 }
 
 // boundsText writes a transform's bounds on its smallest adequate n:
@@ -122,16 +137,30 @@ func clip(s string, n int) string {
 	return string([]rune(s)[:n-1]) + "…"
 }
 
-// PredictTable prints the delta-method predictions per transform and n.
+// PredictTable prints the delta-method predictions per transform and n;
+// with several arms or an allocation, also the total N at each n and,
+// under the table, what n stands for.
 func PredictTable(w io.Writer, r *runner.Result) {
+	st := r.Study
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "transform\tn\ttruth\tdelta_var\tdelta_sd\tbias_2nd")
-	for t, info := range r.Study.Transforms {
-		for ni, n := range r.Study.SampleSizes {
+	total := func(int) string { return "" }
+	if st.PerArm() {
+		total = func(n int) string { return "\t" + strconv.Itoa(st.Total(n)) }
+	}
+	head := "transform\tn"
+	if st.PerArm() {
+		head += "\tN"
+	}
+	fmt.Fprintln(tw, head+"\ttruth\tdelta_var\tdelta_sd\tbias_2nd")
+	for t, info := range st.Transforms {
+		for ni, n := range st.SampleSizes {
 			p := r.Predictions[t][ni]
-			fmt.Fprintf(tw, "%s\t%d\t%s\t%s\t%s\t%s\n", clip(info.Name, 24), n, formatFloat(p.Truth), formatFloat(p.DeltaVar),
+			fmt.Fprintf(tw, "%s\t%d%s\t%s\t%s\t%s\t%s\n", clip(info.Name, 24), n, total(n), formatFloat(p.Truth), formatFloat(p.DeltaVar),
 				formatFloat(math.Sqrt(p.DeltaVar)), formatFloat(p.Bias2nd))
 		}
 	}
 	tw.Flush()
+	if note := armSizesNote(st, exampleN(st, 0)); note != "" {
+		wrap(w, "", note+" N: the total at each n.")
+	}
 }

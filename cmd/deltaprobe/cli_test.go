@@ -186,7 +186,8 @@ func TestOverridesChangeTheRun(t *testing.T) {
 		return string(b)
 	}
 	base := read("-replicates", "200")
-	if !strings.Contains(base, "reciprocal,5,200,") {
+	// transform, n, n_total (n for one sample), replicates.
+	if !strings.Contains(base, "reciprocal,5,5,200,") {
 		t.Errorf("-replicates 200 not applied:\n%s", base)
 	}
 	if read("-replicates", "200", "-seed", "43") == base {

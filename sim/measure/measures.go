@@ -35,8 +35,10 @@ const (
 )
 
 // Cell is what one transform's measures at one n are computed from: the
-// saved tallies, the moments folded over blocks, and the prediction.
+// saved tallies, the moments folded over blocks, the prediction, and the
+// study, whose arms give the sizes behind n.
 type Cell struct {
+	Study     *study.Info
 	Cell      *runner.Cell
 	Pred      study.Prediction
 	Moments   runner.Moments // of the defined estimates

@@ -64,7 +64,7 @@ func SummarizeCell(r *runner.Result, t, ni int, z float64) Row {
 	rc := r.Cells[t][ni]
 	merged := rc.Merged()
 	c := &Cell{
-		Cell: rc, Pred: r.Predictions[t][ni],
+		Study: &r.Study, Cell: rc, Pred: r.Predictions[t][ni],
 		Moments: merged.Moments, PluginVar: merged.PluginVar,
 	}
 	c.SDDelta = math.Sqrt(c.Pred.DeltaVar)

@@ -18,6 +18,10 @@ import (
 // The measures. Monte Carlo standard errors follow Morris, White &
 // Crowther (2019, Statistics in Medicine 38:2074–2102).
 var (
+	// n_total is the observations over all arms at base size n, the sum
+	// of the arm sizes by the runner's rule; n itself for one sample.
+	NTotal = define(Measure{Name: "n_total", Group: Estimate, Count: true,
+		Value: func(c *Cell, _ *Row) float64 { return float64(c.Study.Total(c.Cell.N)) }})
 	Replicates = define(Measure{Name: "replicates", Group: Estimate, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.Replicates) }})
 	Undefined = define(Measure{Name: "undefined", Group: Estimate, Count: true,

@@ -20,7 +20,7 @@ func TestTableOrder(t *testing.T) {
 			columns = append(columns, m.Name)
 		}
 	}
-	want := []string{"replicates", "undefined", "truth", "mean", "bias", "bias_mcse",
+	want := []string{"n_total", "replicates", "undefined", "truth", "mean", "bias", "bias_mcse",
 		"rel_bias", "std_bias", "bias_2nd", "emp_var", "emp_var_mcse", "delta_var",
 		"var_ratio", "var_ratio_mcse", "plugin_var", "plugin_ratio", "coverage",
 		"coverage_mcse", "miss_below", "miss_above", "iqr_sd", "skewness",

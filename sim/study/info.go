@@ -60,6 +60,32 @@ func (s *Study) DrawsPerReplicate(n int) int {
 	return d
 }
 
+// ArmSizes are the sizes of the arms, in order, at base sample size n, by
+// the rule the runner draws with (Study.ArmSize).
+func (i Info) ArmSizes(n int) []int {
+	sizes := make([]int, len(i.Arms))
+	for a, arm := range i.Arms {
+		sizes[a] = armSize(arm.Allocation, n)
+	}
+	return sizes
+}
+
+// Total is the number of observations over all arms at base sample size
+// n: n_total, the sum of ArmSizes(n).
+func (i Info) Total(n int) int {
+	t := 0
+	for _, size := range i.ArmSizes(n) {
+		t += size
+	}
+	return t
+}
+
+// PerArm reports whether n is a base size that differs from the arm sizes
+// or their total: several arms, or an allocation other than 1.
+func (i Info) PerArm() bool {
+	return len(i.Arms) > 1 || len(i.Arms) == 1 && i.Arms[0].Allocation != 1
+}
+
 // Discrete reports whether any arm draws discrete data (counts).
 func (s *Study) Discrete() bool {
 	for _, a := range s.Arms {

@@ -366,6 +366,10 @@ expr = "a.p"
 		if got := s.ArmSize(0, c.n); got != c.want {
 			t.Errorf("allocation %s at n=%d: ArmSize = %d, want ceil(%d × %s) = %d", c.alloc, c.n, got, c.n, c.alloc, c.want)
 		}
+		// The report counts by the same rule from the saved study.
+		if got := s.Info().ArmSizes(c.n); len(got) != 1 || got[0] != c.want {
+			t.Errorf("allocation %s at n=%d: Info.ArmSizes = %v, want [%d]", c.alloc, c.n, got, c.want)
+		}
 		// The prediction must use the same size: p(1 − p)/n_arm.
 		if got, want := s.Predict(0, c.n).DeltaVar, 0.25/float64(c.want); !predictClose(got, want, want) {
 			t.Errorf("allocation %s at n=%d: delta_var = %.17g, want 0.25/%d = %.17g", c.alloc, c.n, got, c.want, want)

@@ -151,12 +151,17 @@ func (s *Study) Dim() int {
 	return d
 }
 
-// ArmSize is the number of observations arm a draws at sample size n,
-// ceil(n × allocation). A product that is a whole number but for binary
-// rounding (50 × 1.1 = 55.000000000000007, two units in the last place
-// off) counts as that whole number.
-func (s *Study) ArmSize(a, n int) int {
-	v := float64(n) * s.Arms[a].Allocation
+// ArmSize is the number of observations arm a draws at sample size n
+// (see armSize).
+func (s *Study) ArmSize(a, n int) int { return armSize(s.Arms[a].Allocation, n) }
+
+// armSize is the one rule for an arm's size at base sample size n:
+// ceil(n × allocation), at least 1. A product that is a whole number but
+// for binary rounding (50 × 1.1 = 55.000000000000007, two units in the
+// last place off) counts as that whole number. The runner draws by it
+// (Study.ArmSize) and the report counts by it (Info.ArmSizes).
+func armSize(allocation float64, n int) int {
+	v := float64(n) * allocation
 	if r := math.Round(v); math.Abs(v-r) <= 2*(math.Nextafter(r, math.Inf(1))-r) {
 		return max(int(r), 1)
 	}

@@ -1,0 +1,68 @@
+package report
+
+import (
+	"fmt"
+	"strconv"
+	"strings"
+
+	"deltaprobe/sim/study"
+)
+
+// With several arms, or one arm with an allocation, n is a base size:
+// arm a draws ceil(n × allocation) observations and the study as a whole
+// the total N of them. Wherever such a study shows n, it also says what n
+// stands for; a one-sample study with allocation 1 shows n alone.
+
+// armLabel names arm a for the sizes: its name, "sample" for an unnamed
+// single sample, "arm k" otherwise.
+func armLabel(st study.Info, a int) string {
+	switch {
+	case st.Arms[a].Name != "":
+		return st.Arms[a].Name
+	case len(st.Arms) == 1:
+		return "sample"
+	}
+	return "arm " + strconv.Itoa(a+1)
+}
+
+// armSizesText lists each arm's size and the total at base size n:
+// "control 40, treated 60, total 100".
+func armSizesText(st study.Info, n int) string {
+	var parts []string
+	for a, size := range st.ArmSizes(n) {
+		parts = append(parts, armLabel(st, a)+" "+strconv.Itoa(size))
+	}
+	return strings.Join(append(parts, "total "+strconv.Itoa(st.Total(n))), ", ")
+}
+
+// armSizesNote says once what n stands for, with the sizes at n as the
+// example; empty for a one-sample study.
+func armSizesNote(st study.Info, n int) string {
+	if !st.PerArm() {
+		return ""
+	}
+	return fmt.Sprintf("n is the base size of each arm: at n = %d, %s.", n, armSizesText(st, n))
+}
+
+// exampleN is the n a note on the arm sizes shows: the smallest adequate
+// n when there is one, else the largest n of the grid.
+func exampleN(st study.Info, smallest int) int {
+	if smallest > 0 || len(st.SampleSizes) == 0 {
+		return smallest
+	}
+	return st.SampleSizes[len(st.SampleSizes)-1]
+}
+
+// armSizesGlance is the page's line on the arm sizes: the rule, then the
+// sizes at each of ns; nil for a one-sample study.
+func armSizesGlance(st study.Info, ns []int) []keyValue {
+	if !st.PerArm() || len(ns) == 0 {
+		return nil
+	}
+	parts := make([]string, len(ns))
+	for i, n := range ns {
+		parts[i] = fmt.Sprintf("at n = %d, %s", n, armSizesText(st, n))
+	}
+	return []keyValue{{"Arm sizes", "n is the base size of each arm, which draws ceil(n × allocation) observations; the total N is their sum (n_total): " +
+		strings.Join(parts, "; ") + "."}}
+}
