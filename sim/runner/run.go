@@ -66,6 +66,7 @@ func NewResult(s *study.Study) *Result {
 	r := &Result{
 		Layout:    ResultVersion,
 		Tool:      Version,
+		Build:     CurrentBuild(),
 		Study:     s.Info(),
 		BlockSize: BlockSize,
 	}
@@ -104,6 +105,7 @@ func RunBlocks(ctx context.Context, s *study.Study, res *Result, want func(ni, b
 		workers = runtime.GOMAXPROCS(0)
 	}
 	res.Workers = workers
+	res.Build = res.Build.Join(CurrentBuild()) // a resumed run may be continued by another build
 	if want == nil && res.Shard != nil {
 		want = res.Shard.Want(s)
 	}

@@ -50,14 +50,18 @@ type Study struct {
 	SHA256      string // hex digest of Source
 	Title       string
 	Description string
-	Seed        uint64
-	Replicates  int
-	SampleSizes []int
-	Level       float64
-	Arms        []Arm
-	Transforms  []Transform
-	Criteria    Criteria
-	Plan        *PlanSpec // nil unless the file has a [plan] table
+	Seed        uint64 // as run: the file's, unless a flag overrode it
+	Replicates  int    // as run: the file's, unless a flag overrode it
+	// FileSeed and FileReplicates are what the file gives (replicates: or
+	// its default), kept when a flag overrides Seed or Replicates.
+	FileSeed       uint64
+	FileReplicates int
+	SampleSizes    []int
+	Level          float64
+	Arms           []Arm
+	Transforms     []Transform
+	Criteria       Criteria
+	Plan           *PlanSpec // nil unless the file has a [plan] table
 }
 
 // PlanSpec is the [plan] table: the range of n to search and the budget
@@ -230,6 +234,7 @@ func (d *decoder) study(raw map[string]any, s *Study) {
 	if v, ok := d.integer(raw, "", "replicates", MinReplicates, MaxReplicates); ok {
 		s.Replicates = int(v)
 	}
+	s.FileSeed, s.FileReplicates = s.Seed, s.Replicates
 	s.Level = defaultLevel
 	if v, ok := d.number(raw, "", "level"); ok {
 		if !(v > 0 && v < 1) {

@@ -1,0 +1,95 @@
+package main
+
+import (
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+
+	"deltaprobe/sim/runner"
+)
+
+// The record of a run is the run: result.json and the page give the seed
+// and replicates used, say which a flag set, keep the file's, and name the
+// generator and the build.
+func TestOverridesAreRecorded(t *testing.T) {
+	study := writeStudy(t, smallStudy) // seed = 42, replicates = 3000
+	cases := []struct {
+		name          string
+		args          []string
+		seed          uint64
+		replicates    int
+		overrides     []string
+		page, notPage []string
+	}{
+		{"none", nil, 42, 3000, nil,
+			[]string{"<dd>42</dd>", "<dd>3000 per sample size</dd>"}, []string{"(from -"}},
+		{"seed", []string{"-seed", "99"}, 99, 3000, []string{"seed"},
+			[]string{"99 (from -seed; the file says 42)"}, []string{"(from -replicates"}},
+		{"both", []string{"-seed", "99", "-replicates", "200"}, 99, 200, []string{"seed", "replicates"},
+			[]string{"99 (from -seed; the file says 42)", "200 per sample size (from -replicates; the file says 3000)"}, nil},
+		{"same as the file", []string{"-seed", "42", "-replicates", "3000"}, 42, 3000, nil,
+			[]string{"<dd>42</dd>"}, []string{"(from -"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			out := filepath.Join(t.TempDir(), "out")
+			args := append([]string{"run", study, "-quiet", "-o", out, "-figures", "svg"}, c.args...)
+			if code, _, stderr := runCLI(t, args...); code != 0 {
+				t.Fatalf("exit %d: %s", code, stderr)
+			}
+			var res struct {
+				Build runner.Build `json:"build"`
+				Study struct {
+					Seed           uint64   `json:"seed"`
+					Replicates     int      `json:"replicates"`
+					Overrides      []string `json:"overrides"`
+					FileSeed       uint64   `json:"file_seed"`
+					FileReplicates int      `json:"file_replicates"`
+				} `json:"study"`
+			}
+			if err := json.Unmarshal(readFile(t, filepath.Join(out, "result.json")), &res); err != nil {
+				t.Fatal(err)
+			}
+			st := res.Study
+			if st.Seed != c.seed || st.Replicates != c.replicates || !slices.Equal(st.Overrides, c.overrides) || st.FileSeed != 42 || st.FileReplicates != 3000 {
+				t.Errorf("result.json study: seed %d, replicates %d, overrides %q, file's %d and %d; want %d, %d, %q, 42 and 3000",
+					st.Seed, st.Replicates, st.Overrides, st.FileSeed, st.FileReplicates, c.seed, c.replicates, c.overrides)
+			}
+			if want := runner.CurrentBuild(); res.Build != want {
+				t.Errorf("result.json build %+v, want %+v", res.Build, want)
+			}
+			page := string(readFile(t, filepath.Join(out, "index.html")))
+			for _, s := range append(c.page, runner.Generator, "<dt>Go version</dt>", "<dt>Platform</dt>", "<dt>Build commit</dt>") {
+				if !strings.Contains(page, s) {
+					t.Errorf("index.html lacks %q", s)
+				}
+			}
+			for _, s := range c.notPage {
+				if strings.Contains(page, s) {
+					t.Errorf("index.html has %q", s)
+				}
+			}
+		})
+	}
+}
+
+// A plan's record names its seed, the generator and the build too.
+func TestPlanRecordsSeedAndBuild(t *testing.T) {
+	study := writeStudy(t, planStudy)
+	out := filepath.Join(t.TempDir(), "out")
+	if code, _, stderr := runCLI(t, "plan", study, "-quiet", "-o", out, "-seed", "5", "-figures", "svg"); code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	page, err := os.ReadFile(filepath.Join(out, "index.html"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, s := range []string{"5 (from -seed; the file says 2027)", runner.Generator, "<dt>Platform</dt>"} {
+		if !strings.Contains(string(page), s) {
+			t.Errorf("the plan's index.html lacks %q", s)
+		}
+	}
+}
