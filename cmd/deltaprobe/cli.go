@@ -145,7 +145,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	replicates := fs.Int("replicates", 0, "replicates per sample size, overriding the study file's")
 	var seed seedFlag
 	fs.Var(&seed, "seed", "seed `S` ≥ 0, overriding the study file's seed (default: the file's)")
-	force := fs.Bool("force", false, "write into a non-empty output folder; run past the time and memory limits")
+	force := fs.Bool("force", false, "write into a non-empty output folder, removing what an earlier run or plan wrote there; run past the time and memory limits")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
 	resume := fs.String("resume", "", "continue the interrupted run saved in this folder")
 	dryRun := fs.Bool("dry-run", false, "print the work estimate and stop")
@@ -228,6 +228,11 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 
+	if *resume == "" && *force {
+		if code := clearOutDir("run", dir, *quiet, stderr); code != exitOK {
+			return code
+		}
+	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: creating output folder: %v\n", err)
 		return exitFailure
@@ -458,6 +463,22 @@ func checkOutDir(dir string, force bool) error {
 	return nil
 }
 
+// clearOutDir removes the files an earlier run, plan or merge left in
+// dir (report.RemoveOutputs), and nothing else, before a forced command
+// writes there: no stale figure of another transform or format is left
+// beside the new results. Unless quiet, it says what it removed.
+func clearOutDir(cmd, dir string, quiet bool, stderr io.Writer) int {
+	removed, err := report.RemoveOutputs(dir)
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe %s: %v\n", cmd, err)
+		return exitFailure
+	}
+	if len(removed) > 0 && !quiet {
+		fmt.Fprintf(stderr, "-force: removed %d files an earlier deltaprobe run or plan left in %s\n", len(removed), dir)
+	}
+	return exitOK
+}
+
 // progressPrinter reports progress at most a few times a second.
 func progressPrinter(w io.Writer) func(done, total int64) {
 	var last time.Time
@@ -564,7 +585,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	budget := fs.Int64("budget", 0, "cap on the replicates simulated across the whole plan (0: none)")
 	var seed seedFlag
 	fs.Var(&seed, "seed", "seed `S` ≥ 0, overriding the study file's seed (default: the file's)")
-	force := fs.Bool("force", false, "write into a non-empty output folder")
+	force := fs.Bool("force", false, "write into a non-empty output folder, removing what an earlier run or plan wrote there")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
 	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
@@ -607,6 +628,11 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 			return exitInterrupted
 		}
 		return exitFailure
+	}
+	if *force {
+		if code := clearOutDir("plan", dir, *quiet, stderr); code != exitOK {
+			return code
+		}
 	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: creating output folder: %v\n", err)
@@ -690,7 +716,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) int {
 	fs := newFlagSet("merge", "merge -o DIR [-partial] [-force] [-figures png,svg,pdf] PART...", stderr)
 	out := fs.String("o", "", "output folder for the merged result (required)")
 	partial := fs.Bool("partial", false, "merge an incomplete set on purpose; the output says what is missing")
-	force := fs.Bool("force", false, "write into a non-empty output folder")
+	force := fs.Bool("force", false, "write into a non-empty output folder, removing what an earlier run or plan wrote there")
 	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
@@ -721,6 +747,11 @@ func cmdMerge(args []string, stdout, stderr io.Writer) int {
 	if err := checkOutDir(*out, *force); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
 		return exitUsage
+	}
+	if *force {
+		if code := clearOutDir("merge", *out, false, stderr); code != exitOK {
+			return code
+		}
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe merge: creating output folder: %v\n", err)

@@ -93,3 +93,46 @@ func TestPlanRecordsSeedAndBuild(t *testing.T) {
 		}
 	}
 }
+
+// -force removes what an earlier run or plan left, and nothing else.
+func TestForceRemovesStaleOutputs(t *testing.T) {
+	cases := []struct {
+		cmd, study string
+		args       []string
+		fresh      string // a file the command writes
+	}{
+		{"run", smallStudy, []string{"-replicates", "100"}, "summary.csv"},
+		{"plan", planStudy, nil, "plan.csv"},
+	}
+	for _, c := range cases {
+		t.Run(c.cmd, func(t *testing.T) {
+			study := writeStudy(t, c.study)
+			out := t.TempDir()
+			stale := []string{"another_transform-trends.png", "another_transform-shapes.pdf", "gone-plan.svg", "plan.json", "result.json"}
+			kept := []string{"notes.txt", "my-figure.png"}
+			for _, name := range append(slices.Clone(stale), kept...) {
+				if err := os.WriteFile(filepath.Join(out, name), []byte("stale"), 0o644); err != nil {
+					t.Fatal(err)
+				}
+			}
+			args := append([]string{c.cmd, study, "-o", out, "-force", "-figures", "svg"}, c.args...)
+			code, _, stderr := runCLI(t, args...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, stderr)
+			}
+			if !strings.Contains(stderr, "-force: removed ") {
+				t.Errorf("stderr does not say what -force removed:\n%s", stderr)
+			}
+			for _, name := range stale {
+				if b, err := os.ReadFile(filepath.Join(out, name)); err == nil && string(b) == "stale" {
+					t.Errorf("%s from the earlier output is still there", name)
+				}
+			}
+			for _, name := range append(kept, c.fresh) {
+				if _, err := os.Stat(filepath.Join(out, name)); err != nil {
+					t.Errorf("%s: %v", name, err)
+				}
+			}
+		})
+	}
+}
