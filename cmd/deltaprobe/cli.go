@@ -45,6 +45,7 @@ usage:
                              [-figures png,svg,pdf]
                                     search for the smallest adequate n ([plan] table)
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
+                                    (a study with only a [plan]: over its range)
   deltaprobe report DIR [-figures png,svg,pdf]
                                     rewrite the tables, figures and page of a run folder
                                     (DIR/result.json) or a plan folder (DIR/plan.json)
@@ -216,9 +217,9 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		}
 	}
 
-	est := runner.EstimateWork(s, *workers, 50*time.Millisecond)
+	est := runner.EstimateWork(s, res, *workers, 50*time.Millisecond)
 	if *dryRun || !*quiet {
-		printEstimate(stderr, est, *workers)
+		printEstimate(stderr, est, *workers, *resume != "")
 	}
 	if *dryRun {
 		return exitOK
@@ -378,7 +379,8 @@ func loadForResume(dir string, positional []string, overrides bool, stderr io.Wr
 			return nil, nil, exitUsage
 		}
 		if given.SHA256 != s.SHA256 {
-			fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: %s has changed since the run started (SHA-256 %.12s…, the run's %.12s…)\n", dir, positional[0], given.SHA256, s.SHA256)
+			fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: it holds a run of %s (SHA-256 %.12s…), and %s (SHA-256 %.12s…) differs from it: the file has changed since the run started, or is another study\n",
+				dir, res.Study.File, res.Study.SHA256, positional[0], given.SHA256)
 			return nil, nil, exitUsage
 		}
 	}
@@ -402,12 +404,18 @@ func removeStaleTemps(dir string) {
 // of which the simulation is under 5 MiB).
 const reportMemory = 48 << 20
 
-func printEstimate(w io.Writer, e runner.Estimate, workers int) {
+// printEstimate prints the work estimate; a resumed run's is of the work
+// left.
+func printEstimate(w io.Writer, e runner.Estimate, workers int, resumed bool) {
 	if workers == 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
-	fmt.Fprintf(w, "work: %d replicates, %.3g draws; about %.1f ns a draw here, so about %s with %d workers; memory about %.0f MiB\n",
-		e.Replicates, float64(e.Draws), e.PerDrawNS, roughDuration(e.Time), workers, float64(e.MemoryBytes+reportMemory)/(1<<20))
+	label := "work"
+	if resumed {
+		label = "work left"
+	}
+	fmt.Fprintf(w, "%s: %d replicates, %.3g draws; about %.1f ns a draw here, so about %s with %d workers; memory about %.0f MiB\n",
+		label, e.Replicates, float64(e.Draws), e.PerDrawNS, roughDuration(e.Time), workers, float64(e.MemoryBytes+reportMemory)/(1<<20))
 }
 
 // roughDuration rounds an estimate to what it can claim.
@@ -502,6 +510,14 @@ func cmdPredict(args []string, stdout, stderr io.Writer) int {
 	s, code := loadStudy("predict", positional, stderr)
 	if s == nil {
 		return code
+	}
+	if len(s.SampleSizes) == 0 {
+		if s.Plan == nil {
+			fmt.Fprintf(stderr, "%s: predict needs sample_sizes, or a [plan] table whose range it can cover\n", s.File)
+			return exitUsage
+		}
+		s.SampleSizes = s.Plan.Grid()
+		fmt.Fprintf(stderr, "%s gives no sample_sizes: predicting over its [plan] range, n_min = %d doubling up to n_max = %d\n", s.File, s.Plan.NMin, s.Plan.NMax)
 	}
 	report.PredictTable(stdout, runner.NewResult(s))
 	return exitOK

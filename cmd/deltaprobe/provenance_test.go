@@ -136,3 +136,22 @@ func TestForceRemovesStaleOutputs(t *testing.T) {
 		})
 	}
 }
+
+// predict on a study with only a [plan] predicts over the plan's range.
+func TestPredictOverThePlanRange(t *testing.T) {
+	study := writeStudy(t, planStudy) // n_min = 5, n_max = 60
+	code, stdout, stderr := runCLI(t, "predict", study)
+	if code != 0 || !strings.Contains(stderr, "[plan] range") {
+		t.Fatalf("exit %d, stderr %q", code, stderr)
+	}
+	var got []string
+	for _, line := range strings.Split(strings.TrimSpace(stdout), "\n")[1:] {
+		f := strings.Fields(line)
+		if len(f) > 2 && f[0] == "rate" {
+			got = append(got, f[1])
+		}
+	}
+	if want := []string{"5", "10", "20", "40", "60"}; !slices.Equal(got, want) {
+		t.Errorf("predictions at n = %q, want %q:\n%s", got, want, stdout)
+	}
+}

@@ -76,6 +76,17 @@ type PlanSpec struct {
 }
 
 // Looks is the largest number of looks the budget allows at one n.
+// Grid is a coarse grid over the plan's range, for predictions where the
+// study gives no sample_sizes: n_min, doubling while below n_max, then
+// n_max.
+func (p *PlanSpec) Grid() []int {
+	var ns []int
+	for n := p.NMin; n < p.NMax; n *= 2 {
+		ns = append(ns, n)
+	}
+	return append(ns, p.NMax)
+}
+
 func (p *PlanSpec) Looks() int { return (p.MaxReplicates + p.Batch - 1) / p.Batch }
 
 // Arm is one independent sample of the study; a study with a [model]
