@@ -34,6 +34,7 @@ type studyPage struct {
 	Sections    []transformSection
 	Source      string
 	SourceName  string
+	AsRun       []keyValue // the values the run used that a flag can set
 	Provenance  []keyValue
 }
 
@@ -164,10 +165,11 @@ func renderPage(t *template.Template, data any) ([]byte, error) {
 }
 
 // newStudyPage fills in what comes from the study alone. The study at a
-// glance is its model, then glance, then its intervals; the provenance
-// is the tool, the study file and its digest and the seed, then
-// provenance.
-func newStudyPage(st study.Info, tool string, glance, provenance []keyValue) studyPage {
+// glance is its model, then glance, then its intervals; the study as run
+// states its seed, and its replicates when replicates is set (a plan
+// chooses its own); the provenance is the tool, the study file and its
+// digest, the seed, the generator and the build, then provenance.
+func newStudyPage(st study.Info, tool string, build runner.Build, replicates bool, glance, provenance []keyValue) studyPage {
 	p := studyPage{
 		Title:       st.Title,
 		Description: st.Description,
@@ -179,13 +181,51 @@ func newStudyPage(st study.Info, tool string, glance, provenance []keyValue) stu
 	}
 	p.Glance = append([]keyValue{{"Model", describeModel(st.Arms)}}, glance...)
 	p.Glance = append(p.Glance, keyValue{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(st.Level))})
+	p.AsRun = []keyValue{{"Seed", seedText(st)}}
+	if replicates {
+		p.AsRun = append(p.AsRun, keyValue{"Replicates", replicatesText(st)})
+	}
+	build = build.Known()
+	commit := build.Commit
+	switch build.Modified {
+	case "true":
+		commit += " (the tree had uncommitted changes)"
+	case "false":
+		commit += " (a clean tree)"
+	default:
+		commit += " (whether the tree was modified: " + build.Modified + ")"
+	}
 	p.Provenance = append([]keyValue{
 		{"Tool", "deltaprobe " + tool},
 		{"Study file", st.File},
 		{"Study file SHA-256", st.SHA256},
-		{"Seed", strconv.FormatUint(st.Seed, 10)},
+		{"Seed", seedText(st)},
+		{"Random generator", build.Generator},
+		{"Build commit", commit},
+		{"Go version", build.GoVersion},
+		{"Platform", build.Platform},
 	}, provenance...)
 	return p
+}
+
+// seedText is the seed a study ran with, and the file's when -seed
+// overrode it.
+func seedText(st study.Info) string {
+	s := strconv.FormatUint(st.Seed, 10)
+	if st.Overridden("seed") {
+		s += fmt.Sprintf(" (from -seed; the file says %d)", st.FileSeed)
+	}
+	return s
+}
+
+// replicatesText is the replicates per n a study ran with, and the
+// file's when -replicates overrode them.
+func replicatesText(st study.Info) string {
+	s := fmt.Sprintf("%d per sample size", st.Replicates)
+	if st.Overridden("replicates") {
+		s += fmt.Sprintf(" (from -replicates; the file says %d)", st.FileReplicates)
+	}
+	return s
 }
 
 // criterionRules says, criterion by criterion, when it passes, naming
@@ -234,11 +274,11 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 	st := r.Study
 	glance := []keyValue{
 		{"Sample sizes", joinInts(st.SampleSizes)},
-		{"Replicates", fmt.Sprintf("%d per sample size", st.Replicates)},
+		{"Replicates", replicatesText(st)},
 	}
 	glance = slices.Insert(glance, 1, armSizesGlance(st, st.SampleSizes)...)
 	provenance := []keyValue{
-		{"Replicates per sample size", strconv.Itoa(st.Replicates)},
+		{"Replicates", replicatesText(st)},
 		{"Block size", strconv.Itoa(r.BlockSize)},
 		{"Workers", strconv.Itoa(r.Workers)},
 		{"Simulation time", fmt.Sprintf("%.2f s", r.Elapsed)},
@@ -247,7 +287,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		{"Result layout", strconv.Itoa(r.Layout)},
 	}
 	d := pageData{
-		studyPage:  newStudyPage(st, r.Tool, glance, provenance),
+		studyPage:  newStudyPage(st, r.Tool, r.Build, true, glance, provenance),
 		Warnings:   measure.Warnings(r, rows),
 		Tables:     summaryTables(rows),
 		Incomplete: !r.Complete,

@@ -144,8 +144,8 @@ footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
 {{end}}
 {{define "study and provenance"}}<section id="study">
 <h2>Study file as run</h2>
-<p><code>{{.SourceName}}</code></p>
-<pre>{{.Source}}</pre>
+<p><code>{{.SourceName}}</code>, run with:</p>
+{{template "key values" .AsRun}}<pre>{{.Source}}</pre>
 </section>
 <section id="provenance">
 <h2>Provenance</h2>

@@ -71,7 +71,7 @@ func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
 		{"Plan layout", strconv.Itoa(p.Layout)},
 	}
 	d := planPageData{
-		studyPage: newStudyPage(st, p.Tool, glance, provenance),
+		studyPage: newStudyPage(st, p.Tool, p.Build, false, glance, provenance),
 		Method:    p.Method,
 		Steps:     planStepsTable(p),
 	}

@@ -107,7 +107,7 @@ func storedPlan(t testing.TB, dir string) (*study.Study, *plan.Result) {
 //
 // Without it, it checks that each stored file loads (runner.LoadResult,
 // plan.Load), stays small, and that re-running its study gives the same
-// summary rows and the same saved state, apart from the version, workers,
+// summary rows and the same saved state, apart from the version, build, workers,
 // time and date of the run. The studies are small, so this is cheap.
 func TestStoredResultsAreCurrent(t *testing.T) {
 	ctx := context.Background()
@@ -132,7 +132,7 @@ func TestStoredResultsAreCurrent(t *testing.T) {
 				t.Fatal(err)
 			}
 			sameRows(t, measure.Summarize(stored), measure.Summarize(fresh))
-			fresh.Tool, fresh.Workers, fresh.Elapsed, fresh.Finished = stored.Tool, stored.Workers, stored.Elapsed, stored.Finished
+			fresh.Tool, fresh.Build, fresh.Workers, fresh.Elapsed, fresh.Finished = stored.Tool, stored.Build, stored.Workers, stored.Elapsed, stored.Finished
 			sameState(t, path, stored, fresh)
 		})
 	}
@@ -156,7 +156,7 @@ func TestStoredResultsAreCurrent(t *testing.T) {
 				t.Fatal(err)
 			}
 			sameRows(t, stepRows(stored.Steps), stepRows(fresh.Steps))
-			fresh.Tool, fresh.Workers, fresh.Elapsed, fresh.Finished = stored.Tool, stored.Workers, stored.Elapsed, stored.Finished
+			fresh.Tool, fresh.Build, fresh.Workers, fresh.Elapsed, fresh.Finished = stored.Tool, stored.Build, stored.Workers, stored.Elapsed, stored.Finished
 			sameState(t, path, stored, fresh)
 		})
 	}

@@ -45,6 +45,7 @@ usage:
                              [-figures png,svg,pdf]
                                     search for the smallest adequate n ([plan] table)
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
+                                    (a study with only a [plan]: over its range)
   deltaprobe report DIR [-figures png,svg,pdf]
                                     rewrite the tables, figures and page of a run folder
                                     (DIR/result.json) or a plan folder (DIR/plan.json)
@@ -145,7 +146,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	replicates := fs.Int("replicates", 0, "replicates per sample size, overriding the study file's")
 	var seed seedFlag
 	fs.Var(&seed, "seed", "seed `S` ≥ 0, overriding the study file's seed (default: the file's)")
-	force := fs.Bool("force", false, "write into a non-empty output folder; run past the time and memory limits")
+	force := fs.Bool("force", false, "write into a non-empty output folder, removing what an earlier run or plan wrote there; run past the time and memory limits")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
 	resume := fs.String("resume", "", "continue the interrupted run saved in this folder")
 	dryRun := fs.Bool("dry-run", false, "print the work estimate and stop")
@@ -216,9 +217,9 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		}
 	}
 
-	est := runner.EstimateWork(s, *workers, 50*time.Millisecond)
+	est := runner.EstimateWork(s, res, *workers, 50*time.Millisecond)
 	if *dryRun || !*quiet {
-		printEstimate(stderr, est, *workers)
+		printEstimate(stderr, est, *workers, *resume != "")
 	}
 	if *dryRun {
 		return exitOK
@@ -228,6 +229,11 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		return exitUsage
 	}
 
+	if *resume == "" && *force {
+		if code := clearOutDir("run", dir, *quiet, stderr); code != exitOK {
+			return code
+		}
+	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe run: creating output folder: %v\n", err)
 		return exitFailure
@@ -373,7 +379,8 @@ func loadForResume(dir string, positional []string, overrides bool, stderr io.Wr
 			return nil, nil, exitUsage
 		}
 		if given.SHA256 != s.SHA256 {
-			fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: %s has changed since the run started (SHA-256 %.12s…, the run's %.12s…)\n", dir, positional[0], given.SHA256, s.SHA256)
+			fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: it holds a run of %s (SHA-256 %.12s…), and %s (SHA-256 %.12s…) differs from it: the file has changed since the run started, or is another study\n",
+				dir, res.Study.File, res.Study.SHA256, positional[0], given.SHA256)
 			return nil, nil, exitUsage
 		}
 	}
@@ -397,12 +404,18 @@ func removeStaleTemps(dir string) {
 // of which the simulation is under 5 MiB).
 const reportMemory = 48 << 20
 
-func printEstimate(w io.Writer, e runner.Estimate, workers int) {
+// printEstimate prints the work estimate; a resumed run's is of the work
+// left.
+func printEstimate(w io.Writer, e runner.Estimate, workers int, resumed bool) {
 	if workers == 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
-	fmt.Fprintf(w, "work: %d replicates, %.3g draws; about %.1f ns a draw here, so about %s with %d workers; memory about %.0f MiB\n",
-		e.Replicates, float64(e.Draws), e.PerDrawNS, roughDuration(e.Time), workers, float64(e.MemoryBytes+reportMemory)/(1<<20))
+	label := "work"
+	if resumed {
+		label = "work left"
+	}
+	fmt.Fprintf(w, "%s: %d replicates, %.3g draws; about %.1f ns a draw here, so about %s with %d workers; memory about %.0f MiB\n",
+		label, e.Replicates, float64(e.Draws), e.PerDrawNS, roughDuration(e.Time), workers, float64(e.MemoryBytes+reportMemory)/(1<<20))
 }
 
 // roughDuration rounds an estimate to what it can claim.
@@ -458,6 +471,22 @@ func checkOutDir(dir string, force bool) error {
 	return nil
 }
 
+// clearOutDir removes the files an earlier run, plan or merge left in
+// dir (report.RemoveOutputs), and nothing else, before a forced command
+// writes there: no stale figure of another transform or format is left
+// beside the new results. Unless quiet, it says what it removed.
+func clearOutDir(cmd, dir string, quiet bool, stderr io.Writer) int {
+	removed, err := report.RemoveOutputs(dir)
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe %s: %v\n", cmd, err)
+		return exitFailure
+	}
+	if len(removed) > 0 && !quiet {
+		fmt.Fprintf(stderr, "-force: removed %d files an earlier deltaprobe run or plan left in %s\n", len(removed), dir)
+	}
+	return exitOK
+}
+
 // progressPrinter reports progress at most a few times a second.
 func progressPrinter(w io.Writer) func(done, total int64) {
 	var last time.Time
@@ -481,6 +510,14 @@ func cmdPredict(args []string, stdout, stderr io.Writer) int {
 	s, code := loadStudy("predict", positional, stderr)
 	if s == nil {
 		return code
+	}
+	if len(s.SampleSizes) == 0 {
+		if s.Plan == nil {
+			fmt.Fprintf(stderr, "%s: predict needs sample_sizes, or a [plan] table whose range it can cover\n", s.File)
+			return exitUsage
+		}
+		s.SampleSizes = s.Plan.Grid()
+		fmt.Fprintf(stderr, "%s gives no sample_sizes: predicting over its [plan] range, n_min = %d doubling up to n_max = %d\n", s.File, s.Plan.NMin, s.Plan.NMax)
 	}
 	report.PredictTable(stdout, runner.NewResult(s))
 	return exitOK
@@ -564,7 +601,7 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	budget := fs.Int64("budget", 0, "cap on the replicates simulated across the whole plan (0: none)")
 	var seed seedFlag
 	fs.Var(&seed, "seed", "seed `S` ≥ 0, overriding the study file's seed (default: the file's)")
-	force := fs.Bool("force", false, "write into a non-empty output folder")
+	force := fs.Bool("force", false, "write into a non-empty output folder, removing what an earlier run or plan wrote there")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
 	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
@@ -607,6 +644,11 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 			return exitInterrupted
 		}
 		return exitFailure
+	}
+	if *force {
+		if code := clearOutDir("plan", dir, *quiet, stderr); code != exitOK {
+			return code
+		}
 	}
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: creating output folder: %v\n", err)
@@ -690,7 +732,7 @@ func cmdMerge(args []string, stdout, stderr io.Writer) int {
 	fs := newFlagSet("merge", "merge -o DIR [-partial] [-force] [-figures png,svg,pdf] PART...", stderr)
 	out := fs.String("o", "", "output folder for the merged result (required)")
 	partial := fs.Bool("partial", false, "merge an incomplete set on purpose; the output says what is missing")
-	force := fs.Bool("force", false, "write into a non-empty output folder")
+	force := fs.Bool("force", false, "write into a non-empty output folder, removing what an earlier run or plan wrote there")
 	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
@@ -721,6 +763,11 @@ func cmdMerge(args []string, stdout, stderr io.Writer) int {
 	if err := checkOutDir(*out, *force); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe merge: %v\n", err)
 		return exitUsage
+	}
+	if *force {
+		if code := clearOutDir("merge", *out, false, stderr); code != exitOK {
+			return code
+		}
 	}
 	if err := os.MkdirAll(*out, 0o755); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe merge: creating output folder: %v\n", err)

@@ -10,6 +10,9 @@ import (
 	"syscall"
 	"testing"
 	"time"
+
+	"deltaprobe/sim/runner"
+	studypkg "deltaprobe/sim/study"
 )
 
 // TestMain lets the test binary act as the command, so the tests can
@@ -179,9 +182,26 @@ func TestResumeRefusesAnEditedStudy(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, stderr)
 	}
 	edited := writeStudy(t, strings.Replace(smallStudy, "seed = 42", "seed = 43", 1))
+	saved, err := runner.LoadResult(filepath.Join(out, "result.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	given, err := studypkg.Load(edited)
+	if err != nil {
+		t.Fatal(err)
+	}
 	code, _, stderr := runCLI(t, "run", edited, "-resume", out, "-quiet")
-	if code != exitUsage || !strings.Contains(stderr, "has changed") {
-		t.Errorf("exit %d, stderr %q; want a refusal naming the change", code, stderr)
+	// It names the study the folder holds and the one given, each with
+	// its digest's first 12 digits.
+	for _, want := range []string{"it holds a run of " + study + " (SHA-256 " + saved.Study.SHA256[:12] + "…)", edited + " (SHA-256 " + given.SHA256[:12] + "…) differs", "has changed"} {
+		if code != exitUsage || !strings.Contains(stderr, want) {
+			t.Errorf("exit %d, stderr %q; want a refusal saying %q", code, stderr, want)
+		}
+	}
+	// A resumed run's estimate is of what is left: here nothing.
+	code, _, stderr = runCLI(t, "run", "-resume", out, "-dry-run")
+	if code != exitOK || !strings.Contains(stderr, "work left: 0 replicates") {
+		t.Errorf("exit %d, stderr %q; want the work left, none", code, stderr)
 	}
 	os.WriteFile(filepath.Join(out, "result.json"), []byte(`{"layout": 1, "cells": [`), 0o644)
 	code, _, stderr = runCLI(t, "run", "-resume", out, "-quiet")

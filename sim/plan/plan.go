@@ -31,6 +31,7 @@ type Step struct {
 type Result struct {
 	Layout   int                        `json:"layout"` // of plan.json: Layout
 	Tool     string                     `json:"tool"`   // the deltaprobe version that ran it
+	Build    runner.Build               `json:"build"`  // the generator and the build that ran it
 	Study    study.Info                 `json:"study"`
 	Spec     study.PlanSpec             `json:"spec"`   // the [plan] table as run
 	Budget   int64                      `json:"budget"` // the cap on replicates in all; 0: none
@@ -87,7 +88,7 @@ func Run(ctx context.Context, s *study.Study, budget int64, opt runner.Options) 
 		cache: map[int]*runner.Result{}, evals: map[[2]int]Step{},
 		steps: make([]int, len(s.Transforms)),
 		out: &Result{
-			Layout: Layout, Tool: runner.Version, Study: s.Info(), Spec: spec, Budget: budget,
+			Layout: Layout, Tool: runner.Version, Build: runner.CurrentBuild(), Study: s.Info(), Spec: spec, Budget: budget,
 			Spent: map[int]int64{}, Z: z, WindowRule: windowRule(spec, s.Discrete()),
 			Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
 		},

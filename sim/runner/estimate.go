@@ -9,26 +9,36 @@ import (
 	"deltaprobe/sim/study"
 )
 
-// Estimate is the work a study asks for, and what it should cost here.
+// Estimate is the work a run has left, and what it should cost here.
 type Estimate struct {
-	Draws       int64         // observations drawn in all
-	Replicates  int64         // replicates in all
+	Draws       int64         // observations left to draw
+	Replicates  int64         // replicates left
 	PerDrawNS   float64       // expected nanoseconds per draw, fit and score included, from a calibration
 	Time        time.Duration // expected wall time with the given workers
 	MemoryBytes int64         // memory of the simulation's state, roughly (the report adds its own)
 }
 
-// EstimateWork counts the draws of s and times a short calibration run
-// (about calibrate long) at the largest sample size, so the estimate
-// includes fitting and scoring as well as drawing.
-func EstimateWork(s *study.Study, workers int, calibrate time.Duration) Estimate {
+// EstimateWork counts the draws left to run of s, those of the blocks
+// res does not hold yet (res nil: the whole study; a shard's result:
+// its own blocks), and times a short calibration run (about calibrate
+// long) so the estimate includes fitting and scoring as well as drawing.
+// The memory is the whole result's, which holds every block in the end.
+func EstimateWork(s *study.Study, res *Result, workers int, calibrate time.Duration) Estimate {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
 	var e Estimate
-	for _, n := range s.SampleSizes {
-		e.Draws += int64(s.Replicates) * int64(s.DrawsPerReplicate(n))
-		e.Replicates += int64(s.Replicates)
+	// left[ni] is the number of replicates still to run at s.SampleSizes[ni].
+	pending := pendingBlocks(s, res, nil)
+	left := make([]int64, len(s.SampleSizes))
+	for ni, n := range s.SampleSizes {
+		for b, p := range pending[ni] {
+			if p {
+				left[ni] += int64(blockCount(s.Replicates, b))
+			}
+		}
+		e.Draws += left[ni] * int64(s.DrawsPerReplicate(n))
+		e.Replicates += left[ni]
 	}
 	// Per worker: two pivot histograms per transform; per result: the same
 	// per cell plus a few words per block.
@@ -36,7 +46,7 @@ func EstimateWork(s *study.Study, workers int, calibrate time.Duration) Estimate
 	hist := int64(2 * PivotBins * 8)
 	e.MemoryBytes = int64(workers)*int64(len(s.Transforms))*hist + cells*(hist+int64(Blocks(s.Replicates))*64)
 
-	if len(s.SampleSizes) == 0 {
+	if e.Replicates == 0 {
 		return e
 	}
 	// A replicate costs a fixed part (fit's tail, transforms, accumulators)
@@ -52,8 +62,8 @@ func EstimateWork(s *study.Study, workers int, calibrate time.Duration) Estimate
 		fixed = max(tSmall-perDraw*dSmall, 0)
 	}
 	var ns float64
-	for _, n := range s.SampleSizes {
-		ns += float64(s.Replicates) * (fixed + perDraw*float64(s.DrawsPerReplicate(n)))
+	for ni, n := range s.SampleSizes {
+		ns += float64(left[ni]) * (fixed + perDraw*float64(s.DrawsPerReplicate(n)))
 	}
 	e.PerDrawNS = ns / float64(e.Draws)
 	e.Time = time.Duration(ns / float64(workers))

@@ -21,6 +21,7 @@ const ResultVersion = 1
 type Result struct {
 	Layout      int                  `json:"layout"`
 	Tool        string               `json:"tool"`
+	Build       Build                `json:"build"` // the generator and the build that ran it
 	Study       study.Info           `json:"study"`
 	BlockSize   int                  `json:"block_size"`
 	Predictions [][]study.Prediction `json:"predictions"` // [transform][sample size]

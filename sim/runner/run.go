@@ -66,6 +66,7 @@ func NewResult(s *study.Study) *Result {
 	r := &Result{
 		Layout:    ResultVersion,
 		Tool:      Version,
+		Build:     CurrentBuild(),
 		Study:     s.Info(),
 		BlockSize: BlockSize,
 	}
@@ -104,29 +105,13 @@ func RunBlocks(ctx context.Context, s *study.Study, res *Result, want func(ni, b
 		workers = runtime.GOMAXPROCS(0)
 	}
 	res.Workers = workers
-	if want == nil && res.Shard != nil {
-		want = res.Shard.Want(s)
-	}
+	res.Build = res.Build.Join(CurrentBuild()) // a resumed run may be continued by another build
 
-	// pending[ni][b] marks the blocks to run. Jobs are not listed: a
-	// list of 10⁶ replicates' blocks, grown by append, is most of the
-	// memory a run would otherwise gain with its replicates.
 	per := Blocks(s.Replicates)
-	pending := make([][]bool, len(s.SampleSizes))
+	pending := pendingBlocks(s, res, want)
 	var total int64
 	var count int
 	for ni, n := range s.SampleSizes {
-		pending[ni] = make([]bool, per)
-		for b := range pending[ni] {
-			pending[ni][b] = want == nil || want(ni, b)
-		}
-		if len(res.Cells) > 0 {
-			for _, b := range res.Cells[0][ni].Blocks {
-				if b.Block < per {
-					pending[ni][b.Block] = false
-				}
-			}
-		}
 		for b, p := range pending[ni] {
 			if p {
 				count++
@@ -245,6 +230,33 @@ func (res *Result) missingBlocks(r int) int {
 		missing += Blocks(r) - len(c.Blocks)
 	}
 	return missing
+}
+
+// pendingBlocks marks, as pending[ni][b], the blocks of s still to run:
+// those want accepts (nil: all, or a shard's own when res is a shard's)
+// that res does not hold yet. Jobs are not listed: a list of 10⁶
+// replicates' blocks, grown by append, is most of the memory a run would
+// otherwise gain with its replicates.
+func pendingBlocks(s *study.Study, res *Result, want func(ni, b int) bool) [][]bool {
+	if want == nil && res != nil && res.Shard != nil {
+		want = res.Shard.Want(s)
+	}
+	per := Blocks(s.Replicates)
+	pending := make([][]bool, len(s.SampleSizes))
+	for ni := range s.SampleSizes {
+		pending[ni] = make([]bool, per)
+		for b := range pending[ni] {
+			pending[ni][b] = want == nil || want(ni, b)
+		}
+		if res != nil && len(res.Cells) > 0 {
+			for _, b := range res.Cells[0][ni].Blocks {
+				if b.Block < per {
+					pending[ni][b.Block] = false
+				}
+			}
+		}
+	}
+	return pending
 }
 
 // blockCount is the number of replicates in block b of r.

@@ -123,6 +123,7 @@ func Merge(parts []Part, partial bool) (*Result, error) {
 		return nil, fmt.Errorf("%s: %w", first.Name, err)
 	}
 	merged := NewResult(s)
+	merged.Build = ref.Build.Known()
 	owner := map[[3]int]string{}
 	count := 0
 	for _, p := range parts {
@@ -133,6 +134,7 @@ func Merge(parts []Part, partial bool) (*Result, error) {
 			count = p.Result.Shard.Count
 		}
 		merged.Elapsed += p.Result.Elapsed
+		merged.Build = merged.Build.Join(p.Result.Build)
 		merged.Finished = max(merged.Finished, p.Result.Finished) // RFC 3339 UTC sorts as text
 		for t := range p.Result.Cells {
 			for ni, c := range p.Result.Cells[t] {

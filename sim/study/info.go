@@ -1,22 +1,32 @@
 package study
 
-import "deltaprobe/sim/family"
+import (
+	"slices"
+
+	"deltaprobe/sim/family"
+)
 
 // Info is what a saved result records of the study that was run, and
 // all the report needs to know of it.
 type Info struct {
-	File        string          `json:"file"`
-	SHA256      string          `json:"sha256"`
-	Source      string          `json:"source"`
-	Title       string          `json:"title"`
-	Description string          `json:"description,omitempty"`
-	Seed        uint64          `json:"seed"`
-	Replicates  int             `json:"replicates"`
-	Level       float64         `json:"level"`
-	SampleSizes []int           `json:"sample_sizes"`
-	Criteria    Criteria        `json:"criteria"`
-	Arms        []ArmInfo       `json:"arms"`
-	Transforms  []TransformInfo `json:"transforms"`
+	File        string `json:"file"`
+	SHA256      string `json:"sha256"`
+	Source      string `json:"source"`
+	Title       string `json:"title"`
+	Description string `json:"description,omitempty"`
+	Seed        uint64 `json:"seed"`       // as run
+	Replicates  int    `json:"replicates"` // as run
+	// Overrides names the values above that a flag set to other than the
+	// file's ("seed", "replicates"); FileSeed and FileReplicates are the
+	// file's own.
+	Overrides      []string        `json:"overrides,omitempty"`
+	FileSeed       uint64          `json:"file_seed"`
+	FileReplicates int             `json:"file_replicates"`
+	Level          float64         `json:"level"`
+	SampleSizes    []int           `json:"sample_sizes"`
+	Criteria       Criteria        `json:"criteria"`
+	Arms           []ArmInfo       `json:"arms"`
+	Transforms     []TransformInfo `json:"transforms"`
 }
 
 // ArmInfo describes one arm of the model as run.
@@ -33,6 +43,10 @@ type TransformInfo struct {
 	Expr string `json:"expr"`
 }
 
+// Overridden reports whether a flag overrode the named value ("seed",
+// "replicates").
+func (i Info) Overridden(name string) bool { return slices.Contains(i.Overrides, name) }
+
 // Info describes the study for the result file.
 func (s *Study) Info() Info {
 	info := Info{
@@ -40,6 +54,13 @@ func (s *Study) Info() Info {
 		Title: s.Title, Description: s.Description, Seed: s.Seed,
 		Replicates: s.Replicates, Level: s.Level,
 		SampleSizes: append([]int(nil), s.SampleSizes...), Criteria: s.Criteria,
+		FileSeed: s.FileSeed, FileReplicates: s.FileReplicates,
+	}
+	if s.Seed != s.FileSeed {
+		info.Overrides = append(info.Overrides, "seed")
+	}
+	if s.Replicates != s.FileReplicates {
+		info.Overrides = append(info.Overrides, "replicates")
 	}
 	for _, a := range s.Arms {
 		info.Arms = append(info.Arms, ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation})

@@ -50,14 +50,18 @@ type Study struct {
 	SHA256      string // hex digest of Source
 	Title       string
 	Description string
-	Seed        uint64
-	Replicates  int
-	SampleSizes []int
-	Level       float64
-	Arms        []Arm
-	Transforms  []Transform
-	Criteria    Criteria
-	Plan        *PlanSpec // nil unless the file has a [plan] table
+	Seed        uint64 // as run: the file's, unless a flag overrode it
+	Replicates  int    // as run: the file's, unless a flag overrode it
+	// FileSeed and FileReplicates are what the file gives (replicates: or
+	// its default), kept when a flag overrides Seed or Replicates.
+	FileSeed       uint64
+	FileReplicates int
+	SampleSizes    []int
+	Level          float64
+	Arms           []Arm
+	Transforms     []Transform
+	Criteria       Criteria
+	Plan           *PlanSpec // nil unless the file has a [plan] table
 }
 
 // PlanSpec is the [plan] table: the range of n to search and the budget
@@ -72,6 +76,17 @@ type PlanSpec struct {
 }
 
 // Looks is the largest number of looks the budget allows at one n.
+// Grid is a coarse grid over the plan's range, for predictions where the
+// study gives no sample_sizes: n_min, doubling while below n_max, then
+// n_max.
+func (p *PlanSpec) Grid() []int {
+	var ns []int
+	for n := p.NMin; n < p.NMax; n *= 2 {
+		ns = append(ns, n)
+	}
+	return append(ns, p.NMax)
+}
+
 func (p *PlanSpec) Looks() int { return (p.MaxReplicates + p.Batch - 1) / p.Batch }
 
 // Arm is one independent sample of the study; a study with a [model]
@@ -235,6 +250,7 @@ func (d *decoder) study(raw map[string]any, s *Study) {
 	if v, ok := d.integer(raw, "", "replicates", MinReplicates, MaxReplicates); ok {
 		s.Replicates = int(v)
 	}
+	s.FileSeed, s.FileReplicates = s.Seed, s.Replicates
 	s.Level = defaultLevel
 	if v, ok := d.number(raw, "", "level"); ok {
 		if !(v > 0 && v < 1) {
