@@ -112,7 +112,7 @@ type summaryCell struct {
 	Text, Class string
 }
 
-// The summary is split into three tables, one per measure group, each
+// The summary is split into tables, one per measure group, each
 // under a dozen columns, so each fits a printed page and a reader finds a
 // quantity among its kin. Together they hold every column of summary.csv,
 // under the same names.
@@ -121,6 +121,7 @@ var summaryGroups = []struct {
 	group   measure.Group
 	verdict bool // ends with the verdict column
 }{
+	{"Sizes and replicates", measure.Counts, false},
 	{"Estimate and bias", measure.Estimate, true},
 	{"Variance", measure.Variance, false},
 	{"Intervals and shape", measure.Intervals, true},

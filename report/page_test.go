@@ -223,8 +223,16 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 		if got := cells[0].text.String(); got != tr.Name {
 			t.Errorf("verdict row %d names %q, want %q", i, got, tr.Name)
 		}
-		if got, want := cells[1].text.String(), dash(formatN(vs[i].SmallestN)); got != want {
-			t.Errorf("%s: adequate from %q, want %q", tr.Name, got, want)
+		// The smallest adequate n where decided, else its bounds.
+		want := dash(formatN(vs[i].SmallestN))
+		switch v := vs[i]; {
+		case v.SmallestN == 0 && v.Low > 0 && v.High > 0:
+			want = formatN(v.Low) + "–" + formatN(v.High)
+		case v.SmallestN == 0 && v.Low > 0:
+			want = formatN(v.Low) + "–"
+		}
+		if got := cells[1].text.String(); got != want {
+			t.Errorf("%s: smallest adequate n %q, want %q", tr.Name, got, want)
 		}
 	}
 

@@ -29,6 +29,7 @@ type Group int
 // The groups, in the order of the page's tables.
 const (
 	Internal  Group = iota // computed and kept, but no column of summary.csv
+	Counts                 // sizes and replicates
 	Estimate               // estimate and bias
 	Variance               // variance and its ratios
 	Intervals              // interval coverage and the shape of τ̂

@@ -20,11 +20,11 @@ import (
 var (
 	// n_total is the observations over all arms at base size n, the sum
 	// of the arm sizes by the runner's rule; n itself for one sample.
-	NTotal = define(Measure{Name: "n_total", Group: Estimate, Count: true,
+	NTotal = define(Measure{Name: "n_total", Group: Counts, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Study.Total(c.Cell.N)) }})
-	Replicates = define(Measure{Name: "replicates", Group: Estimate, Count: true,
+	Replicates = define(Measure{Name: "replicates", Group: Counts, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.Replicates) }})
-	Undefined = define(Measure{Name: "undefined", Group: Estimate, Count: true,
+	Undefined = define(Measure{Name: "undefined", Group: Counts, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.Undefined) }})
 	Truth = define(Measure{Name: "truth", Group: Estimate,
 		Value: func(c *Cell, _ *Row) float64 { return c.Pred.Truth }})
