@@ -49,13 +49,17 @@ func TestResumeEndsAsUninterrupted(t *testing.T) {
 		name   string
 		budget int64
 		stops  []int // cancel at these progress reports, counted over sessions
+		// midGrow: the first stop falls between the blocks of a batch,
+		// which one worker runs one after another.
+		midGrow bool
 	}{
-		{"first report", 0, []int{1}},
-		{"early", 0, []int{4}},
-		{"middle", 0, []int{15}},
-		{"twice", 0, []int{6, 20}},
-		{"late", 0, []int{40}},
-		{"budget", 30000, []int{9}},
+		{"first report", 0, []int{1}, false},
+		{"between blocks of a batch", 0, []int{2}, true},
+		{"early", 0, []int{4}, false},
+		{"middle", 0, []int{15}, false},
+		{"twice", 0, []int{6, 20}, false},
+		{"late", 0, []int{40}, false},
+		{"budget", 30000, []int{9}, false},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -71,7 +75,7 @@ func TestResumeEndsAsUninterrupted(t *testing.T) {
 			path := filepath.Join(t.TempDir(), File)
 			for session := 0; ; session++ {
 				cctx, cancel := context.WithCancel(ctx)
-				cfg := Config{Budget: c.budget, Options: runner.Options{Workers: 2}, Progress: func(Progress) {
+				cfg := Config{Budget: c.budget, Options: runner.Options{Workers: 1}, Progress: func(Progress) {
 					reports++
 					for _, k := range c.stops {
 						if reports == k {
@@ -100,6 +104,9 @@ func TestResumeEndsAsUninterrupted(t *testing.T) {
 					t.Fatalf("session %d: %v, incomplete %v", session, err, res.Incomplete)
 				}
 				interrupted++
+				if c.midGrow && interrupted == 1 && !partialBatch(res) {
+					t.Errorf("the stop did not fall within a batch: %d replicates held", res.Total)
+				}
 				if err := Save(path, res); err != nil {
 					t.Fatal(err)
 				}
@@ -135,4 +142,14 @@ func TestResumeCompleteIsUnchanged(t *testing.T) {
 	if got := comparable(t, again); got != want {
 		t.Errorf("resuming a complete plan changed it")
 	}
+}
+
+// partialBatch reports whether r holds a cell stopped within a batch.
+func partialBatch(r *Result) bool {
+	for _, res := range r.Cache {
+		if res.Cells[0][0].Replicates%int64(r.Spec.Batch) != 0 {
+			return true
+		}
+	}
+	return false
 }
