@@ -44,6 +44,8 @@ usage:
   deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
                              [-figures png,svg,pdf]
                                     search for the smallest adequate n ([plan] table)
+  deltaprobe plan -resume DIR [-workers N] [-quiet] [-figures png,svg,pdf]
+                                    continue an interrupted plan
   deltaprobe predict STUDY.toml     delta-method predictions per n, no simulation
                                     (a study with only a [plan]: over its range)
   deltaprobe report DIR [-figures png,svg,pdf]
@@ -585,6 +587,10 @@ func reportPlan(dir string, figures []report.Format, stdout, stderr io.Writer) i
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
 		return exitUsage
 	}
+	if res.Incomplete {
+		fmt.Fprintf(stderr, "deltaprobe report: the plan in %s was interrupted and has no verdicts yet; continue it with: deltaprobe plan -resume %s\n", dir, dir)
+		return exitUsage
+	}
 	if err := report.WritePlan(dir, res, figures...); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe report: %v\n", err)
 		return exitFailure
@@ -594,8 +600,12 @@ func reportPlan(dir string, figures []report.Format, stdout, stderr io.Writer) i
 	return exitOK
 }
 
+// planHook, when set (by the tests only), is called with each progress
+// report of plan and the command's context.
+var planHook func(context.Context, plan.Progress)
+
 func cmdPlan(args []string, stdout, stderr io.Writer) int {
-	fs := newFlagSet("plan", "plan STUDY.toml [flags]", stderr)
+	fs := newFlagSet("plan", "plan STUDY.toml [flags] | plan -resume DIR [flags]", stderr)
 	out := fs.String("o", "", "output folder (default out/<study name>-plan)")
 	workers := fs.Int("workers", 0, "worker goroutines (default: all cores)")
 	budget := fs.Int64("budget", 0, "cap on the replicates simulated across the whole plan (0: none)")
@@ -603,49 +613,101 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	fs.Var(&seed, "seed", "seed `S` ≥ 0, overriding the study file's seed (default: the file's)")
 	force := fs.Bool("force", false, "write into a non-empty output folder, removing what an earlier run or plan wrote there")
 	quiet := fs.Bool("quiet", false, "no progress on stderr")
+	resume := fs.String("resume", "", "continue the interrupted plan saved in this folder")
 	figures := addFiguresFlag(fs)
 	positional, err := parseInterspersed(fs, args)
 	if err != nil {
 		return flagErr(err)
 	}
-	s, code := loadStudy("plan", positional, stderr)
-	if s == nil {
-		return code
-	}
-	if s.Plan == nil {
-		fmt.Fprintf(stderr, "%s: no [plan] table; add one with n_min, n_max and max_replicates (see the README)\n", s.File)
-		return exitUsage
-	}
-	if code := seed.check("plan", stderr); code != exitOK {
-		return code
-	}
-	seed.apply(s)
 	if *budget < 0 || *workers < 0 {
 		fmt.Fprintln(stderr, "deltaprobe plan: -budget and -workers take whole numbers ≥ 0")
 		return exitUsage
 	}
-	dir := *out
-	if dir == "" {
-		dir = filepath.Join("out", strings.TrimSuffix(filepath.Base(s.File), filepath.Ext(s.File))+"-plan")
-	}
-	if err := checkOutDir(dir, *force); err != nil {
-		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
-		return exitUsage
+	var (
+		s    *study.Study
+		prev *plan.Result
+		dir  string
+	)
+	if *resume != "" {
+		given := givenFlags(fs)
+		if given["o"] || given["budget"] || given["force"] || seed.set {
+			fmt.Fprintln(stderr, "deltaprobe plan: -resume continues a plan as it was started; it takes no -o, -budget, -seed or -force")
+			return exitUsage
+		}
+		var code int
+		if s, prev, code = loadPlanForResume(*resume, positional, stderr); s == nil {
+			return code
+		}
+		dir = *resume
+		removeStaleTemps(dir)
+		if !prev.Incomplete {
+			fmt.Fprintf(stderr, "deltaprobe plan: %s is already complete; nothing left to simulate; rewriting its report\n", dir)
+			if err := report.WritePlan(dir, prev, *figures...); err != nil {
+				fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
+				return exitFailure
+			}
+			report.PlanTable(stdout, prev)
+			return exitOK
+		}
+	} else {
+		var code int
+		if s, code = loadStudy("plan", positional, stderr); s == nil {
+			return code
+		}
+		if s.Plan == nil {
+			fmt.Fprintf(stderr, "%s: no [plan] table; add one with n_min, n_max and max_replicates (see the README)\n", s.File)
+			return exitUsage
+		}
+		if code := seed.check("plan", stderr); code != exitOK {
+			return code
+		}
+		seed.apply(s)
+		dir = *out
+		if dir == "" {
+			dir = filepath.Join("out", strings.TrimSuffix(filepath.Base(s.File), filepath.Ext(s.File))+"-plan")
+		}
+		if err := checkOutDir(dir, *force); err != nil {
+			fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
+			return exitUsage
+		}
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
+	cfg := plan.Config{Budget: *budget, Options: runner.Options{Workers: *workers}}
+	var show func(plan.Progress)
 	if !*quiet {
-		fmt.Fprintf(stderr, "planning %d transforms over n in [%d, %d]...\n", len(s.Transforms), s.Plan.NMin, s.Plan.NMax)
-	}
-	res, err := plan.Run(ctx, s, *budget, runner.Options{Workers: *workers})
-	if err != nil {
-		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
-		if errors.Is(err, context.Canceled) {
-			return exitInterrupted
+		show = planProgressPrinter(stderr)
+		if prev != nil {
+			fmt.Fprintf(stderr, "resuming the plan in %s: %d evaluations and %d replicates already made\n", dir, len(prev.Steps), prev.Total)
+		} else {
+			fmt.Fprintf(stderr, "planning %d transforms over n in [%d, %d]...\n", len(s.Transforms), s.Plan.NMin, s.Plan.NMax)
 		}
+	}
+	if show != nil || planHook != nil {
+		cfg.Progress = func(p plan.Progress) {
+			if show != nil {
+				show(p)
+			}
+			if planHook != nil {
+				planHook(ctx, p)
+			}
+		}
+	}
+	var res *plan.Result
+	if prev != nil {
+		res, err = plan.Resume(ctx, s, prev, cfg)
+	} else {
+		res, err = plan.RunConfig(ctx, s, cfg)
+	}
+	if show != nil {
+		fmt.Fprintln(stderr)
+	}
+	interrupted := errors.Is(err, context.Canceled) && res != nil && res.Incomplete
+	if err != nil && !interrupted {
+		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		return exitFailure
 	}
-	if *force {
+	if prev == nil && *force {
 		if code := clearOutDir("plan", dir, *quiet, stderr); code != exitOK {
 			return code
 		}
@@ -658,6 +720,11 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		return exitFailure
 	}
+	if interrupted {
+		fmt.Fprintf(stderr, "deltaprobe plan: interrupted; %d finished evaluations and the replicates simulated are saved in %s; continue with: deltaprobe plan -resume %s\n",
+			len(res.Steps), filepath.Join(dir, plan.File), dir)
+		return exitInterrupted
+	}
 	if err := report.WritePlan(dir, res, *figures...); err != nil {
 		fmt.Fprintf(stderr, "deltaprobe plan: %v\n", err)
 		return exitFailure
@@ -665,6 +732,56 @@ func cmdPlan(args []string, stdout, stderr io.Writer) int {
 	report.PlanTable(stdout, res)
 	fmt.Fprintf(stderr, "wrote %s (plan.json, plan.csv, verdicts.csv, figures, index.html)\n", dir)
 	return exitOK
+}
+
+// loadPlanForResume reads DIR/plan.json and the study it was planned
+// from; a study file named beside -resume must be the same file.
+func loadPlanForResume(dir string, positional []string, stderr io.Writer) (*study.Study, *plan.Result, int) {
+	if len(positional) > 1 {
+		fmt.Fprintf(stderr, "deltaprobe plan: -resume takes at most one study file (got %d arguments)\n", len(positional))
+		return nil, nil, exitUsage
+	}
+	prev, err := plan.Load(filepath.Join(dir, plan.File))
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe plan: cannot resume: %v\n", err)
+		return nil, nil, exitUsage
+	}
+	s, err := plan.ResumeStudy(prev)
+	if err != nil {
+		fmt.Fprintf(stderr, "deltaprobe plan: cannot resume %s: %v\n", dir, err)
+		return nil, nil, exitUsage
+	}
+	if len(positional) == 1 {
+		given, err := study.Load(positional[0])
+		if err != nil {
+			fmt.Fprintln(stderr, err)
+			return nil, nil, exitUsage
+		}
+		if given.SHA256 != s.SHA256 {
+			fmt.Fprintf(stderr, "deltaprobe plan: cannot resume %s: it holds a plan of %s (SHA-256 %.12s…), and %s (SHA-256 %.12s…) differs from it: the file has changed since the plan started, or is another study\n",
+				dir, prev.Study.File, prev.Study.SHA256, positional[0], given.SHA256)
+			return nil, nil, exitUsage
+		}
+	}
+	return s, prev, exitOK
+}
+
+// planProgressPrinter shows where a plan is on one line, rewritten in
+// place at most a few times a second.
+func planProgressPrinter(w io.Writer) func(plan.Progress) {
+	var last time.Time
+	width := 0
+	return func(p plan.Progress) {
+		now := time.Now()
+		if now.Sub(last) < 250*time.Millisecond {
+			return
+		}
+		last = now
+		line := fmt.Sprintf("plan: %s at n=%d, %d of at most %d replicates; %d spent in all", p.Transform, p.N, p.Replicates, p.Max, p.Total)
+		pad := max(0, width-len(line))
+		width = len(line)
+		fmt.Fprintf(w, "\r%s%s", line, strings.Repeat(" ", pad))
+	}
 }
 
 // parseShard reads "K/N", or "auto": the index from a Slurm job array

@@ -11,6 +11,7 @@
 //	deltaprobe merge -o DIR [-partial] [-force] [-figures png,svg,pdf] PART...
 //	deltaprobe plan STUDY.toml [-o DIR] [-budget R] [-workers N] [-seed S] [-force] [-quiet]
 //	                           [-figures png,svg,pdf]
+//	deltaprobe plan -resume DIR [-workers N] [-quiet] [-figures png,svg,pdf]
 //	deltaprobe predict STUDY.toml
 //	deltaprobe report DIR [-figures png,svg,pdf]
 //	deltaprobe families

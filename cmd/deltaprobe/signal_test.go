@@ -2,15 +2,18 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"syscall"
 	"testing"
 	"time"
 
+	"deltaprobe/sim/plan"
 	"deltaprobe/sim/runner"
 	studypkg "deltaprobe/sim/study"
 )
@@ -19,9 +22,26 @@ import (
 // signal a real child process without building anything.
 func TestMain(m *testing.M) {
 	if os.Getenv("DELTAPROBE_AS_COMMAND") == "1" {
+		if k, err := strconv.Atoi(os.Getenv("DELTAPROBE_PLAN_SIGINT_AT")); err == nil {
+			planHook = sigintAt(k)
+		}
 		os.Exit(run(os.Args[1:], os.Stdout, os.Stderr))
 	}
 	os.Exit(m.Run())
+}
+
+// sigintAt returns a plan hook that, at the k-th progress report, sends
+// the process SIGINT and waits until the command has seen it, so a plan
+// is interrupted at the same point every time.
+func sigintAt(k int) func(context.Context, plan.Progress) {
+	reports := 0
+	return func(ctx context.Context, _ plan.Progress) {
+		reports++
+		if reports == k {
+			syscall.Kill(os.Getpid(), syscall.SIGINT)
+			<-ctx.Done()
+		}
+	}
 }
 
 func command(args ...string) *exec.Cmd {

@@ -51,6 +51,31 @@ type Result struct {
 	Workers      int           `json:"workers"`
 	Elapsed      float64       `json:"elapsed_seconds"`
 	Finished     string        `json:"finished"` // RFC 3339 UTC
+	// Incomplete marks a plan stopped before its end (Ctrl-C, SIGTERM):
+	// Steps hold every evaluation finished, the per-transform lists only
+	// the transforms finished, and Cache what resuming needs (see Resume).
+	// A complete plan has neither.
+	Incomplete bool                   `json:"incomplete,omitempty"`
+	Cache      map[int]*runner.Result `json:"cache,omitempty"` // per n: the one-point result simulated so far
+}
+
+// Progress is where a plan is: the transform and n being evaluated, the
+// replicates held there and the most it may take, and the replicates
+// simulated in all.
+type Progress struct {
+	Transform  string
+	N          int
+	Replicates int64 // held at N
+	Max        int   // the most N may take (max_replicates)
+	Total      int64 // simulated across the plan
+	Evals      int   // evaluations finished, over all transforms
+}
+
+// Config is how a plan runs. None of it changes the plan's outcome.
+type Config struct {
+	Budget   int64 // cap on the replicates simulated across the whole plan (0: none)
+	Options  runner.Options
+	Progress func(Progress) // called as the plan goes; nil: none
 }
 
 // planner searches, for each transform, the smallest n from which this n
@@ -66,6 +91,7 @@ type planner struct {
 	out    *Result
 	evals  map[[2]int]Step // (transform, n) → its evaluation
 	steps  []int           // next step number per transform
+	report func(Progress)  // nil: no progress
 }
 
 // Run runs the sequential search of s.Plan. budget caps the replicates
@@ -76,6 +102,13 @@ type planner struct {
 // (Bonferroni) over the largest number of looks max_replicates allows, so
 // every decision holds its confidence however many batches it took.
 func Run(ctx context.Context, s *study.Study, budget int64, opt runner.Options) (*Result, error) {
+	return RunConfig(ctx, s, Config{Budget: budget, Options: opt})
+}
+
+// RunConfig is Run with progress reports. If ctx is cancelled it returns
+// the plan so far, marked Incomplete, with ctx's error; Resume continues
+// it.
+func RunConfig(ctx context.Context, s *study.Study, cfg Config) (*Result, error) {
 	if s.Plan == nil {
 		return nil, fmt.Errorf("%s has no [plan] table", s.File)
 	}
@@ -83,30 +116,107 @@ func Run(ctx context.Context, s *study.Study, budget int64, opt runner.Options) 
 	looks := spec.Looks()
 	alpha := (1 - spec.Confidence) / float64(looks)
 	z := normalQuantile(1 - alpha/2)
-	p := &planner{
-		ctx: ctx, s: s, spec: spec, opt: opt, budget: budget, z: z,
-		cache: map[int]*runner.Result{}, evals: map[[2]int]Step{},
-		steps: make([]int, len(s.Transforms)),
-		out: &Result{
-			Layout: Layout, Tool: runner.Version, Build: runner.CurrentBuild(), Study: s.Info(), Spec: spec, Budget: budget,
-			Spent: map[int]int64{}, Z: z, WindowRule: windowRule(spec, s.Discrete()),
-			Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
-		},
+	p := newPlanner(ctx, s, spec, z, cfg)
+	p.out = &Result{
+		Layout: Layout, Tool: runner.Version, Build: runner.CurrentBuild(), Study: s.Info(), Spec: spec, Budget: cfg.Budget,
+		Spent: map[int]int64{}, Z: z, WindowRule: windowRule(spec, s.Discrete()),
+		Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
 	}
+	return p.run()
+}
+
+// Resume continues the incomplete plan prev of s (see ResumeStudy). The
+// search is replayed from the start: evaluations prev holds return their
+// stored verdicts, and an evaluation cut short continues from the blocks
+// it had finished, so the plan ends as an uninterrupted one would. A
+// complete prev is returned as it is.
+func Resume(ctx context.Context, s *study.Study, prev *Result, cfg Config) (*Result, error) {
+	if !prev.Incomplete {
+		return prev, nil
+	}
+	if s.Plan == nil {
+		return nil, fmt.Errorf("%s has no [plan] table", s.File)
+	}
+	p := newPlanner(ctx, s, prev.Spec, prev.Z, cfg)
+	p.budget = prev.Budget
+	p.out = prev
+	if prev.Cache != nil {
+		p.cache = prev.Cache
+	}
+	if p.out.Spent == nil {
+		p.out.Spent = map[int]int64{}
+	}
+	index := map[string]int{}
+	for t, tr := range s.Transforms {
+		index[tr.Name] = t
+	}
+	for _, st := range prev.Steps {
+		t, ok := index[st.Transform]
+		if !ok {
+			return nil, fmt.Errorf("the plan has a step of transform %q, which the study lacks", st.Transform)
+		}
+		p.evals[[2]int{t, st.N}] = st
+		p.steps[t] = max(p.steps[t], st.Step)
+	}
+	for n, res := range p.cache {
+		if res == nil || len(res.Cells) != len(s.Transforms) || len(res.Cells[0]) != 1 || res.Cells[0][0].N != n {
+			return nil, fmt.Errorf("the plan's saved simulation at n=%d does not fit the study", n)
+		}
+	}
+	// finish recomputes every transform's lists as the replay reaches it.
+	p.out.Verdicts, p.out.Window, p.out.LargestFail, p.out.Oscillations, p.out.Undecided = nil, nil, nil, nil, nil
+	p.out.Build = p.out.Build.Join(runner.CurrentBuild())
+	p.out.Tool = runner.Version
+	return p.run()
+}
+
+// ResumeStudy rebuilds the study an incomplete plan was run from, out of
+// the study text it carries, with the seed it ran with.
+func ResumeStudy(r *Result) (*study.Study, error) {
+	s, err := study.Parse(r.Study.File, []byte(r.Study.Source))
+	if err != nil {
+		return nil, fmt.Errorf("the study stored in the plan no longer loads: %w", err)
+	}
+	if s.SHA256 != r.Study.SHA256 {
+		return nil, fmt.Errorf("the plan's study text does not match its SHA-256 %s; the file was edited", r.Study.SHA256)
+	}
+	if s.Plan == nil {
+		return nil, fmt.Errorf("the study stored in the plan has no [plan] table")
+	}
+	s.Seed = r.Study.Seed
+	return s, nil
+}
+
+func newPlanner(ctx context.Context, s *study.Study, spec study.PlanSpec, z float64, cfg Config) *planner {
+	return &planner{
+		ctx: ctx, s: s, spec: spec, opt: cfg.Options, budget: cfg.Budget, z: z,
+		cache: map[int]*runner.Result{}, evals: map[[2]int]Step{},
+		steps: make([]int, len(s.Transforms)), report: cfg.Progress,
+	}
+}
+
+// run searches every transform, from the start; evaluations already made
+// are not repeated.
+func (p *planner) run() (*Result, error) {
 	start := time.Now()
+	elapsed := p.out.Elapsed
 	defer func() {
-		p.out.Workers = opt.Workers
+		p.out.Workers = p.opt.Workers
 		if p.out.Workers <= 0 {
 			p.out.Workers = runtime.GOMAXPROCS(0)
 		}
-		p.out.Elapsed = time.Since(start).Seconds()
+		p.out.Elapsed = elapsed + time.Since(start).Seconds()
 		p.out.Finished = time.Now().UTC().Format(time.RFC3339)
 	}()
-	for t := range s.Transforms {
+	for t := range p.s.Transforms {
 		if err := p.search(t); err != nil {
+			p.out.Incomplete = true
+			p.out.Cache = p.cache
 			return p.out, err
 		}
 	}
+	p.out.Incomplete = false
+	p.out.Cache = nil
 	return p.out, nil
 }
 
@@ -260,11 +370,12 @@ func (p *planner) eval(t, n int) (measure.Verdict, error) {
 			continue
 		}
 		budgetHit := false
+		p.progress(t, n, have, 0)
 		if int64(reps) > have {
 			if p.budget > 0 && p.out.Total+int64(reps)-have > p.budget {
 				budgetHit = true
 			} else {
-				if err := p.grow(res, n, reps); err != nil {
+				if err := p.grow(t, res, n, reps); err != nil {
 					return "", err
 				}
 			}
@@ -290,19 +401,44 @@ func (p *planner) eval(t, n int) (measure.Verdict, error) {
 }
 
 // grow simulates res up to reps replicates at n.
-func (p *planner) grow(res *runner.Result, n, reps int) error {
+func (p *planner) grow(t int, res *runner.Result, n, reps int) error {
 	one := *p.s
 	one.SampleSizes = []int{n}
 	one.Replicates = reps
 	before := res.Cells[0][0].Replicates
-	if err := runner.RunBlocks(p.ctx, &one, res, nil, p.opt); err != nil {
-		return err
+	opt := p.opt
+	if p.report != nil {
+		// RunBlocks counts draws; its blocks at n are of equal draws a
+		// replicate, so the share done is the share of replicates.
+		opt.Progress = func(done, total int64) {
+			if total > 0 {
+				x := (int64(reps) - before) * done / total
+				p.progress(t, n, before+x, x)
+			}
+		}
 	}
-	res.Study.Replicates = reps
+	err := runner.RunBlocks(p.ctx, &one, res, nil, opt)
+	// Blocks finished before an interruption are kept and counted.
 	added := res.Cells[0][0].Replicates - before
 	p.out.Spent[n] += added
 	p.out.Total += added
+	if err != nil {
+		return err
+	}
+	res.Study.Replicates = reps
 	return nil
+}
+
+// progress reports transform t at n holding have replicates, of which
+// growing are simulated but not yet counted in the plan's total.
+func (p *planner) progress(t, n int, have, growing int64) {
+	if p.report == nil {
+		return
+	}
+	p.report(Progress{
+		Transform: p.s.Transforms[t].Name, N: n, Replicates: have, Max: p.spec.MaxReplicates,
+		Total: p.out.Total + growing, Evals: len(p.out.Steps),
+	})
 }
 
 // finish records the verdict of transform t from everything evaluated

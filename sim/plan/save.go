@@ -28,6 +28,13 @@ func Load(path string) (*Result, error) {
 		return nil, fmt.Errorf("%s has plan layout %d; this deltaprobe reads layout %d", path, r.Layout, Layout)
 	}
 	nt := len(r.Study.Transforms)
+	if r.Incomplete {
+		// The lists hold only the transforms finished; Resume recomputes them.
+		if len(r.Verdicts) > nt {
+			return nil, fmt.Errorf("%s is inconsistent: %d transforms but %d verdicts", path, nt, len(r.Verdicts))
+		}
+		return &r, nil
+	}
 	if len(r.Verdicts) != nt || len(r.Window) != nt || len(r.LargestFail) != nt || len(r.Oscillations) != nt || len(r.Undecided) != nt {
 		return nil, fmt.Errorf("%s is inconsistent: %d transforms but %d verdicts", path, nt, len(r.Verdicts))
 	}
