@@ -374,17 +374,8 @@ func loadForResume(dir string, positional []string, overrides bool, stderr io.Wr
 		fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: %v\n", dir, err)
 		return nil, nil, exitUsage
 	}
-	if len(positional) == 1 {
-		given, err := study.Load(positional[0])
-		if err != nil {
-			fmt.Fprintln(stderr, err)
-			return nil, nil, exitUsage
-		}
-		if given.SHA256 != s.SHA256 {
-			fmt.Fprintf(stderr, "deltaprobe run: cannot resume %s: it holds a run of %s (SHA-256 %.12s…), and %s (SHA-256 %.12s…) differs from it: the file has changed since the run started, or is another study\n",
-				dir, res.Study.File, res.Study.SHA256, positional[0], given.SHA256)
-			return nil, nil, exitUsage
-		}
+	if code := sameStudy("run", dir, res.Study, positional, stderr); code != exitOK {
+		return nil, nil, code
 	}
 	if res.Complete {
 		fmt.Fprintf(stderr, "deltaprobe run: %s is already complete; nothing left to simulate\n", dir)
@@ -751,19 +742,29 @@ func loadPlanForResume(dir string, positional []string, stderr io.Writer) (*stud
 		fmt.Fprintf(stderr, "deltaprobe plan: cannot resume %s: %v\n", dir, err)
 		return nil, nil, exitUsage
 	}
-	if len(positional) == 1 {
-		given, err := study.Load(positional[0])
-		if err != nil {
-			fmt.Fprintln(stderr, err)
-			return nil, nil, exitUsage
-		}
-		if given.SHA256 != s.SHA256 {
-			fmt.Fprintf(stderr, "deltaprobe plan: cannot resume %s: it holds a plan of %s (SHA-256 %.12s…), and %s (SHA-256 %.12s…) differs from it: the file has changed since the plan started, or is another study\n",
-				dir, prev.Study.File, prev.Study.SHA256, positional[0], given.SHA256)
-			return nil, nil, exitUsage
-		}
+	if code := sameStudy("plan", dir, prev.Study, positional, stderr); code != exitOK {
+		return nil, nil, code
 	}
 	return s, prev, exitOK
+}
+
+// sameStudy checks that a study file named beside -resume (positional,
+// at most one) is the study the folder's saved run or plan (cmd) holds.
+func sameStudy(cmd, dir string, held study.Info, positional []string, stderr io.Writer) int {
+	if len(positional) == 0 {
+		return exitOK
+	}
+	given, err := study.Load(positional[0])
+	if err != nil {
+		fmt.Fprintln(stderr, err)
+		return exitUsage
+	}
+	if given.SHA256 != held.SHA256 {
+		fmt.Fprintf(stderr, "deltaprobe %s: cannot resume %s: it holds a %s of %s (SHA-256 %.12s…), and %s (SHA-256 %.12s…) differs from it: the file has changed since the %s started, or is another study\n",
+			cmd, dir, cmd, held.File, held.SHA256, positional[0], given.SHA256, cmd)
+		return exitUsage
+	}
+	return exitOK
 }
 
 // planProgressPrinter shows where a plan is on one line, rewritten in

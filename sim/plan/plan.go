@@ -173,17 +173,13 @@ func Resume(ctx context.Context, s *study.Study, prev *Result, cfg Config) (*Res
 // ResumeStudy rebuilds the study an incomplete plan was run from, out of
 // the study text it carries, with the seed it ran with.
 func ResumeStudy(r *Result) (*study.Study, error) {
-	s, err := study.Parse(r.Study.File, []byte(r.Study.Source))
+	s, err := r.Study.Rebuild("plan")
 	if err != nil {
-		return nil, fmt.Errorf("the study stored in the plan no longer loads: %w", err)
-	}
-	if s.SHA256 != r.Study.SHA256 {
-		return nil, fmt.Errorf("the plan's study text does not match its SHA-256 %s; the file was edited", r.Study.SHA256)
+		return nil, err
 	}
 	if s.Plan == nil {
 		return nil, fmt.Errorf("the study stored in the plan has no [plan] table")
 	}
-	s.Seed = r.Study.Seed
 	return s, nil
 }
 

@@ -12,15 +12,10 @@ import (
 // match is refused: merging blocks of another study would be wrong
 // without any sign of it.
 func ResumeStudy(res *Result) (*study.Study, error) {
-	s, err := study.Parse(res.Study.File, []byte(res.Study.Source))
+	s, err := res.Study.Rebuild("result")
 	if err != nil {
-		return nil, fmt.Errorf("the study stored in the result no longer loads: %w", err)
+		return nil, err
 	}
-	if s.SHA256 != res.Study.SHA256 {
-		return nil, fmt.Errorf("the result's study text does not match its SHA-256 %s; the file was edited", res.Study.SHA256)
-	}
-	s.Seed = res.Study.Seed
-	s.Replicates = res.Study.Replicates
 	if err := res.Fits(s); err != nil {
 		return nil, err
 	}

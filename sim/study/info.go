@@ -1,6 +1,7 @@
 package study
 
 import (
+	"fmt"
 	"slices"
 
 	"deltaprobe/sim/family"
@@ -115,4 +116,21 @@ func (s *Study) Discrete() bool {
 		}
 	}
 	return false
+}
+
+// Rebuild loads the study a saved state was made from, out of the study
+// text it carries, with the seed and replicates it ran with; what names
+// the state in errors ("result", "plan"). Text that no longer loads or
+// no longer matches its SHA-256 is refused.
+func (i Info) Rebuild(what string) (*Study, error) {
+	s, err := Parse(i.File, []byte(i.Source))
+	if err != nil {
+		return nil, fmt.Errorf("the study stored in the %s no longer loads: %w", what, err)
+	}
+	if s.SHA256 != i.SHA256 {
+		return nil, fmt.Errorf("the %s's study text does not match its SHA-256 %s; the file was edited", what, i.SHA256)
+	}
+	s.Seed = i.Seed
+	s.Replicates = i.Replicates
+	return s, nil
 }
