@@ -34,10 +34,11 @@ type planCase struct {
 // budget of the last was far below what its search needs, so the cap was
 // hit.
 var planCases = []planCase{
-	{"two transforms", "plan-small"},
+	{"two transforms, bracketed", "plan-small"},
 	{"not reached", "plan-not-reached"},
 	{"binary arms", "plan-binary-arms"},
 	{"budget exhausted", "plan-budget"},
+	{"bracket closes", "plan-adequate"},
 }
 
 // once holds what a test binary computes once per key.

@@ -50,6 +50,7 @@ type planView struct {
 	verdict    measure.TransformVerdict
 	window     int   // as the plan reports it
 	windowTop  int   // the largest n the window reached, 0 if none
+	answer     int   // the search's answer, n_high: the smallest adequate n when the bracket closes; 0 if none
 	oscill     []int // failing n found above a candidate
 	undecided  []int
 	largestN   int   // the largest n evaluated
@@ -73,7 +74,8 @@ func newPlanView(p *plan.Result, t int) planView {
 	if t < len(p.Undecided) {
 		v.undecided = p.Undecided[t]
 	}
-	if a := v.verdict.SmallestN; a > 0 && v.window > 0 {
+	v.answer = v.verdict.High
+	if a := v.answer; a > 0 && v.window > 0 {
 		v.windowTop = min(a+v.window, p.Spec.NMax)
 		if v.windowTop <= a {
 			v.windowTop = 0
@@ -112,7 +114,7 @@ func (v planView) below(n int) (plan.Step, bool) {
 // evaluated n just below the answer (if it is near) to the top of the
 // window. ok is false when there is no answer to zoom on.
 func (v planView) zoomRange() (lo, hi int, ok bool) {
-	a := v.verdict.SmallestN
+	a := v.answer
 	if a <= 0 {
 		return 0, 0, false
 	}
@@ -283,7 +285,7 @@ func planFigure(p *plan.Result, v planView, enc encodeFunc) ([]byte, int, int, e
 
 	lo, hi := float64(spec.NMin), float64(max(spec.NMax, v.largestN))
 	span := math.Max(math.Log10(hi/lo), 0.3)
-	a := v.verdict.SmallestN
+	a := v.answer
 	logAxis := planAxis{
 		log: true, xmin: lo / math.Pow(10, 0.04*span), xmax: hi * math.Pow(10, 0.04*span),
 		answer: a,
@@ -379,11 +381,14 @@ func planLegend(v planView, spec study.PlanSpec, level float64) []legendItem {
 		{label: "unclear", thumbs: []plot.Thumbnailer{verdictThumb{measure.Unclear}}},
 		{label: "accepted band", thumbs: []plot.Thumbnailer{hBand{color: colBand}}},
 	}
-	if a := v.verdict.SmallestN; a > 0 {
+	switch a := v.answer; {
+	case v.verdict.SmallestN > 0:
 		items = append(items, legendItem{label: "smallest adequate n = " + strconv.Itoa(a), thumbs: []plot.Thumbnailer{vMark{}}})
+	case a > 0:
+		items = append(items, legendItem{label: fmt.Sprintf("n_high = %d; the answer lies in %s", a, boundsText(v.verdict)), thumbs: []plot.Thumbnailer{vMark{}}})
 	}
 	if v.windowTop > 0 {
-		items = append(items, legendItem{label: fmt.Sprintf("window above the answer, n = %d–%d", v.verdict.SmallestN+1, v.windowTop), thumbs: []plot.Thumbnailer{vWindow{}}})
+		items = append(items, legendItem{label: fmt.Sprintf("window above n_high, n = %d–%d", v.answer+1, v.windowTop), thumbs: []plot.Thumbnailer{vWindow{}}})
 	}
 	items = append(items,
 		legendItem{label: "nominal level " + fmtG(level), thumbs: []plot.Thumbnailer{hLine{style: refStyle}}},
@@ -401,11 +406,17 @@ func planPhrase(v planView, spec study.PlanSpec) string {
 			s += "; " + tv.Limiting + " sets it"
 		}
 		if v.windowTop > 0 {
-			s += fmt.Sprintf("; window above it n = %d–%d", tv.SmallestN+1, v.windowTop)
+			s += fmt.Sprintf("; window above it n = %d–%d", v.answer+1, v.windowTop)
 		}
 		return s + "."
 	case measure.NotReached:
 		return fmt.Sprintf("Not adequate for n up to %d: %s fails at the largest n checked, %d.", spec.NMax, tv.Limiting, v.largestN)
+	}
+	if tv.High > 0 && len(tv.Undecided) > 0 {
+		return fmt.Sprintf("Smallest adequate n in %s: %s undecided at n = %s.", boundsText(tv), dash(tv.Limiting), undecidedNs(tv.Undecided))
+	}
+	if tv.High > 0 {
+		return fmt.Sprintf("Unclear: n = %d passes, but the budget left its window unchecked.", tv.High)
 	}
 	return fmt.Sprintf("Undecided: %s stays unclear at the largest n checked, %d.", dash(tv.Limiting), v.largestN)
 }
@@ -472,5 +483,20 @@ func planPhraseAlt(v planView) string {
 	case measure.NotReached:
 		return "Not adequate within the search range."
 	}
+	if v.verdict.High > 0 {
+		return fmt.Sprintf("The smallest adequate n lies in %s; the budget did not decide it more closely.", boundsText(v.verdict))
+	}
 	return "Undecided within the budget."
+}
+
+// undecidedNs lists the undecided n, at most five and then how many more.
+func undecidedNs(us []measure.UndecidedN) string {
+	var ns []int
+	for _, u := range us {
+		ns = append(ns, u.N)
+	}
+	if len(ns) > 5 {
+		return joinInts(ns[:5]) + fmt.Sprintf(" and %d more", len(ns)-5)
+	}
+	return joinInts(ns)
 }

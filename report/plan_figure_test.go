@@ -21,10 +21,11 @@ func TestPlanCasesAreWhatTheySay(t *testing.T) {
 		status    []measure.Status
 		exhausted bool
 	}{
-		{planCases[0], []measure.Status{measure.Adequate, measure.Adequate}, false},
+		{planCases[0], []measure.Status{measure.StatusUnclear, measure.StatusUnclear}, false},
 		{planCases[1], []measure.Status{measure.NotReached}, false},
-		{planCases[2], []measure.Status{measure.Adequate}, false},
+		{planCases[2], []measure.Status{measure.StatusUnclear}, false},
 		{planCases[3], nil, true},
+		{planCases[4], []measure.Status{measure.Adequate}, false},
 	}
 	for _, tc := range tests {
 		t.Run(tc.c.name, func(t *testing.T) {
@@ -230,7 +231,7 @@ func TestZoomRange(t *testing.T) {
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			v := planView{steps: steps(tc.ns, tc.vs), window: tc.window, windowTop: tc.top,
+			v := planView{steps: steps(tc.ns, tc.vs), window: tc.window, windowTop: tc.top, answer: tc.answer,
 				verdict: measure.TransformVerdict{SmallestN: tc.answer, Status: measure.Adequate}}
 			lo, hi, ok := v.zoomRange()
 			if ok != tc.wantZoom || ok && (lo != tc.lo || hi != tc.hi) {

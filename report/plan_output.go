@@ -50,13 +50,13 @@ func PlanTable(w io.Writer, p *plan.Result) {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimiting\tn checked\treplicates\twindow")
 	for i, v := range p.Verdicts {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%d\t+%d\n", clip(v.Transform, 24), dash(formatN(v.SmallestN)), v.Status, dash(v.Limiting),
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%d\t+%d\n", clip(v.Transform, 24), boundsText(v), v.Status, dash(v.Limiting),
 			evals[v.Transform], used[v.Transform], p.Window[i])
 	}
 	tw.Flush()
 	fmt.Fprintf(w, "searched n in [%d, %d], at most %d replicates per n in batches of %d\n",
 		p.Spec.NMin, p.Spec.NMax, p.Spec.MaxReplicates, p.Spec.Batch)
-	fmt.Fprintf(w, "each decision at confidence %v; %s\n", p.Spec.Confidence, p.Method)
+	wrap(w, "", "smallest n: where the smallest adequate n lies, one n where the evaluations decided it, a range where an n below the search's answer stayed undecided. Guarantee: "+p.Method+". A study checks the approximation only under the model it states.")
 	fmt.Fprintf(w, "replicates simulated in all: %d (window: integers above the answer that were also checked)\n", p.Total)
 	for i, v := range p.Verdicts {
 		if len(p.Oscillations[i]) > 0 {
@@ -66,6 +66,9 @@ func PlanTable(w io.Writer, p *plan.Result) {
 			}
 			fmt.Fprintf(w, "  %s: not monotone in n — n = %s failed above an earlier passing n; largest such n: %d\n",
 				v.Transform, strings.Join(ns, ", "), p.LargestFail[i])
+		}
+		if len(v.Undecided) > 0 {
+			wrap(w, "  ", v.Transform+": "+undecidedText(v.Undecided, p.Spec.MaxReplicates))
 		}
 		if len(p.Undecided[i]) > 0 {
 			fmt.Fprintf(w, "  %s: %d n above the answer stayed undecided within the budget (they neither passed nor failed)\n",

@@ -50,7 +50,7 @@ func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
 	glance := []keyValue{
 		{"Search range", fmt.Sprintf("n from %d to %d", spec.NMin, spec.NMax)},
 		{"Replicates", fmt.Sprintf("at most %d per n, added in batches of %d until the verdict is decided", spec.MaxReplicates, spec.Batch)},
-		{"Decisions", fmt.Sprintf("each at confidence %s; %s", fmtG(spec.Confidence), p.Method)},
+		{"Decisions", p.Method},
 		{"Window", "above each answer, " + window + " are also checked"},
 	}
 	glance = slices.Insert(glance, 1, armSizesGlance(st, []int{spec.NMin, spec.NMax})...)
@@ -89,7 +89,7 @@ func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
 			Undecided:    "none",
 		}
 		if v.windowTop > 0 {
-			line.Window = fmt.Sprintf("+%d (%d–%d)", v.window, v.verdict.SmallestN+1, v.windowTop)
+			line.Window = fmt.Sprintf("+%d (%d–%d)", v.window, v.answer+1, v.windowTop)
 		}
 		if len(v.oscill) > 0 {
 			line.Oscillations = joinInts(v.oscill)
@@ -113,8 +113,8 @@ func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
 
 func planCaption(v planView) string {
 	s := "Left: every n the search evaluated, on a log axis over the search range, with the Monte Carlo interval each decision used, widened for repeated looks; the marker gives that criterion's verdict at that n (filled circle pass, cross fail, open diamond unclear). Grey bands are the accepted bands."
-	if v.verdict.SmallestN > 0 {
-		s += " The dash-dot line marks the smallest adequate n and the hatched strip the window above it that was also checked; the right-hand column shows the n near the answer one integer at a time."
+	if v.answer > 0 {
+		s += " The dash-dot line marks the search's answer (n_high: the smallest adequate n when the bracket closes) and the hatched strip the window above it that was also checked; the right-hand column shows the n near the answer one integer at a time."
 	}
 	return s + " The bottom row gives the replicates behind each decision, topped by the overall verdict at that n."
 }
@@ -177,6 +177,22 @@ func planExplain(v planView, spec study.PlanSpec) string {
 			fmt.Fprintf(&b, " At n = %d, the largest checked, %s.", last.N, planVoice.shortfalls(last.Row))
 		}
 	default:
+		if tv.High > 0 {
+			fmt.Fprintf(&b, "The smallest adequate n lies in %s. n = %d passes, with no n checked above it failing", boundsText(tv), tv.High)
+			if v.windowTop > 0 {
+				fmt.Fprintf(&b, " (the window n = %d–%d included)", tv.High+1, v.windowTop)
+			}
+			if len(tv.Undecided) > 0 {
+				fmt.Fprintf(&b, "; below it, %s.", undecidedText(tv.Undecided, spec.MaxReplicates))
+				if tv.Low > spec.NMin {
+					fmt.Fprintf(&b, " n = %d decidedly fails, so the answer is above it.", tv.Low-1)
+				}
+				fmt.Fprintf(&b, " Raising max_replicates above %d would narrow the range.", spec.MaxReplicates)
+			} else {
+				b.WriteString("; the -budget cap left the window above it unchecked.")
+			}
+			break
+		}
 		b.WriteString("Undecided.")
 		if last, ok := v.stepAt(v.largestN); ok {
 			fmt.Fprintf(&b, " At n = %d, the largest checked, no criterion fails, but %s.", last.N, planVoice.shortfalls(last.Row))

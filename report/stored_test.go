@@ -40,6 +40,7 @@ var storedPlans = []struct {
 	{"plan-not-reached", 0},
 	{"plan-binary-arms", 0},
 	{"plan-budget", 15000},
+	{"plan-adequate", 0},
 }
 
 // maxStoredSize bounds each stored file: they are test data, and fewer

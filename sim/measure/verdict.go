@@ -152,29 +152,42 @@ func firstWith(r Row, v Verdict) string {
 	return ""
 }
 
-// searched concludes a plan's search by the search's own rule: adequate
-// at the answer it found unless the budget left the answer's window
-// unchecked; each criterion's n is the start of its final run of passes
-// among the evaluated n, an undecided n neither ending nor extending it.
-// Its bounds are the answer itself (the search vouches for no other n);
-// the rule of a grid run, for plans, is work still to do.
+// searched concludes a plan's search. The search's rule found a.N: the
+// smallest evaluated n that passes with no decided failure evaluated
+// above it and the window above it checked. That is the upper bound
+// High. The lower bound Low is one above the largest n that decidedly
+// fails (a.Lowest if none does): every integer was open to the search,
+// so the answer lies in [Low, High]. The status is adequate only when
+// they meet and the budget left nothing unchecked. Each criterion's own
+// n is the start of its final run of passes among the evaluated n (an
+// undecided n neither ending nor extending it) when the n just below it
+// decidedly fails that criterion (or it is a.Lowest), and 0 otherwise.
 func searched(rows []Row, a Answer) TransformVerdict {
 	tv := TransformVerdict{Transform: rows[0].Transform, PerCriterion: make([]int, len(criteria))}
 	for c := range criteria {
+		high := 0
 		for i := len(rows) - 1; i >= 0; i-- {
 			v := rows[i].Checks[c].Verdict
 			if v == Fail {
 				break
 			}
 			if v == Pass {
-				tv.PerCriterion[c] = rows[i].N
+				high = rows[i].N
 			}
+		}
+		if high > 0 && integerLow(rows, a.Lowest, func(r Row) Verdict { return r.Checks[c].Verdict }) == high {
+			tv.PerCriterion[c] = high
 		}
 	}
 	top := rows[len(rows)-1]
+	tv.Low = integerLow(rows, a.Lowest, func(r Row) Verdict { return r.Verdict })
+	if top.Verdict == Fail {
+		tv.Low = 0
+	}
+	tv.High = a.N
 	switch {
-	case a.N > 0 && !a.Undecided:
-		tv.Status, tv.SmallestN, tv.Low, tv.High, tv.Limiting = Adequate, a.N, a.N, a.N, "none"
+	case a.N > 0 && tv.Low == a.N && !a.Undecided:
+		tv.Status, tv.SmallestN, tv.Limiting = Adequate, a.N, "none"
 		if a.N > a.Lowest {
 			best := 0
 			for c, cr := range criteria {
@@ -182,19 +195,49 @@ func searched(rows []Row, a Answer) TransformVerdict {
 					best, tv.Limiting = tv.PerCriterion[c], cr.Name
 				}
 			}
+			if best < a.N {
+				// No criterion's own n is the answer: the one that failed
+				// just below it limits it.
+				for _, r := range rows {
+					if r.N == a.N-1 {
+						tv.Limiting = firstWith(r, Fail)
+					}
+				}
+			}
 		}
 		return tv
-	case a.Undecided || top.Verdict != Fail:
-		tv.Status = StatusUnclear
-	default:
+	case a.N == 0 && top.Verdict == Fail:
 		tv.Status = NotReached
+		tv.Limiting = firstWith(top, Fail)
+		return tv
 	}
-	want := top.Verdict
-	if tv.Status == StatusUnclear && want == Pass {
-		want = Unclear
+	tv.Status = StatusUnclear
+	tv.Undecided = undecided(rows, tv.Low, tv.High)
+	at, want := top, Unclear
+	if len(tv.Undecided) > 0 {
+		for _, r := range rows {
+			if r.N == tv.Undecided[0].N {
+				at = r
+			}
+		}
+	} else if top.Verdict == Pass {
+		// The budget left the window above the answer unchecked.
+		at, want = top, Pass
 	}
-	tv.Limiting = firstWith(top, want)
+	tv.Limiting = firstWith(at, want)
 	return tv
+}
+
+// integerLow is one above the largest n of rows that decidedly fails by
+// v, or lowest if none fails: the lower bound of a search over integers.
+func integerLow(rows []Row, lowest int, v func(Row) Verdict) int {
+	low := lowest
+	for _, r := range rows {
+		if v(r) == Fail {
+			low = r.N + 1
+		}
+	}
+	return low
 }
 
 // bounds returns Low and High (see TransformVerdict) of rows sorted by n,

@@ -38,19 +38,20 @@ type Result struct {
 	Steps    []Step                     `json:"steps"`
 	Verdicts []measure.TransformVerdict `json:"verdicts"`
 	// Per transform, in study order:
-	Window       []int         `json:"window"`       // integers above the answer that were checked
-	LargestFail  []int         `json:"largest_fail"` // largest n found failing above any candidate; 0 if none
-	Oscillations [][]int       `json:"oscillations"` // failing n found above a candidate, in order
-	Undecided    [][]int       `json:"undecided"`    // unclear n above the answer
-	Spent        map[int]int64 `json:"spent"`        // replicates simulated per n
-	Total        int64         `json:"total"`
-	Method       string        `json:"method"`      // how the error was spent over looks
-	WindowRule   string        `json:"window_rule"` // how many integers above an answer are checked
-	Z            float64       `json:"z"`
-	Exhausted    bool          `json:"exhausted"` // the -budget cap was reached
-	Workers      int           `json:"workers"`
-	Elapsed      float64       `json:"elapsed_seconds"`
-	Finished     string        `json:"finished"` // RFC 3339 UTC
+	Window       []int                 `json:"window"`       // integers above the answer that were checked
+	LargestFail  []int                 `json:"largest_fail"` // largest n found failing above any candidate; 0 if none
+	Oscillations [][]int               `json:"oscillations"` // failing n found above a candidate, in order
+	Undecided    [][]int               `json:"undecided"`    // unclear n above the answer
+	Spent        map[int]int64         `json:"spent"`        // replicates simulated per n
+	Total        int64                 `json:"total"`
+	Decisions    measure.PlanDecisions `json:"decisions"`   // the confidence of each decision and of each answer
+	Method       string                `json:"method"`      // Decisions in words
+	WindowRule   string                `json:"window_rule"` // how many integers above an answer are checked
+	Z            float64               `json:"z"`
+	Exhausted    bool                  `json:"exhausted"` // the -budget cap was reached
+	Workers      int                   `json:"workers"`
+	Elapsed      float64               `json:"elapsed_seconds"`
+	Finished     string                `json:"finished"` // RFC 3339 UTC
 	// Incomplete marks a plan stopped before its end (Ctrl-C, SIGTERM):
 	// Steps hold every evaluation finished, the per-transform lists only
 	// the transforms finished, and Cache what resuming needs (see Resume).
@@ -98,9 +99,9 @@ type planner struct {
 // simulated across the whole plan (0: no cap).
 //
 // Each criterion at each n is decided from a Monte Carlo interval that is
-// widened for repeated looks: the error 1 − confidence is split equally
-// (Bonferroni) over the largest number of looks max_replicates allows, so
-// every decision holds its confidence however many batches it took.
+// widened for repeated looks and for the decisions an answer rests on
+// (see measure.PlanRule), so every answer holds its stated family-wise
+// confidence however many batches its decisions took.
 func Run(ctx context.Context, s *study.Study, budget int64, opt runner.Options) (*Result, error) {
 	return RunConfig(ctx, s, Config{Budget: budget, Options: opt})
 }
@@ -113,14 +114,12 @@ func RunConfig(ctx context.Context, s *study.Study, cfg Config) (*Result, error)
 		return nil, fmt.Errorf("%s has no [plan] table", s.File)
 	}
 	spec := *s.Plan
-	looks := spec.Looks()
-	alpha := (1 - spec.Confidence) / float64(looks)
-	z := normalQuantile(1 - alpha/2)
-	p := newPlanner(ctx, s, spec, z, cfg)
+	rule := measure.PlanRule(s.Info(), spec)
+	p := newPlanner(ctx, s, spec, rule.Z, cfg)
 	p.out = &Result{
 		Layout: Layout, Tool: runner.Version, Build: runner.CurrentBuild(), Study: s.Info(), Spec: spec, Budget: cfg.Budget,
-		Spent: map[int]int64{}, Z: z, WindowRule: windowRule(spec, s.Discrete()),
-		Method: fmt.Sprintf("Bonferroni: 1 − confidence = %.3g split over up to %d looks per n (z = %.3f per look)", 1-spec.Confidence, looks, z),
+		Spent: map[int]int64{}, Z: rule.Z, WindowRule: windowRule(spec, s.Discrete()),
+		Decisions: rule, Method: rule.Method(),
 	}
 	return p.run()
 }
@@ -215,8 +214,6 @@ func (p *planner) run() (*Result, error) {
 	p.out.Cache = nil
 	return p.out, nil
 }
-
-func normalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }
 
 // window is how many integers above a candidate are checked, unless the
 // study says: for discrete data 20% of it, from 10 to 60 integers, since
@@ -324,6 +321,9 @@ func (p *planner) search(t int) error {
 					return nil
 				}
 			}
+			if err := p.narrow(t, pass); err != nil {
+				return err
+			}
 			p.finish(t, pass, window, false)
 			return nil
 		}
@@ -339,6 +339,40 @@ func (p *planner) search(t int) error {
 			fail = worst
 		}
 	}
+}
+
+// narrow tightens the lower bound below the answer pass. The answer
+// lies above the largest n that decidedly fails; when an n between that
+// failure and pass stayed undecided, bisection between the two (an
+// undecided n counting as not failing) finds the largest failing n it
+// can, so the bracket the plan reports is as tight as the replicates
+// allow.
+func (p *planner) narrow(t, pass int) error {
+	fail := p.spec.NMin - 1
+	for key, st := range p.evals {
+		if key[0] == t && st.N < pass && st.Row.Verdict == measure.Fail && st.N > fail {
+			fail = st.N
+		}
+	}
+	open := pass // the smallest n above fail known not to fail
+	for key, st := range p.evals {
+		if key[0] == t && st.N > fail && st.N < open {
+			open = st.N
+		}
+	}
+	for open-fail > 1 {
+		mid := fail + (open-fail)/2
+		v, err := p.eval(t, mid)
+		if err != nil {
+			return err
+		}
+		if v == measure.Fail {
+			fail = mid
+		} else {
+			open = mid
+		}
+	}
+	return nil
 }
 
 // eval decides transform t at n, adding batches until its verdict is

@@ -71,7 +71,7 @@ type PlanSpec struct {
 	NMax          int     `json:"n_max"`
 	MaxReplicates int     `json:"max_replicates"` // per n
 	Batch         int     `json:"batch"`          // replicates added per look, a multiple of BlockSize
-	Confidence    float64 `json:"confidence"`     // of each decision
+	Confidence    float64 `json:"confidence"`     // of each decision; 0: chosen from [criteria] confidence (measure.PlanRule)
 	Window        int     `json:"window"`         // integers above an answer checked; 0 means the default rule
 }
 
@@ -781,7 +781,7 @@ func (d *decoder) plan(raw map[string]any) *PlanSpec {
 		return nil
 	}
 	d.unknownKeys("plan", m, []string{"n_min", "n_max", "max_replicates", "batch", "confidence", "window"})
-	p := &PlanSpec{Confidence: 0.95}
+	p := &PlanSpec{}
 	good := true
 	need := func(key string, lo, hi int64) int {
 		if _, given := m[key]; !given {
