@@ -39,7 +39,7 @@ var VerdictColumns = verdictColumns()
 func verdictColumns() []string {
 	cols := []string{"transform", "smallest_n", "n_low", "n_high", "status", "limiting"}
 	for _, c := range measure.Criteria() {
-		cols = append(cols, "n_"+c.Name)
+		cols = append(cols, c.Column())
 	}
 	return cols
 }

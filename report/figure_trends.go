@@ -426,7 +426,7 @@ func verdictPhrase(v measure.TransformVerdict) string {
 		if v.Limiting == "none" || v.Limiting == "" {
 			return fmt.Sprintf("Adequate at every n of the grid (from n = %d).", v.SmallestN)
 		}
-		return fmt.Sprintf("Adequate from n = %d; %s sets it.", v.SmallestN, v.Limiting)
+		return fmt.Sprintf("Smallest adequate n = %d; limiting: %s.", v.SmallestN, v.Limiting)
 	case measure.NotReached:
 		return fmt.Sprintf("Not adequate within the grid; %s fails at the largest n.", v.Limiting)
 	case measure.StatusUnclear:

@@ -249,7 +249,7 @@ func criterionRules(bands study.Criteria, interval string) []string {
 func newAnswerLine(info study.TransformInfo, stem string, v measure.TransformVerdict, why string) answerLine {
 	return answerLine{
 		Name: info.Name, Expr: info.Expr, Anchor: "t-" + stem,
-		Smallest:    dash(formatN(v.SmallestN)),
+		Smallest:    boundsText(v),
 		Status:      statusText(v.Status),
 		StatusClass: string(v.Status),
 		Limiting:    dash(v.Limiting),
@@ -294,7 +294,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		Incomplete: !r.Complete,
 	}
 	for _, c := range measure.Criteria() {
-		d.CriterionNames = append(d.CriterionNames, c.Name)
+		d.CriterionNames = append(d.CriterionNames, c.Column())
 	}
 	dec := measure.GridDecisions(st)
 	d.Criteria = criterionRules(st.Criteria, fmt.Sprintf("interval (z = %.3f)", dec.Z))

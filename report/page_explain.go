@@ -28,10 +28,10 @@ func explain(rows []measure.Row, v measure.TransformVerdict) string {
 			}
 		}
 		if idx <= 0 {
-			return fmt.Sprintf("Adequate from n = %d, the smallest n studied: %s pass at every n of the grid. Smaller samples were not checked.", first.N, criteriaInWords())
+			return fmt.Sprintf("Smallest adequate n = %d, the smallest n studied: %s pass at every n of the grid. Smaller samples were not checked.", first.N, criteriaInWords())
 		}
 		prev := rows[idx-1]
-		s := fmt.Sprintf("Adequate from n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, runVoice.shortfalls(prev))
+		s := fmt.Sprintf("Smallest adequate n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, runVoice.shortfalls(prev))
 		var passedEarlier []string
 		for _, r := range rows[:idx-1] {
 			if r.Verdict == measure.Pass {

@@ -163,13 +163,13 @@ const runPageParts = `{{define "page kind"}}deltaprobe report{{end}}
 {{if .Incomplete}}<p><strong>This run is incomplete: the numbers use only the blocks that finished.</strong></p>
 {{end}}<div class="scroll">
 <table class="verdicts">
-<thead><tr><th scope="col">transform</th><th scope="col">smallest adequate n</th><th scope="col">status</th><th scope="col">limiting</th>{{range .CriterionNames}}<th scope="col">{{.}} alone</th>{{end}}<th scope="col">expression</th></tr></thead>
+<thead><tr><th scope="col">transform</th><th scope="col">smallest_n</th><th scope="col">status</th><th scope="col">limiting</th>{{range .CriterionNames}}<th scope="col">{{.}}</th>{{end}}<th scope="col">expression</th></tr></thead>
 <tbody>
 {{range .Verdicts}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="num">{{.Bounds}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td>{{range .PerCriterion}}<td class="num">{{.}}</td>{{end}}<td class="expr">{{.Expr}}</td></tr>
 {{end}}</tbody>
 </table>
 </div>
-{{template "explanations" .Verdicts}}<p class="note">“Smallest adequate n” is the smallest n of the grid at which all three criteria pass, there and at every larger n: one n where the replicates decided it, otherwise the range of the grid where it lies (a dash when the largest n fails). The last three columns give the same for each criterion alone; a dash means the replicates did not decide it within the grid. A criterion passes at n when its Monte Carlo interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
+{{template "explanations" .Verdicts}}<p class="note"><code>smallest_n</code> is the smallest adequate n: the smallest n of the grid at which all three criteria pass, there and at every larger n; one n where the replicates decided it, otherwise the range of the grid where it lies (a dash when the largest n fails). <code>limiting</code> is the criterion that sets it. The <code>n_</code> columns give the same for each criterion alone; a dash means the replicates did not decide it within the grid. The names are those of <code>verdicts.csv</code>. A criterion passes at n when its Monte Carlo interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
 {{template "bullets" .Criteria}}</section>
 <section id="scope" class="scope">
 <p><strong>What this check does and does not show.</strong> It checks the delta-method approximation only under the model this study states: the family and parameter values below, these sample sizes, this estimator and these transforms. Data that depart from that model – another distribution, other parameter values, dependence, missing values, another estimator – may behave differently. Every number here is a Monte Carlo estimate and carries Monte Carlo error.</p>

@@ -338,13 +338,13 @@ func TestExplain(t *testing.T) {
 			"adequate throughout",
 			[]measure.Row{row(5, covOK, varOK, biasOK), row(10, covOK, varOK, biasOK)},
 			measure.TransformVerdict{SmallestN: 5, Status: measure.Adequate, Limiting: "none"},
-			[]string{"Adequate from n = 5, the smallest n studied", "Smaller samples were not checked"},
+			[]string{"Smallest adequate n = 5, the smallest n studied", "Smaller samples were not checked"},
 		},
 		{
 			"coverage below the band before",
 			[]measure.Row{row(5, covLow, varOK, biasOK), row(10, covLow, varOK, biasOK), row(20, covOK, varOK, biasOK)},
 			measure.TransformVerdict{SmallestN: 20, Status: measure.Adequate, Limiting: "coverage"},
-			[]string{"Adequate from n = 20", "at n = 10 coverage is below its band: 0.905", "interval 0.901 to 0.909", "band 0.925 to 0.975"},
+			[]string{"Smallest adequate n = 20", "at n = 10 coverage is below its band: 0.905", "interval 0.901 to 0.909", "band 0.925 to 0.975"},
 		},
 		{
 			"two criteria hold it back",

@@ -6,6 +6,8 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"unicode"
+	"unicode/utf8"
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
@@ -401,9 +403,9 @@ func planPhrase(v planView, spec study.PlanSpec) string {
 	tv := v.verdict
 	switch tv.Status {
 	case measure.Adequate:
-		s := fmt.Sprintf("Adequate from n = %d", tv.SmallestN)
+		s := fmt.Sprintf("Smallest adequate n = %d", tv.SmallestN)
 		if tv.Limiting != "" && tv.Limiting != "none" {
-			s += "; " + tv.Limiting + " sets it"
+			s += "; limiting: " + tv.Limiting
 		}
 		if v.windowTop > 0 {
 			s += fmt.Sprintf("; window above it n = %d–%d", v.answer+1, v.windowTop)
@@ -444,7 +446,7 @@ func planKey(v planView, p *plan.Result, spec study.PlanSpec) []string {
 	paras := []string{
 		fmt.Sprintf("Each point is one n the search evaluated; its bar is the Monte Carlo interval the decision used, widened for repeated looks. %s. "+
 			"A criterion passes at n when its bar lies inside the grey band, fails when the bar lies wholly outside it, and is unclear otherwise; the marker shows which, by shape as well as colour.",
-			p.Method),
+			capitalized(p.Method)),
 		fmt.Sprintf("The search doubles n from %d until every criterion passes, bisects down to the smallest passing n, then checks the integers just above it%s. "+
 			"%s"+
 			"The bottom row gives the replicates behind each decision, topped by the overall verdict at that n: clear cases stop after one batch of %d, cases near the threshold take up to %d.",
@@ -479,7 +481,7 @@ func planAlt(v planView) string {
 func planPhraseAlt(v planView) string {
 	switch v.verdict.Status {
 	case measure.Adequate:
-		return fmt.Sprintf("Adequate from n = %d.", v.verdict.SmallestN)
+		return fmt.Sprintf("Smallest adequate n = %d.", v.verdict.SmallestN)
 	case measure.NotReached:
 		return "Not adequate within the search range."
 	}
@@ -499,4 +501,10 @@ func undecidedNs(us []measure.UndecidedN) string {
 		return joinInts(ns[:5]) + fmt.Sprintf(" and %d more", len(ns)-5)
 	}
 	return joinInts(ns)
+}
+
+// capitalized is s with its first letter in upper case, to start a sentence.
+func capitalized(s string) string {
+	r, size := utf8.DecodeRuneInString(s)
+	return string(unicode.ToUpper(r)) + s[size:]
 }

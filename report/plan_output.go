@@ -48,7 +48,7 @@ func PlanTable(w io.Writer, p *plan.Result) {
 		evals[st.Transform]++
 	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimiting\tn checked\treplicates\twindow")
+	fmt.Fprintln(tw, "transform\tsmallest_n\tstatus\tlimiting\tn checked\treplicates\twindow")
 	for i, v := range p.Verdicts {
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%d\t+%d\n", clip(v.Transform, 24), boundsText(v), v.Status, dash(v.Limiting),
 			evals[v.Transform], used[v.Transform], p.Window[i])
@@ -56,7 +56,7 @@ func PlanTable(w io.Writer, p *plan.Result) {
 	tw.Flush()
 	fmt.Fprintf(w, "searched n in [%d, %d], at most %d replicates per n in batches of %d\n",
 		p.Spec.NMin, p.Spec.NMax, p.Spec.MaxReplicates, p.Spec.Batch)
-	wrap(w, "", "smallest n: where the smallest adequate n lies, one n where the evaluations decided it, a range where an n below the search's answer stayed undecided. Guarantee: "+p.Method+". A study checks the approximation only under the model it states.")
+	wrap(w, "", "smallest_n: where the smallest adequate n lies, one n where the evaluations decided it, a range where an n below the search's answer stayed undecided. Guarantee: "+p.Method+". A study checks the approximation only under the model it states.")
 	fmt.Fprintf(w, "replicates simulated in all: %d (window: integers above the answer that were also checked)\n", p.Total)
 	for i, v := range p.Verdicts {
 		if len(p.Oscillations[i]) > 0 {

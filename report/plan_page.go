@@ -151,7 +151,7 @@ func planExplain(v planView, spec study.PlanSpec) string {
 	switch tv.Status {
 	case measure.Adequate:
 		a := tv.SmallestN
-		fmt.Fprintf(&b, "Adequate from n = %d: %s all pass there, and no n checked above it fails", a, criteriaInWords())
+		fmt.Fprintf(&b, "Smallest adequate n = %d: %s all pass there, and no n checked above it fails", a, criteriaInWords())
 		if v.windowTop > 0 {
 			fmt.Fprintf(&b, ", the window n = %d–%d included", a+1, v.windowTop)
 		}

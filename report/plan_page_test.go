@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/csv"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -72,9 +73,18 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *pla
 				checked++
 			}
 		}
+		answer := "-"
+		switch {
+		case v.Status == measure.Adequate:
+			answer = strconv.Itoa(v.SmallestN)
+		case v.Low > 0 && v.High > 0:
+			answer = fmt.Sprintf("%d–%d", v.Low, v.High)
+		case v.Low > 0:
+			answer = fmt.Sprintf("%d–", v.Low)
+		}
 		for k, want := range map[int]string{
 			0: tr.Name,
-			1: dash(formatN(v.SmallestN)),
+			1: answer,
 			2: statusText(v.Status),
 			4: strconv.Itoa(checked),
 		} {
@@ -156,7 +166,7 @@ func TestPlanExplain(t *testing.T) {
 				verdict: measure.TransformVerdict{SmallestN: 16, Status: measure.Adequate, Limiting: "coverage"},
 				window:  3, windowTop: 19,
 			},
-			[]string{"Adequate from n = 16", "the window n = 17–19 included", "Not at n = 15, the largest n below it checked: coverage is below its band: 0.905", "interval 0.901 to 0.909; band 0.925 to 0.975"},
+			[]string{"Smallest adequate n = 16", "the window n = 17–19 included", "Not at n = 15, the largest n below it checked: coverage is below its band: 0.905", "interval 0.901 to 0.909; band 0.925 to 0.975"},
 		},
 		{
 			"adequate at the bottom of the range, with undecided n above",
@@ -165,7 +175,7 @@ func TestPlanExplain(t *testing.T) {
 				verdict: measure.TransformVerdict{SmallestN: 5, Status: measure.Adequate, Limiting: "none"},
 				window:  3, windowTop: 8, undecided: []int{6, 8},
 			},
-			[]string{"Adequate from n = 5", "smallest n searched", "2 n above it stayed undecided within 20000 replicates (6, 8)"},
+			[]string{"Smallest adequate n = 5", "smallest n searched", "2 n above it stayed undecided within 20000 replicates (6, 8)"},
 		},
 		{
 			"oscillation",
@@ -174,7 +184,7 @@ func TestPlanExplain(t *testing.T) {
 				verdict: measure.TransformVerdict{SmallestN: 21, Status: measure.Adequate, Limiting: "coverage"},
 				window:  3, windowTop: 24, oscill: []int{20},
 			},
-			[]string{"Adequate from n = 21", "Not at n = 20", "not monotone in n: n = 20 failed above an earlier passing n"},
+			[]string{"Smallest adequate n = 21", "Not at n = 20", "not monotone in n: n = 20 failed above an earlier passing n"},
 		},
 		{
 			"not reached",

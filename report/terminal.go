@@ -12,19 +12,19 @@ import (
 	"deltaprobe/sim/runner"
 )
 
-// VerdictTable prints, per transform, the answer and why, in under 80
-// columns, followed by the warnings.
+// VerdictTable prints, per transform, the answer and why, under the
+// names verdicts.csv gives them, followed by the warnings.
 func VerdictTable(w io.Writer, r *runner.Result) {
 	rows := measure.Summarize(r)
 	vs := measure.Verdicts(rows)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	var shorts []string
+	var columns []string
 	for _, c := range measure.Criteria() {
-		shorts = append(shorts, c.Short)
+		columns = append(columns, c.Column())
 	}
-	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimiting\t"+strings.Join(shorts, "\t"))
+	fmt.Fprintln(tw, "transform\tsmallest_n\tstatus\tlimiting\t"+strings.Join(columns, "\t"))
 	for _, v := range vs {
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s", clip(v.Transform, 22), boundsText(v), v.Status, v.Limiting)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s", clip(v.Transform, 16), boundsText(v), v.Status, v.Limiting)
 		for _, n := range v.PerCriterion {
 			fmt.Fprintf(tw, "\t%s", dash(formatN(n)))
 		}
@@ -34,8 +34,8 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	if note := armSizesNote(r.Study, exampleN(r.Study, firstSmallest(vs))); note != "" {
 		wrap(w, "", note)
 	}
-	wrap(w, "", fmt.Sprintf("smallest n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
-		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
+	wrap(w, "", fmt.Sprintf("smallest_n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
+		strings.Join(columns, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
 	for _, v := range vs {
 		if len(v.Undecided) > 0 {
 			wrap(w, "  ", v.Transform+": "+undecidedText(v.Undecided, r.Study.Replicates))

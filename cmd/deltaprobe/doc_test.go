@@ -66,7 +66,7 @@ func TestExampleStudiesRun(t *testing.T) {
 			if code != exitOK {
 				t.Fatalf("exit %d: %s", code, stderr)
 			}
-			if !strings.Contains(stdout, "smallest n") {
+			if !strings.Contains(stdout, "smallest_n") {
 				t.Errorf("no verdict table: %q", stdout)
 			}
 		})

@@ -18,7 +18,6 @@ type Criterion struct {
 	Title   string // a short panel title for figures
 	Heading string // a longer title that says what is plotted
 	Axis    string // the axis label of the measure
-	Short   string // a column heading of a few letters, for the terminal
 	Noun    string // the measure in a sentence: "the variance ratio"
 	// Rule says when the criterion passes, for the pages: {interval}
 	// stands for the kind of interval, {band} for the band.
@@ -52,6 +51,10 @@ func defineCriterion(c Criterion) *Criterion {
 
 // Criteria returns every criterion, in table order.
 func Criteria() []*Criterion { return criteria }
+
+// Column is the name of the criterion's own smallest adequate n, the
+// same in verdicts.csv, the terminal and the pages: n_NAME.
+func (c *Criterion) Column() string { return "n_" + c.Name }
 
 // Index is the criterion's place in the table, and in Row.Checks.
 func (c *Criterion) Index() int { return c.index }

@@ -131,7 +131,7 @@ var (
 	// CoverageCheck: the Wald interval's coverage, its Monte Carlo
 	// interval the Wilson (1927) score interval.
 	CoverageCheck = defineCriterion(Criterion{
-		Name: "coverage", Title: "Coverage", Short: "cov.", Noun: "coverage",
+		Name: "coverage", Title: "Coverage", Noun: "coverage",
 		Heading: "Coverage of the Wald interval", Axis: "coverage",
 		Ideal: func(level float64) float64 { return level }, Nominal: true,
 		Measure: Coverage, MCSE: CoverageMCSE,
@@ -147,7 +147,7 @@ var (
 	// VarianceCheck: delta_var / emp_var. delta_var at the truth is exact,
 	// so the interval is emp_var's normal interval, inverted.
 	VarianceCheck = defineCriterion(Criterion{
-		Name: "variance", Title: "Variance ratio", Short: "var.", Noun: "the variance ratio",
+		Name: "variance", Title: "Variance ratio", Noun: "the variance ratio",
 		Heading: "Variance ratio, delta method / simulated", Axis: "variance ratio", Ratio: true,
 		Ideal:   func(float64) float64 { return 1 },
 		Measure: VarRatio, MCSE: VarRatioMCSE,
@@ -170,7 +170,7 @@ var (
 	})
 	// BiasCheck: |bias| / √delta_var, its interval std_bias ± z·MCSE.
 	BiasCheck = defineCriterion(Criterion{
-		Name: "bias", Title: "Bias", Short: "bias", Noun: "the standardised bias",
+		Name: "bias", Title: "Bias", Noun: "the standardised bias",
 		Heading: "Bias, in delta-method standard deviations", Axis: "bias / delta sd",
 		Ideal:   func(float64) float64 { return 0 },
 		Measure: StdBias, MCSE: StdBiasMCSE,
