@@ -825,7 +825,7 @@ func (d *decoder) plan(raw map[string]any) *PlanSpec {
 	}
 	if c, ok := d.number(m, "plan", "confidence"); ok {
 		if !(c >= 0.5 && c < 1) {
-			d.fail("plan.confidence", "confidence = %v is out of range: the confidence of each decision must be at least 0.5 and below 1, e.g. 0.95", c)
+			d.fail("plan.confidence", "confidence = %v is out of range: the confidence of each decision must be at least 0.5 and below 1, e.g. 0.99 (leave it out and each decision's confidence follows from [criteria] confidence)", c)
 			good = false
 		} else {
 			p.Confidence = c
