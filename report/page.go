@@ -125,6 +125,7 @@ var summaryGroups = []struct {
 	{"Estimate and bias", measure.Estimate, true},
 	{"Variance", measure.Variance, false},
 	{"Intervals and shape", measure.Intervals, true},
+	{"Test of the null", measure.Tests, true}, // only when a transform has a null
 }
 
 // groupColumns lists a page table's columns: the transform and n, the
@@ -233,7 +234,7 @@ func replicatesText(st study.Info) string {
 // the interval that decides it as interval.
 func criterionRules(bands study.Criteria, interval string) []string {
 	var out []string
-	for _, c := range measure.Criteria() {
+	for _, c := range measure.Deciding(bands) {
 		b := c.Band(bands)
 		band := fmtG(b[0]) + "–" + fmtG(b[1])
 		if b[0] == -b[1] {
@@ -293,7 +294,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		Tables:     summaryTables(rows),
 		Incomplete: !r.Complete,
 	}
-	for _, c := range measure.Criteria() {
+	for _, c := range measure.Deciding(st.Criteria) {
 		d.CriterionNames = append(d.CriterionNames, c.Name)
 	}
 	dec := measure.GridDecisions(st)
@@ -383,7 +384,14 @@ func describeModel(arms []study.ArmInfo) string {
 
 func summaryTables(rows []measure.Row) []summaryTable {
 	var out []summaryTable
+	tested := false
+	for _, r := range rows {
+		tested = tested || !math.IsNaN(r.Get(measure.Null))
+	}
 	for _, g := range summaryGroups {
+		if g.group == measure.Tests && !tested {
+			continue
+		}
 		cols := groupColumns(g.group, g.verdict)
 		tb := summaryTable{Caption: g.caption, Columns: cols}
 		for _, r := range rows {

@@ -303,7 +303,7 @@ func planFigure(p *plan.Result, v planView, enc encodeFunc) ([]byte, int, int, e
 	if v.windowTop > 0 {
 		logAxis.winLo, logAxis.winHi = float64(a)+0.5, float64(v.windowTop)+0.5
 	}
-	criteria := measure.Criteria()
+	criteria := measure.Deciding(s.Criteria)
 	cols := []planAxis{logAxis}
 	if zoom {
 		za := planAxis{xmin: float64(zlo) - 0.6, xmax: float64(zhi) + 0.6, ticks: zoomTicks{answer: a}, answer: a,

@@ -122,10 +122,11 @@ func planCaption(v planView) string {
 // planStepsTable is plan.csv for reading: every column, to four
 // significant digits (the file has eight).
 func planStepsTable(p *plan.Result) summaryTable {
-	tb := summaryTable{Caption: "Every evaluation, per transform, in the order the search made them", Columns: PlanColumns}
+	cols := PlanColumns(p.Study.Criteria)
+	tb := summaryTable{Caption: "Every evaluation, per transform, in the order the search made them", Columns: cols}
 	for _, st := range p.Steps {
-		cells := make([]summaryCell, len(PlanColumns))
-		for i, col := range PlanColumns {
+		cells := make([]summaryCell, len(cols))
+		for i, col := range cols {
 			cells[i] = planCellFor(st, col)
 		}
 		tb.Rows = append(tb.Rows, cells)
@@ -151,7 +152,7 @@ func planExplain(v planView, spec study.PlanSpec) string {
 	switch tv.Status {
 	case measure.Adequate:
 		a := tv.SmallestN
-		fmt.Fprintf(&b, "Adequate from n = %d: %s all pass there, and no n checked above it fails", a, criteriaInWords())
+		fmt.Fprintf(&b, "Adequate from n = %d: %s all pass there, and no n checked above it fails", a, criteriaInWords(v.steps[0].Row))
 		if v.windowTop > 0 {
 			fmt.Fprintf(&b, ", the window n = %d–%d included", a+1, v.windowTop)
 		}

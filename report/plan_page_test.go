@@ -96,8 +96,8 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *pla
 	for _, th := range evals[0].find(named("th")) {
 		headers = append(headers, th.text.String())
 	}
-	if strings.Join(headers, ",") != strings.Join(PlanColumns, ",") {
-		t.Errorf("evaluation table columns %q, want plan.csv's %q", headers, PlanColumns)
+	if cols := PlanColumns(study.DefaultCriteria(0.95)); strings.Join(headers, ",") != strings.Join(cols, ",") {
+		t.Errorf("evaluation table columns %q, want plan.csv's %q", headers, cols)
 	}
 	if n := len(evals[0].find(named("tr"))) - 1; n != len(p.Steps) {
 		t.Errorf("evaluation table has %d rows for %d steps", n, len(p.Steps))

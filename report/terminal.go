@@ -18,15 +18,17 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	rows := measure.Summarize(r)
 	vs := measure.Verdicts(rows)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	// The columns are the deciding criteria; verdicts.csv has every one.
+	deciding := measure.Deciding(r.Study.Criteria)
 	var shorts []string
-	for _, c := range measure.Criteria() {
+	for _, c := range deciding {
 		shorts = append(shorts, c.Short)
 	}
 	fmt.Fprintln(tw, "transform\tsmallest n\tstatus\tlimiting\t"+strings.Join(shorts, "\t"))
 	for _, v := range vs {
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s", clip(v.Transform, 22), boundsText(v), v.Status, v.Limiting)
-		for _, n := range v.PerCriterion {
-			fmt.Fprintf(tw, "\t%s", dash(formatN(n)))
+		for _, c := range deciding {
+			fmt.Fprintf(tw, "\t%s", dash(formatN(v.PerCriterion[c.Index()])))
 		}
 		fmt.Fprintln(tw)
 	}

@@ -27,7 +27,7 @@ func GridDecisions(info study.Info) Decisions {
 	if conf == 0 {
 		conf = study.DefaultConfidence
 	}
-	k := max(len(info.SampleSizes)*len(criteria), 1)
+	k := max(len(info.SampleSizes)*len(Deciding(info.Criteria)), 1)
 	alpha := (1 - conf) / float64(k)
 	return Decisions{Confidence: conf, Count: k, Z: normalQuantile(1 - alpha/2)}
 }
@@ -36,6 +36,17 @@ func GridDecisions(info study.Info) Decisions {
 func (d Decisions) Method() string {
 	return fmt.Sprintf("each answer holds with family-wise confidence %s: Bonferroni over its %d decisions (sample sizes × criteria), each from a Monte Carlo interval at z = %.3f",
 		trimFloat(d.Confidence), d.Count, d.Z)
+}
+
+// Deciding lists the criteria that decide under c, in table order.
+func Deciding(c study.Criteria) []*Criterion {
+	var out []*Criterion
+	for _, cr := range criteria {
+		if c.Decides(cr.Key) {
+			out = append(out, cr)
+		}
+	}
+	return out
 }
 
 func normalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }
