@@ -10,6 +10,7 @@ import (
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // VerdictTable prints, per transform, the answer and why, in under 80
@@ -153,16 +154,43 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	if st.PerArm() {
 		head += "\tN"
 	}
-	fmt.Fprintln(tw, head+"\ttruth\tdelta_var\tdelta_sd\tbias_2nd")
+	tested := false // a transform has a null: the table predicts its test
+	for _, info := range st.Transforms {
+		tested = tested || info.Null != nil
+	}
+	head += "\ttruth\tdelta_var\tdelta_sd\tbias_2nd\twidth_delta"
+	if tested {
+		head += "\tnull\treject_delta"
+	}
+	fmt.Fprintln(tw, head)
 	for t, info := range st.Transforms {
 		for ni, n := range st.SampleSizes {
 			p := r.Predictions[t][ni]
-			fmt.Fprintf(tw, "%s\t%d%s\t%s\t%s\t%s\t%s\n", clip(info.Name, 24), n, total(n), formatFloat(p.Truth), formatFloat(p.DeltaVar),
-				formatFloat(math.Sqrt(p.DeltaVar)), formatFloat(p.Bias2nd))
+			q, sd := st.Quantile(n), math.Sqrt(p.DeltaVar)
+			fmt.Fprintf(tw, "%s\t%d%s\t%s\t%s\t%s\t%s\t%s", clip(info.Name, 24), n, total(n), formatFloat(p.Truth), formatFloat(p.DeltaVar),
+				formatFloat(sd), formatFloat(p.Bias2nd), formatFloat(2*q*sd))
+			switch {
+			case info.Null != nil:
+				fmt.Fprintf(tw, "\t%s\t%s", formatFloat(*info.Null), formatFloat(measure.RejectRate(q, (p.Truth-*info.Null)/sd)))
+			case tested:
+				fmt.Fprint(tw, "\t–\t–")
+			}
+			fmt.Fprintln(tw)
 		}
 	}
 	tw.Flush()
 	if note := armSizesNote(st, exampleN(st, 0)); note != "" {
 		wrap(w, "", note+" N: the total at each n.")
 	}
+	wrap(w, "", "width_delta: the width 2·q·delta_sd the delta method predicts for the interval, q "+quantileWords(st)+"."+
+		map[bool]string{true: " reject_delta: the rate at which that interval excludes the null when the transform is at its truth, Φ(−q − δ) + 1 − Φ(q − δ) with δ = (truth − null)/delta_sd.", false: ""}[tested])
+}
+
+// quantileWords names the interval's quantile: "the normal quantile
+// 1.96", or Student's t with its df expression.
+func quantileWords(st study.Info) string {
+	if st.Interval != nil && st.Interval.Quantile == study.QuantileT {
+		return fmt.Sprintf("the %v quantile of Student's t with %s degrees of freedom", 1-(1-st.Level)/2, st.Interval.DF)
+	}
+	return fmt.Sprintf("the normal quantile %s", formatFloat(st.Quantile(0)))
 }
