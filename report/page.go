@@ -27,15 +27,18 @@ const PageFile = "index.html"
 // section of figures per transform, the study file as run and the
 // provenance.
 type studyPage struct {
-	Title       string
-	Description string
-	Glance      []keyValue
-	Criteria    []string
-	Sections    []transformSection
-	Source      string
-	SourceName  string
-	AsRun       []keyValue // the values the run used that a flag can set
-	Provenance  []keyValue
+	// AllCriteria and LastColumns count the deciding criteria in words
+	// ("all three criteria pass", "The last three columns give").
+	AllCriteria, LastColumns string
+	Title                    string
+	Description              string
+	Glance                   []keyValue
+	Criteria                 []string
+	Sections                 []transformSection
+	Source                   string
+	SourceName               string
+	AsRun                    []keyValue // the values the run used that a flag can set
+	Provenance               []keyValue
 }
 
 // pageData is what the run's page shows.
@@ -182,7 +185,8 @@ func newStudyPage(st study.Info, tool string, build runner.Build, replicates boo
 		p.Title = st.File
 	}
 	p.Glance = append([]keyValue{{"Model", describeModel(st.Arms)}}, glance...)
-	p.Glance = append(p.Glance, keyValue{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(st.Level))})
+	p.Glance = append(p.Glance, keyValue{"Intervals", intervalGlance(st)})
+	p.AllCriteria, p.LastColumns = decidingWords(len(measure.Deciding(st.Criteria)))
 	p.AsRun = []keyValue{{"Seed", seedText(st)}}
 	if replicates {
 		p.AsRun = append(p.AsRun, keyValue{"Replicates", replicatesText(st)})
@@ -310,8 +314,8 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		trows := rows[t*nn : (t+1)*nn]
 		line := verdictLine{answerLine: newAnswerLine(info, stems[t], v, explain(trows, v))}
 		line.Bounds = boundsText(v)
-		for _, n := range v.PerCriterion {
-			line.PerCriterion = append(line.PerCriterion, dash(formatN(n)))
+		for _, c := range measure.Deciding(st.Criteria) {
+			line.PerCriterion = append(line.PerCriterion, dash(formatN(v.PerCriterion[c.Index()])))
 		}
 		d.Verdicts = append(d.Verdicts, line)
 		d.addSection(line.answerLine, t, figs, func(f Figure) string { return figureCaption(f.Kind) })

@@ -22,14 +22,14 @@ td.list { overflow-wrap: anywhere; min-width: 5rem; }
 </table>
 </div>
 {{template "explanations" .Answers}}<p class="method">Each decision holds its confidence however many batches it took: {{.Method}}.</p>
-<p class="note">“Smallest adequate n” is the smallest n at which all three criteria pass, with no n checked above it failing, the window above it included. “Replicates used” adds up the replicates behind each decision for that transform; transforms share the replicates simulated at an n, so these do not add up to the plan’s total. “Oscillations” lists n that failed above an earlier passing n, which sent the search higher; “undecided n above” lists n above the answer that neither passed nor failed within the replicates allowed. A criterion passes at n when its interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
+<p class="note">“Smallest adequate n” is the smallest n at which {{.AllCriteria}}, with no n checked above it failing, the window above it included. “Replicates used” adds up the replicates behind each decision for that transform; transforms share the replicates simulated at an n, so these do not add up to the plan’s total. “Oscillations” lists n that failed above an earlier passing n, which sent the search higher; “undecided n above” lists n above the answer that neither passed nor failed within the replicates allowed. A criterion passes at n when its interval lies inside its band, fails when the interval lies wholly outside, and is unclear otherwise. The bands of this study:</p>
 {{template "bullets" .Criteria}}</section>
 <section id="scope" class="scope">
 <p><strong>What this search does and does not show.</strong> It checks the delta-method approximation only under the model this study states: the family and parameter values below, the sample sizes searched, this estimator and these transforms. Data that depart from that model – another distribution, other parameter values, dependence, missing values, another estimator – may behave differently. Every number here is a Monte Carlo estimate and carries Monte Carlo error, and the answer vouches only for the n that were checked.</p>
 {{template "caution"}}</section>
 <section id="search">
 <h2>The search</h2>
-{{template "key values" .Glance}}<p class="note">For each transform the search doubles n from the bottom of the range until all three criteria pass, bisects on whole numbers between the last n that did not pass and the first that did, and then checks the window of integers just above the answer. Coverage of discrete data oscillates in n, so a pass at one n does not vouch for the next; a failure found above the answer starts the search again above it.</p>
+{{template "key values" .Glance}}<p class="note">For each transform the search doubles n from the bottom of the range until {{.AllCriteria}}, bisects on whole numbers between the last n that did not pass and the first that did, and then checks the window of integers just above the answer. Coverage of discrete data oscillates in n, so a pass at one n does not vouch for the next; a failure found above the answer starts the search again above it.</p>
 </section>
 <section id="notes">
 <h2>Notes</h2>
