@@ -255,3 +255,40 @@ null = %v
 		}
 	}
 }
+
+// The plug-in ratio of a normal mean: the plug-in variance is σ̂²/n with
+// σ̂² = SS/n, so E plugin_var = σ²(n − 1)/n² against Var x̄ = σ²/n, and the
+// true ratio is (n − 1)/n (derived: SS/σ² ~ χ²(n − 1)). Its Monte Carlo
+// error combines emp_var's, relative sd √(2/(R − 1)) (normal data), and
+// the mean plug-in's, relative sd √(2/((n − 1)R)); x̄ and σ̂ are
+// independent (derived, normal theory), so the two add in quadrature. The
+// criterion's interval, which takes plugin_var as known, must hold the
+// true ratio at every n at the 4-MCSE quantile.
+func TestExactPluginRatio(t *testing.T) {
+	const replicates = 40 * study.BlockSize
+	rows := exactRun(t, fmt.Sprintf(`seed = 5150
+replicates = %d
+sample_sizes = [5, 10, 40]
+[model]
+family = "normal"
+mean = 2
+sd = 3
+[[transform]]
+name = "mean"
+expr = "mean"
+[criteria]
+decide = ["plugin_ratio"]
+`, replicates))
+	for _, n := range []int{5, 10, 40} {
+		row := exactRow(t, rows, "mean", n)
+		fn, R := float64(n), float64(replicates)
+		want := (fn - 1) / fn
+		mcse := want * math.Sqrt(2/(R-1)+2/((fn-1)*R))
+		label := fmt.Sprintf("plugin_ratio n=%d", n)
+		exactCheckValue(t, label, row.Get(measure.PluginRatio), want, mcse, row.Get(measure.PluginRatioMCSE), "derived: E σ̂² = σ²(n − 1)/n")
+		lo, hi := measure.PluginCheck.Interval(&measure.Cell{PluginVar: row.Get(measure.PluginVar)}, &row, exactTolMCSE)
+		if !(lo <= want && want <= hi) {
+			t.Errorf("%s: the criterion's interval [%v, %v] at z = 4 misses the true ratio %v", label, lo, hi, want)
+		}
+	}
+}
