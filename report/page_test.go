@@ -404,3 +404,37 @@ func TestFmt3(t *testing.T) {
 		}
 	}
 }
+
+// A study that states its interval and a test: the page says the recipe
+// in words, shows the test's table, and its verdict table has a column
+// for each deciding criterion only (coverage and power here).
+func TestPageStatesTheRecipe(t *testing.T) {
+	r := storedRun(t, "run-tested")
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	page, err := os.ReadFile(filepath.Join(dir, PageFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	doc := parsePage(t, page)
+	body := strings.Join(strings.Fields(doc.text.String()), " ")
+	for _, must := range []string{
+		"z: t quantile with n − 1 df, standard error 1 / √(n − 3); test of H0: z = 0",
+		"Test of the null",
+		"both deciding criteria pass",
+		"The last two columns give",
+	} {
+		if !strings.Contains(body, must) {
+			t.Errorf("page does not say %q", must)
+		}
+	}
+	var heads []string
+	for _, th := range doc.find(hasClass("table", "verdicts"))[0].find(named("th")) {
+		heads = append(heads, th.text.String())
+	}
+	if want := []string{"transform", "smallest adequate n", "status", "limiting", "coverage alone", "power alone", "expression"}; !slices.Equal(heads, want) {
+		t.Errorf("verdict table columns %q, want %q", heads, want)
+	}
+}
