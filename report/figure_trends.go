@@ -495,6 +495,10 @@ func fmtBand(b [2]float64) string { return fmtG(b[0]) + "–" + fmtG(b[1]) }
 
 func trendsAlt(r *runner.Result, t int, v measure.TransformVerdict) string {
 	info := r.Study.Transforms[t]
+	if info.Null != nil {
+		return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, rejection rate of the test of %s = %s against the delta method's prediction, standardised bias, one-sided miss rates and KS distance, each with its accepted band or target. %s",
+			info.Name, info.Name, fmtG(*info.Null), verdictPhrase(v))
+	}
 	return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, standardised bias, one-sided miss rates and KS distance, each with its accepted band. %s",
 		info.Name, verdictPhrase(v))
 }
