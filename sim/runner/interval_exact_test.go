@@ -292,3 +292,63 @@ decide = ["plugin_ratio"]
 		}
 	}
 }
+
+// Two Bernoulli arms with zero_cells = "add_half": when either arm's
+// count is 0 or all its trials, both arms get 0.5 added to successes and
+// failures (Haldane 1956; Anscombe 1956), so the log odds ratio is
+// logit p̃₂ − logit p̃₁ with variance Σ 1/(mᵢ p̃ᵢ(1 − p̃ᵢ)), mᵢ = nᵢ + 1 when
+// corrected (nᵢ otherwise). Its coverage is the double sum over
+// K₁ ~ Binom(n, p₁) and K₂ ~ Binom(n, p₂) of the product of their pmfs
+// (gonum distuv.Binomial) times 1[covers].
+func TestExactTwoArmAddHalf(t *testing.T) {
+	const p1, p2, level = 0.05, 0.15, 0.95
+	const replicates = 40 * study.BlockSize
+	rows := exactRun(t, fmt.Sprintf(`seed = 1956
+replicates = %d
+sample_sizes = [15, 40]
+[[arm]]
+name = "a"
+family = "bernoulli"
+p = %v
+[[arm]]
+name = "b"
+family = "bernoulli"
+p = %v
+[interval]
+zero_cells = "add_half"
+[[transform]]
+name = "lor"
+expr = "logit(b.p) - logit(a.p)"
+`, replicates, p1, p2))
+	z := exactZ(level)
+	truth := math.Log(p2/(1-p2)) - math.Log(p1/(1-p1))
+	for _, n := range []int{15, 40} {
+		B1, B2 := distuv.Binomial{N: float64(n), P: p1}, distuv.Binomial{N: float64(n), P: p2}
+		var cover float64
+		for k1 := 0; k1 <= n; k1++ {
+			for k2 := 0; k2 <= n; k2++ {
+				fix := k1 == 0 || k1 == n || k2 == 0 || k2 == n
+				est := func(k int) (float64, float64) {
+					if fix {
+						return (float64(k) + 0.5) / float64(n+1), float64(n + 1)
+					}
+					return float64(k) / float64(n), float64(n)
+				}
+				q1, m1 := est(k1)
+				q2, m2 := est(k2)
+				v := math.Log(q2/(1-q2)) - math.Log(q1/(1-q1))
+				se := math.Sqrt(1/(m1*q1*(1-q1)) + 1/(m2*q2*(1-q2)))
+				if c, _, _ := exactWald(v, se, z, truth); c {
+					cover += B1.Prob(float64(k1)) * B2.Prob(float64(k2))
+				}
+			}
+		}
+		row := exactRow(t, rows, "lor", n)
+		label := fmt.Sprintf("two-arm add_half n=%d", n)
+		if u := row.Count(measure.Undefined); u != 0 {
+			t.Errorf("%s: %d undefined replicates", label, u)
+		}
+		exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), cover,
+			"Σ_{k₁,k₂} Binom(k₁)·Binom(k₂)·1[covers], gonum distuv.Binomial; Haldane 1956")
+	}
+}
