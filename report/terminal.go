@@ -39,6 +39,11 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	}
 	wrap(w, "", fmt.Sprintf("smallest n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
 		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
+	if customRecipe(r.Study) {
+		for t, tr := range r.Study.Transforms {
+			wrap(w, "  ", tr.Name+": "+recipeWords(r.Study, t)+".")
+		}
+	}
 	for _, v := range vs {
 		if len(v.Undecided) > 0 {
 			wrap(w, "  ", v.Transform+": "+undecidedText(v.Undecided, r.Study.Replicates))
