@@ -1,6 +1,8 @@
 package runner
 
 import (
+	"encoding/json"
+	"math"
 	"testing"
 
 	"deltaprobe/sim/study/studytest"
@@ -61,5 +63,27 @@ func BenchmarkReplicateInterval(b *testing.B) {
 	b.ReportAllocs()
 	for b.Loop() {
 		w.replicate()
+	}
+}
+
+// A block record keeps its mean width as an eighth field; a 7-field
+// record, written before the width was kept, reads with an unknown (NaN)
+// width rather than a false 0, and the rest as before.
+func TestBlockRecordWidth(t *testing.T) {
+	b := BlockStat{Block: 3, N: 1000, Mean: 1.5, M2: 2, M3: 0.1, M4: 9, PluginVar: 0.25, Width: 0.75}
+	raw, err := json.Marshal(b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var back BlockStat
+	if err := json.Unmarshal(raw, &back); err != nil || back != b {
+		t.Errorf("round trip of %s: %+v, %v", raw, back, err)
+	}
+	var old BlockStat
+	if err := json.Unmarshal([]byte(`[3,1000,1.5,2,0.1,9,0.25]`), &old); err != nil {
+		t.Fatal(err)
+	}
+	if !math.IsNaN(old.Width) || old.PluginVar != 0.25 || old.N != 1000 {
+		t.Errorf("7-field record read as %+v", old)
 	}
 }

@@ -168,7 +168,8 @@ func (b BlockStat) MarshalJSON() ([]byte, error) {
 }
 
 // UnmarshalJSON reads the form written by MarshalJSON, and the 7-field
-// form written before the width was kept (its width reads as 0).
+// form written before the width was kept, whose width is unknown (NaN,
+// an empty width column).
 func (b *BlockStat) UnmarshalJSON(data []byte) error {
 	var parts []json.RawMessage
 	if err := json.Unmarshal(data, &parts); err != nil {
@@ -176,6 +177,9 @@ func (b *BlockStat) UnmarshalJSON(data []byte) error {
 	}
 	if len(parts) != 7 && len(parts) != 8 {
 		return fmt.Errorf("block record has %d fields, want 8", len(parts))
+	}
+	if len(parts) == 7 {
+		b.Width = math.NaN()
 	}
 	if err := json.Unmarshal(parts[0], &b.Block); err != nil {
 		return fmt.Errorf("block index: %w", err)
