@@ -71,6 +71,9 @@ func PlanTable(w io.Writer, p *plan.Result) {
 			fmt.Fprintf(w, "  %s: %d n above the answer stayed undecided within the budget (they neither passed nor failed)\n",
 				v.Transform, len(p.Undecided[i]))
 		}
+		if n, ok := p.DeltaPowerN[v.Transform]; ok {
+			fmt.Fprintf(w, "  %s: %s\n", v.Transform, deltaPowerWords(p, n))
+		}
 	}
 	if p.Exhausted {
 		fmt.Fprintln(w, "  the -budget cap was reached: decisions marked unclear could not be made within it")

@@ -88,4 +88,20 @@ power = 0.8
 	if v.Limiting != "power" {
 		t.Errorf("limiting %q, want power", v.Limiting)
 	}
+	// The delta method's own answer: the smallest n whose predicted rate
+	// Φ(−q − δ) + 1 − Φ(q − δ), δ = √n·d, q the t(n − 1) quantile, reaches
+	// 0.8, found by a plain scan with gonum's distributions.
+	formula := 0
+	for n := 8; n <= 200; n++ {
+		q := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(n - 1)}.Quantile(0.975)
+		delta := math.Sqrt(float64(n)) * d
+		if distuv.UnitNormal.CDF(-q-delta)+1-distuv.UnitNormal.CDF(q-delta) >= 0.8 {
+			formula = n
+			break
+		}
+	}
+	if got := p.DeltaPowerN["mean"]; got != formula {
+		t.Errorf("delta-method power n %d, want %d", got, formula)
+	}
+	t.Logf("the delta method's formula says n = %d", formula)
 }
