@@ -39,6 +39,7 @@ var planCases = []planCase{
 	{"not reached", "plan-not-reached"},
 	{"binary arms", "plan-binary-arms"},
 	{"budget exhausted", "plan-budget"},
+	{"power decides", "plan-power"},
 }
 
 // once holds what a test binary computes once per key.

@@ -41,6 +41,7 @@ var storedPlans = []struct {
 	{"plan-not-reached", 0},
 	{"plan-binary-arms", 0},
 	{"plan-budget", 15000},
+	{"plan-power", 0},
 }
 
 // maxStoredSize bounds each stored file: they are test data, and fewer
