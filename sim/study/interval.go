@@ -152,7 +152,9 @@ func (d *decoder) interval(raw map[string]any, s *Study) {
 		good = false
 	case hasDF:
 		iv.DF = d.str(m, "interval", "df", "")
-		if iv.DF == "" {
+		if _, isStr := m["df"].(string); !isStr {
+			good = false // d.str said so
+		} else if iv.DF == "" {
 			d.fail("interval.df", "df is empty: give the degrees of freedom as an expression of n, e.g. df = \"n - 1\"")
 			good = false
 		}
@@ -216,6 +218,9 @@ func (d *decoder) transformTest(table string, m map[string]any, s *Study, t *Tra
 		return ok
 	}
 	src := d.str(m, table, "se", "")
+	if _, isStr := m["se"].(string); !isStr {
+		return false // d.str said so
+	}
 	if src == "" {
 		d.fail(join(table, "se"), "transform %q: se is empty: give the analyst's standard error as an expression of the parameters and n, e.g. se = \"1 / sqrt(n - 3)\"", t.Name)
 		return false
