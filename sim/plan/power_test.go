@@ -5,7 +5,6 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
-
 )
 
 // exactTPower is the power of the two-sided one-sample t test at level
