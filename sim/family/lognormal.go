@@ -17,6 +17,10 @@ func init() {
 			{Name: "sdlog", Accepts: "a number > 0", Check: positive},
 		},
 		Estimates: []string{"meanlog", "sdlog"},
+		Support:   Positive,
+		law: func(v map[string]float64) (law, error) {
+			return &lognormalLaw{v["meanlog"], v["sdlog"]}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			return newNormalModel(v["meanlog"], v["sdlog"]), nil
 		},

@@ -302,6 +302,7 @@ type worker struct {
 	evals   []*expr.Evaluator
 	accs    []cellAcc
 	useArm  [][]bool // [transform][arm]: whether the transform reads the arm
+	failed  []bool   // per arm: its fit failed in this replicate
 	rep     int      // replicate within the block, for panic reports
 	stage   int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
 	_       [pad]byte
@@ -353,6 +354,7 @@ func newWorker(s *study.Study, res *Result) *worker {
 		buf = buf[k*k:]
 	}
 	w.samples = padded[family.Sample](len(s.Arms))
+	w.failed = padded[bool](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
 		buf = buf[l:]
@@ -427,7 +429,7 @@ func (w *worker) runBlock(j job) {
 // replicate draws every arm, fits it, and scores every transform.
 func (w *worker) replicate() {
 	s := w.s
-	fitted := true
+	anyFailed := false
 	// Arms by pointer: an Arm is several words, and this runs per replicate.
 	for a := range s.Arms {
 		arm := &s.Arms[a]
@@ -435,21 +437,22 @@ func (w *worker) replicate() {
 		sample := &w.samples[a]
 		arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
 		off := arm.Offset
-		if !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a]) {
-			fitted = false
-		}
+		w.failed[a] = !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
+		anyFailed = anyFailed || w.failed[a]
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
-		if !fitted {
+		use := w.useArm[t]
+		if anyFailed && w.readsFailed(use) {
+			// A transform is undefined when an arm it reads has no fit;
+			// arms it does not read leave it alone.
 			acc.Undefined++
 			acc.FitFailures++
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
 		var pv float64
-		use := w.useArm[t]
 		for a := range s.Arms {
 			if !use[a] {
 				continue
@@ -459,6 +462,17 @@ func (w *worker) replicate() {
 		}
 		acc.add(v, pv, w.z)
 	}
+}
+
+// readsFailed reports whether a transform reading the arms in use reads
+// one whose fit failed in this replicate.
+func (w *worker) readsFailed(use []bool) bool {
+	for a, f := range w.failed {
+		if f && use[a] {
+			return true
+		}
+	}
+	return false
 }
 
 // add scores one replicate's estimate v and plug-in variance pv.
