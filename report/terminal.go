@@ -34,6 +34,9 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	if note := armSizesNote(r.Study, exampleN(r.Study, firstSmallest(vs))); note != "" {
 		wrap(w, "", note)
 	}
+	if note := fitNote(r.Study); note != "" {
+		wrap(w, "", note)
+	}
 	wrap(w, "", fmt.Sprintf("smallest n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
 		strings.Join(shorts, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
 	for _, v := range vs {
@@ -163,4 +166,23 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	if note := armSizesNote(st, exampleN(st, 0)); note != "" {
 		wrap(w, "", note+" N: the total at each n.")
 	}
+	if note := fitNote(st); note != "" {
+		wrap(w, "", note)
+	}
+	if biasNotAvailable(r) {
+		wrap(w, "", "bias_2nd empty: not available, the O(1/n) bias of an estimate the transform reads is not derived for this fit.")
+	}
+}
+
+// biasNotAvailable reports whether any prediction's second-order bias is
+// not available (NaN).
+func biasNotAvailable(r *runner.Result) bool {
+	for _, ps := range r.Predictions {
+		for _, p := range ps {
+			if math.IsNaN(p.Bias2nd) {
+				return true
+			}
+		}
+	}
+	return false
 }

@@ -268,7 +268,6 @@ func BenchmarkSample(b *testing.B) {
 		family string
 		values map[string]float64
 	}{
-		{"poisson_ptrs", "poisson", map[string]float64{"mean": 1e7}},
 		{"gamma_boost", "gamma", map[string]float64{"shape": 0.3, "rate": 1}},
 		{"binomial_wide", "binomial", map[string]float64{"size": 1e6, "p": 0.4}},
 	} {

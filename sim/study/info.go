@@ -41,6 +41,9 @@ type ArmInfo struct {
 	// a study without them records what it did before the keys existed.
 	Fit      string `json:"fit,omitempty"`
 	Variance string `json:"variance,omitempty"`
+	// PseudoTrue is θ*, the fitted family's parameters closest to the
+	// data law, by name; only when Fit differs from Family.
+	PseudoTrue map[string]float64 `json:"pseudo_true,omitempty"`
 }
 
 // FitFamily is the family the arm fits.
@@ -93,6 +96,12 @@ func (s *Study) Info() Info {
 		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation, Fit: a.Fit}
 		if a.Variance == family.RobustVariance {
 			ai.Variance = "robust"
+		}
+		if a.Misspecified() {
+			ai.PseudoTrue = map[string]float64{}
+			for i, name := range a.Estimates() {
+				ai.PseudoTrue[name] = a.Model.Truth[i]
+			}
 		}
 		info.Arms = append(info.Arms, ai)
 	}
