@@ -561,3 +561,80 @@ func TestSampleNewFamilies(t *testing.T) {
 		chiSquareCheck(t, fmt.Sprintf("zero_inflated_poisson%v", v), toInts(xs), pmf, cdf)
 	}
 }
+
+// TestMisfitMonteCarlo runs the checks of TestFamilyCovMonteCarlo and
+// TestFamilyBiasMonteCarlo (same tolerances) on the new families' own
+// fits and on fits of other families' data: n·Cov(θ̂) at n = 1000 against
+// the sandwich at θ*, and the mean of θ̂ − θ* at n = 100 against b/n
+// where b is derived (not NaN).
+func TestMisfitMonteCarlo(t *testing.T) {
+	cases := []struct {
+		data   string
+		values map[string]float64
+		fit    string
+	}{
+		{"negative_binomial", map[string]float64{"mean": 4, "dispersion": 0.5}, "negative_binomial"},
+		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "weibull"},
+		{"exponential", map[string]float64{"rate": 0.5}, "weibull"},
+		{"negative_binomial", map[string]float64{"mean": 4, "dispersion": 0.5}, "poisson"},
+		{"zero_inflated_poisson", map[string]float64{"mean": 3, "zero_share": 0.25}, "poisson"},
+		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "exponential"},
+		{"lognormal", map[string]float64{"meanlog": 0, "sdlog": 0.5}, "exponential"},
+		{"student_t", map[string]float64{"location": 1, "scale": 2, "df": 9}, "normal"},
+		{"gamma", map[string]float64{"shape": 2, "rate": 1}, "normal"},
+		{"poisson", map[string]float64{"mean": 3}, "normal"},
+	}
+	for ci, c := range cases {
+		t.Run(fmt.Sprintf("%s→%s", c.data, c.fit), func(t *testing.T) {
+			t.Parallel()
+			data, _ := Lookup(c.data)
+			fit, _ := Lookup(c.fit)
+			m, err := Build(data, c.values, fit, ModelVariance)
+			if err != nil {
+				t.Fatal(err)
+			}
+			p := len(m.Truth)
+			cov := make([]float64, p*p)
+			m.Asymptotics.Cov(m.Truth, cov)
+			const n, r = 1000, 4000
+			est := replicate(t, m, uint64(4000+ci), n, r)
+			mean := make([]float64, p)
+			for k := range r {
+				for i := range p {
+					mean[i] += est[k*p+i] / r
+				}
+			}
+			for i := range p {
+				for j := i; j < p; j++ {
+					prods := make([]float64, r)
+					for k := range r {
+						prods[k] = n * (est[k*p+i] - mean[i]) * (est[k*p+j] - mean[j])
+					}
+					got, se := meanSE(prods)
+					scale := math.Sqrt(cov[p*i+i] * cov[p*j+j])
+					if tol := 4*se + 10*scale/n; math.Abs(got-cov[p*i+j]) > tol {
+						t.Errorf("n·Cov(θ̂)[%d,%d] = %.5g ± %.2g (MCSE), sandwich at θ* = %.5g", i, j, got, se, cov[p*i+j])
+					}
+				}
+			}
+			bias := make([]float64, p)
+			m.Asymptotics.Bias(m.Truth, bias)
+			const nb, rb = 100, 40000
+			est = replicate(t, m, uint64(5000+ci), nb, rb)
+			d := make([]float64, rb)
+			for i := range p {
+				if math.IsNaN(bias[i]) {
+					continue
+				}
+				for k := range rb {
+					d[k] = est[k*p+i] - m.Truth[i]
+				}
+				got, se := meanSE(d)
+				want := bias[i] / nb
+				if tol := 4*se + 10*math.Abs(bias[i])/(nb*nb); math.Abs(got-want) > tol {
+					t.Errorf("E θ̂ − θ*[%d] = %.5g ± %.2g (MCSE), b/n = %.5g", i, got, se, want)
+				}
+			}
+		})
+	}
+}
