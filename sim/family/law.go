@@ -145,3 +145,50 @@ func (l *binomialLaw) moments() lawMoments {
 	q := 1 - p
 	return lawMoments{n * p, n * p * q, n * p * q * (q - p), n * p * q * (1 + 3*(n-2)*p*q)}
 }
+
+// logLaw is a law of positive values whose log y has closed-form moments,
+// for fits that see the data on the log scale (the lognormal's).
+type logLaw interface {
+	law
+	// logOne draws log y directly (no overflow or underflow of y).
+	logOne(rng *rand.Rand) float64
+	// logMoments are the mean and central moments 2–4 of log y.
+	logMoments() lawMoments
+}
+
+// logOf is the law of log y for a logLaw: a lognormal fit is the normal
+// fit of log y.
+type logOf struct{ l logLaw }
+
+func (o logOf) one(rng *rand.Rand) float64 { return o.l.logOne(rng) }
+func (o logOf) moments() lawMoments        { return o.l.logMoments() }
+
+// Cumulants of log E for E ~ Exp(1): ψ⁽ʲ⁻¹⁾(1), that is −γ, π²/6,
+// −2ζ(3) and π⁴/15 (DLMF 5.4.12, 5.15.2; ζ(3) = 1.2020569031595942854,
+// DLMF 25.6.1 for ζ(4) = π⁴/90).
+const (
+	logExpK1 = -0.57721566490153286061
+	logExpK2 = math.Pi * math.Pi / 6
+	logExpK3 = -2 * 1.2020569031595942854
+	logExpK4 = math.Pi * math.Pi * math.Pi * math.Pi / 15
+)
+
+// logExpMoments are the moments of a + L/k, L = log E, E ~ Exp(1):
+// mean a + κ1/k, μ2 = κ2/k², μ3 = κ3/k³, μ4 = (κ4 + 3κ2²)/k⁴.
+func logExpMoments(a, k float64) lawMoments {
+	k2 := k * k
+	return lawMoments{a + logExpK1/k, logExpK2 / k2, logExpK3 / (k2 * k), (logExpK4 + 3*logExpK2*logExpK2) / (k2 * k2)}
+}
+
+// log y = log(1/rate) + log E.
+func (l *exponentialLaw) logOne(rng *rand.Rand) float64 {
+	return math.Log(rng.ExpFloat64()) - math.Log(l.rate)
+}
+func (l *exponentialLaw) logMoments() lawMoments { return logExpMoments(-math.Log(l.rate), 1) }
+
+// log y = meanlog + sdlog·Z.
+func (l *lognormalLaw) logOne(rng *rand.Rand) float64 { return l.meanlog + l.sdlog*rng.NormFloat64() }
+func (l *lognormalLaw) logMoments() lawMoments {
+	v := l.sdlog * l.sdlog
+	return lawMoments{l.meanlog, v, 0, 3 * v * v}
+}

@@ -18,6 +18,16 @@ func init() {
 		},
 		Estimates: []string{"meanlog", "sdlog"},
 		Support:   Positive,
+		// The lognormal fit is the normal fit of log y, so its θ* matches
+		// E log y and Var log y, and its sandwich needs the central
+		// moments of log y up to the fourth: offered for the laws that
+		// give them in closed form.
+		fitsData: func(d *Family) bool {
+			return d.Name == "lognormal" || d.Name == "weibull" || d.Name == "exponential"
+		},
+		fitLaw: func(_ *Family, _ map[string]float64, l law, v Variance) (Model, error) {
+			return newMomentFit(logOf{l.(logLaw)}, normalFit, v == RobustVariance).model(), nil
+		},
 		law: func(v map[string]float64) (law, error) {
 			return &lognormalLaw{v["meanlog"], v["sdlog"]}, nil
 		},

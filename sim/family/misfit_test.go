@@ -178,6 +178,31 @@ var fitDensity = map[string]func(theta []float64, y float64) float64{
 		return distuv.Weibull{K: th[0], Lambda: th[1]}.LogProb(y)
 	},
 	"negative_binomial": func(th []float64, y float64) float64 { return nbLogPMF(y, th[0], th[1]) },
+	"lognormal":         func(th []float64, y float64) float64 { return distuv.LogNormal{Mu: th[0], Sigma: th[1]}.LogProb(y) },
+}
+
+// TestLawLogMoments holds the closed-form moments of log y against the
+// same sums and quadratures as TestLawMoments, applied to log y.
+func TestLawLogMoments(t *testing.T) {
+	for _, c := range lawCases() {
+		f, _ := Lookup(c.family)
+		l, _ := f.law(c.values)
+		ll, ok := l.(logLaw)
+		if !ok {
+			continue
+		}
+		logNodes := make([]node, len(c.nodes))
+		for i, nd := range c.nodes {
+			logNodes[i] = node{[]float64{math.Log(nd.y[0])}, nd.w}
+		}
+		got, want := ll.logMoments(), nodeMoments(logNodes)
+		sd := math.Sqrt(want.m2)
+		for _, x := range [][3]float64{{got.mean, want.mean, sd}, {got.m2, want.m2, sd * sd}, {got.m3, want.m3, sd * sd * sd}, {got.m4, want.m4, sd * sd * sd * sd}} {
+			if math.Abs(x[0]-x[1]) > 1e-9*x[2] {
+				t.Errorf("%s %v: log-scale moment %.14g, %s gives %.14g", c.family, c.values, x[0], c.source, x[1])
+			}
+		}
+	}
 }
 
 // expectedLogLik is E log f_θ(Y) over nodes.
@@ -286,7 +311,7 @@ func TestPseudoTrueAndSandwich(t *testing.T) {
 	}
 	for _, c := range lawCases() {
 		data, _ := Lookup(c.family)
-		for _, fitName := range []string{"poisson", "exponential", "normal"} {
+		for _, fitName := range []string{"poisson", "exponential", "normal", "lognormal"} {
 			fit, _ := Lookup(fitName)
 			if !fit.accepts(data) {
 				continue
@@ -417,6 +442,7 @@ func TestFitAgainstOptimizer(t *testing.T) {
 		{"zero_inflated_poisson", map[string]float64{"mean": 3, "zero_share": 0.25}, "poisson", 100},
 		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "exponential", 100},
 		{"student_t", map[string]float64{"location": 1, "scale": 2, "df": 5}, "normal", 100},
+		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "lognormal", 100},
 	}
 	for i, c := range cases {
 		data, _ := Lookup(c.data)
@@ -583,6 +609,8 @@ func TestMisfitMonteCarlo(t *testing.T) {
 		{"student_t", map[string]float64{"location": 1, "scale": 2, "df": 9}, "normal"},
 		{"gamma", map[string]float64{"shape": 2, "rate": 1}, "normal"},
 		{"poisson", map[string]float64{"mean": 3}, "normal"},
+		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "lognormal"},
+		{"exponential", map[string]float64{"rate": 2}, "lognormal"},
 	}
 	for ci, c := range cases {
 		t.Run(fmt.Sprintf("%s→%s", c.data, c.fit), func(t *testing.T) {

@@ -260,3 +260,9 @@ func (f *weibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	cov[3] = r10*ikl + r11*ill
 	return true
 }
+
+// log y = log scale + (log E)/shape.
+func (l *weibullLaw) logOne(rng *rand.Rand) float64 {
+	return math.Log(l.scale) + math.Log(rng.ExpFloat64())/l.shape
+}
+func (l *weibullLaw) logMoments() lawMoments { return logExpMoments(math.Log(l.scale), l.shape) }
