@@ -192,3 +192,38 @@ func (l *lognormalLaw) logMoments() lawMoments {
 	v := l.sdlog * l.sdlog
 	return lawMoments{l.meanlog, v, 0, 3 * v * v}
 }
+
+// mellinLaw is a law of positive values whose tilted log-moments
+// E[yˢ·(log y)ʲ], j = 0, 1, 2, are known in closed form for s ≥ 0: what a
+// Weibull fit's pseudo-true parameter and sandwich need.
+type mellinLaw interface {
+	law
+	// mellin returns E[yˢ], E[yˢ log y] and E[yˢ log² y].
+	mellin(s float64) (m0, m1, m2 float64)
+}
+
+// digamma is ψ(x) for x > 0, from log x − ψ(x) (gamma_psi.go).
+func digamma(x float64) float64 { return math.Log(x) - logMinusDigamma(x) }
+
+// mellin of the lognormal: log y = X ~ N(μ, σ²) gives E e^{sX} =
+// exp(sμ + s²σ²/2), and differentiating in s, E[X e^{sX}] = (μ + sσ²)·G
+// and E[X² e^{sX}] = (σ² + (μ + sσ²)²)·G (normal moment generating
+// function, derived).
+func (l *lognormalLaw) mellin(s float64) (m0, m1, m2 float64) {
+	v := l.sdlog * l.sdlog
+	g := math.Exp(s*l.meanlog + s*s*v/2)
+	c := l.meanlog + s*v
+	return g, c * g, (v + c*c) * g
+}
+
+// mellin of the gamma: E yˢ = Γ(α+s)/(Γ(α)βˢ); its derivatives in s give
+// E[yˢ log y] = G·c and E[yˢ log² y] = G·(ψ1(α+s) + c²) with c = ψ(α+s) −
+// log β (derived).
+func (l *gammaLaw) mellin(s float64) (m0, m1, m2 float64) {
+	a, b := l.shape, l.rate
+	la, _ := math.Lgamma(a + s)
+	lb, _ := math.Lgamma(a)
+	g := math.Exp(la - lb - s*math.Log(b))
+	c := digamma(a+s) - math.Log(b)
+	return g, c * g, (trigamma(a+s) + c*c) * g
+}

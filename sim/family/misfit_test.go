@@ -311,7 +311,7 @@ func TestPseudoTrueAndSandwich(t *testing.T) {
 	}
 	for _, c := range lawCases() {
 		data, _ := Lookup(c.family)
-		for _, fitName := range []string{"poisson", "exponential", "normal", "lognormal"} {
+		for _, fitName := range []string{"poisson", "exponential", "normal", "lognormal", "weibull"} {
 			fit, _ := Lookup(fitName)
 			if !fit.accepts(data) {
 				continue
@@ -443,6 +443,8 @@ func TestFitAgainstOptimizer(t *testing.T) {
 		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "exponential", 100},
 		{"student_t", map[string]float64{"location": 1, "scale": 2, "df": 5}, "normal", 100},
 		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "lognormal", 100},
+		{"gamma", map[string]float64{"shape": 2.5, "rate": 3}, "weibull", 200},
+		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 0.3}, "weibull", 200},
 	}
 	for i, c := range cases {
 		data, _ := Lookup(c.data)
@@ -589,7 +591,8 @@ func TestSampleNewFamilies(t *testing.T) {
 }
 
 // TestMisfitMonteCarlo runs the checks of TestFamilyCovMonteCarlo and
-// TestFamilyBiasMonteCarlo (same tolerances) on the new families' own
+// TestFamilyBiasMonteCarlo (same tolerances in MCSE, half the replicates)
+// on the new families' own
 // fits and on fits of other families' data: n·Cov(θ̂) at n = 1000 against
 // the sandwich at θ*, and the mean of θ̂ − θ* at n = 100 against b/n
 // where b is derived (not NaN).
@@ -611,6 +614,8 @@ func TestMisfitMonteCarlo(t *testing.T) {
 		{"poisson", map[string]float64{"mean": 3}, "normal"},
 		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "lognormal"},
 		{"exponential", map[string]float64{"rate": 2}, "lognormal"},
+		{"gamma", map[string]float64{"shape": 2.5, "rate": 3}, "weibull"},
+		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 0.3}, "weibull"},
 	}
 	for ci, c := range cases {
 		t.Run(fmt.Sprintf("%s→%s", c.data, c.fit), func(t *testing.T) {
@@ -624,7 +629,7 @@ func TestMisfitMonteCarlo(t *testing.T) {
 			p := len(m.Truth)
 			cov := make([]float64, p*p)
 			m.Asymptotics.Cov(m.Truth, cov)
-			const n, r = 1000, 4000
+			const n, r = 1000, 2000
 			est := replicate(t, m, uint64(4000+ci), n, r)
 			mean := make([]float64, p)
 			for k := range r {
@@ -647,7 +652,7 @@ func TestMisfitMonteCarlo(t *testing.T) {
 			}
 			bias := make([]float64, p)
 			m.Asymptotics.Bias(m.Truth, bias)
-			const nb, rb = 100, 40000
+			const nb, rb = 100, 20000
 			est = replicate(t, m, uint64(5000+ci), nb, rb)
 			d := make([]float64, rb)
 			for i := range p {
@@ -664,5 +669,36 @@ func TestMisfitMonteCarlo(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// TestLawMellin holds the closed-form E[yˢ (log y)ʲ] of the laws a Weibull
+// fit reads against the sums and quadratures of lawCases, to 1e-9
+// relative (in units of E[yˢ] and its log-scale spread).
+func TestLawMellin(t *testing.T) {
+	for _, c := range lawCases() {
+		f, _ := Lookup(c.family)
+		l, _ := f.law(c.values)
+		ml, ok := l.(mellinLaw)
+		if !ok {
+			continue
+		}
+		for _, s := range []float64{0, 0.7, 2.5, 6} {
+			var w0, w1, w2 float64
+			for _, nd := range c.nodes {
+				y := nd.y[0]
+				p := nd.w * math.Pow(y, s)
+				w0 += p
+				w1 += p * math.Log(y)
+				w2 += p * math.Log(y) * math.Log(y)
+			}
+			g0, g1, g2 := ml.mellin(s)
+			unit := w0 * (1 + math.Abs(w1/w0)) * (1 + math.Abs(w1/w0))
+			for j, x := range [][2]float64{{g0, w0}, {g1, w1}, {g2, w2}} {
+				if math.Abs(x[0]-x[1]) > 1e-9*unit {
+					t.Errorf("%s %v: E[y^%g log^%d y] = %.14g, %s gives %.14g", c.family, c.values, s, j, x[0], c.source, x[1])
+				}
+			}
+		}
 	}
 }

@@ -1,6 +1,7 @@
 package family
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 )
@@ -20,8 +21,14 @@ func init() {
 			l := &weibullLaw{shape: v["shape"], scale: v["scale"]}
 			return newWeibullFit(l, l.shape, l.scale, false), nil
 		},
-		law:      func(v map[string]float64) (law, error) { return &weibullLaw{shape: v["shape"], scale: v["scale"]}, nil },
-		fitsData: func(d *Family) bool { return d.Name == "weibull" || d.Name == "exponential" },
+		law: func(v map[string]float64) (law, error) { return &weibullLaw{shape: v["shape"], scale: v["scale"]}, nil },
+		fitsData: func(d *Family) bool {
+			switch d.Name {
+			case "weibull", "exponential", "gamma", "lognormal":
+				return true
+			}
+			return false
+		},
 		fitLaw: func(d *Family, v map[string]float64, l law, variance Variance) (Model, error) {
 			robust := variance == RobustVariance
 			if d.Name == "exponential" {
@@ -29,8 +36,10 @@ func init() {
 				// is of its own family: θ* = (1, 1/rate).
 				return newWeibullFit(l, 1, 1/v["rate"], robust), nil
 			}
-			w := l.(*weibullLaw)
-			return newWeibullFit(l, w.shape, w.scale, robust), nil
+			if w, ok := l.(*weibullLaw); ok {
+				return newWeibullFit(l, w.shape, w.scale, robust), nil
+			}
+			return newWeibullMisfit(l.(mellinLaw), robust)
 		},
 	})
 }
@@ -96,8 +105,8 @@ func (m *weibullFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	}
 }
 
-// Cov is the inverse expected information at the truth (the data are of
-// the fitted family); theta is not read.
+// Cov is the inverse expected information at the truth when the data are
+// Weibull, the sandwich at θ* otherwise; theta is not read.
 func (m *weibullFitModel) Cov(_, cov []float64) { copy(cov, m.cov) }
 
 // Bias is not derived for the Weibull MLE: NaN, not available.
@@ -266,3 +275,88 @@ func (l *weibullLaw) logOne(rng *rand.Rand) float64 {
 	return math.Log(l.scale) + math.Log(rng.ExpFloat64())/l.shape
 }
 func (l *weibullLaw) logMoments() lawMoments { return logExpMoments(math.Log(l.scale), l.shape) }
+
+// newWeibullMisfit is the Weibull fit of a law that is not a Weibull's.
+// θ* maximises E log f_θ(Y), the Kullback–Leibler projection (White
+// 1982): for a given shape k the scale's score gives λᵏ = E yᵏ, and the
+// shape's profile score is
+//
+//	h(k) = 1/k + E log y − E[yᵏ log y]/E[yᵏ],
+//
+// which decreases in k (its derivative is −1/k² minus a variance), so its
+// root is unique. It is found by bisection to the last bits, with h
+// evaluated from the law's closed-form tilted moments (mellin), so no
+// integral is approximated. The sandwich A⁻¹BA⁻¹ at θ* takes the
+// expectations of the Weibull fitter's Hessian and score products (see
+// weibullFitter.Fit) from the same moments: with v = log(y/λ) and
+// z = (y/λ)ᵏ, E[zᵃvʲ] = λ^(−ak)·E[y^(ak)(log y − log λ)ʲ]. The O(1/n)
+// bias is not derived: NaN.
+func newWeibullMisfit(l mellinLaw, robust bool) (Model, error) {
+	h := func(k float64) float64 {
+		_, e1, _ := l.mellin(0)
+		m0, m1, _ := l.mellin(k)
+		return 1/k + e1 - m1/m0
+	}
+	_, e1, e2 := l.mellin(0)
+	k := math.Pi / math.Sqrt(6*(e2-e1*e1))
+	lo, hi := k, k
+	for i := 0; h(hi) > 0; i++ {
+		if i == 100 {
+			return Model{}, fmt.Errorf("sim: no pseudo-true Weibull shape found for these data")
+		}
+		lo, hi = hi, hi*2
+	}
+	for i := 0; h(lo) < 0; i++ {
+		if i == 100 {
+			return Model{}, fmt.Errorf("sim: no pseudo-true Weibull shape found for these data")
+		}
+		hi, lo = lo, lo/2
+	}
+	for range 200 {
+		mid := (lo + hi) / 2
+		if mid == lo || mid == hi {
+			break
+		}
+		if h(mid) > 0 {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	k = (lo + hi) / 2
+	m0, _, _ := l.mellin(k)
+	lam := math.Pow(m0, 1/k)
+	ll := math.Log(lam)
+	// z moments: Z(a, j) = E[zᵃ vʲ].
+	z := func(a float64, j int) float64 {
+		n0, n1, n2 := l.mellin(a * k)
+		scale := math.Exp(-a * k * ll)
+		switch j {
+		case 0:
+			return scale * n0
+		case 1:
+			return scale * (n1 - ll*n0)
+		}
+		return scale * (n2 - 2*ll*n1 + ll*ll*n0)
+	}
+	akk := 1/(k*k) + z(1, 2)
+	akl := (1 - z(1, 0) - k*z(1, 1)) / lam
+	all := (k*(k+1)*z(1, 0) - k) / (lam * lam)
+	bkk := 1/(k*k) + z(0, 2) + z(2, 2) + 2/k*z(0, 1) - 2/k*z(1, 1) - 2*z(1, 2)
+	bkl := k / lam * (z(1, 0)/k - 1/k + 2*z(1, 1) - z(0, 1) - z(2, 1))
+	bll := k * k / (lam * lam) * (z(2, 0) - 2*z(1, 0) + 1)
+	det := akk*all - akl*akl
+	ikk, ikl, ill := all/det, -akl/det, akk/det
+	r00 := ikk*bkk + ikl*bkl
+	r01 := ikk*bkl + ikl*bll
+	r10 := ikl*bkk + ill*bkl
+	r11 := ikl*bkl + ill*bll
+	m := &weibullFitModel{law: l, robust: robust, truth: []float64{k, lam}, cov: []float64{
+		r00*ikk + r01*ikl, r00*ikl + r01*ill,
+		r10*ikk + r11*ikl, r10*ikl + r11*ill,
+	}}
+	if !(det > 0) || math.IsNaN(m.cov[0]+m.cov[3]) {
+		return Model{}, fmt.Errorf("sim: the Weibull fit's sandwich at the pseudo-true value is not finite for these data")
+	}
+	return Model{Truth: m.truth, Sampler: m, Estimator: m, Asymptotics: m}, nil
+}
