@@ -53,7 +53,7 @@ usage:
                                     (DIR/result.json) or a plan folder (DIR/plan.json)
 
 -figures writes each figure as PNG (the default), SVG and/or PDF, e.g. -figures png,pdf.
-  deltaprobe families               the data-generating families and their estimators
+  deltaprobe families               the families: parameters, estimators, which data each fit accepts
   deltaprobe version
 
 Run "deltaprobe COMMAND -h" for a command's flags.

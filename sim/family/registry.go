@@ -57,8 +57,10 @@ type Fitter interface {
 	// Fit writes the estimate θ̂ into theta and the plug-in estimate of
 	// the per-observation covariance of θ̂ into cov (row-major,
 	// len(theta)² entries). The plug-in may use the sample as well as θ̂
-	// (observed information, a sandwich); the estimators here write their
-	// Asymptotics.Cov at θ̂. Fit reports false when the estimator has no
+	// (observed information, a sandwich): the model-based variance is the
+	// inverse observed information at θ̂ (for the full exponential
+	// families, their Asymptotics.Cov at θ̂), the robust one the sandwich
+	// from the sample. Fit reports false when the estimator has no
 	// value for this sample (for example a numerical MLE that did not
 	// converge); the replicate is then undefined, and neither theta nor
 	// cov is read. Fit allocates nothing.
@@ -71,12 +73,15 @@ type Fitter interface {
 type Asymptotics interface {
 	// Cov writes Σ(θ), the per-observation asymptotic covariance of θ̂
 	// (for a maximum-likelihood fit of the data's own family, the inverse
-	// of the expected Fisher information of one observation), row-major,
-	// len(theta)² entries.
+	// of the expected Fisher information of one observation; for a fit of
+	// another family's data, the sandwich A⁻¹BA⁻¹ at the pseudo-true θ*
+	// with expectations under the data law, defined at θ* only, which is
+	// where the study evaluates it), row-major, len(theta)² entries.
 	Cov(theta, cov []float64)
 	// Bias writes b(θ), the estimator's first-order bias per
 	// observation: E θ̂ − θ = b(θ)/n + o(1/n). Zero where the estimator
-	// is unbiased.
+	// is unbiased; NaN (not available) where it is not derived, so that
+	// no transform reading that parameter is given a second-order bias.
 	Bias(theta, bias []float64)
 }
 
@@ -86,7 +91,9 @@ type Asymptotics interface {
 // model and fit another. All of it is shared by every worker.
 type Model struct {
 	// Truth is θ0, the value the estimator targets, one entry per name
-	// in the family's Estimates. It must not be changed.
+	// in the fitted family's Estimates: the true parameter when the fit is
+	// the data's family, the pseudo-true θ* otherwise. It must not be
+	// changed.
 	Truth       []float64
 	Sampler     Sampler
 	Estimator   Estimator
