@@ -38,6 +38,9 @@ type trendAxes struct {
 	criteria study.Criteria
 	level    float64
 	xlabel   string
+	// pluginLabel names the plug-in series of the variance panel; empty
+	// means "mean plug-in / simulated".
+	pluginLabel string
 }
 
 func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
@@ -207,7 +210,11 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 		}
 		return r.Get(measure.PluginRatio) * end / r.Get(measure.VarRatio)
 	}
-	plugin := series{label: "mean plug-in / simulated", x: xs(rows, a.dodge), style: 1,
+	label := a.pluginLabel
+	if label == "" {
+		label = "mean plug-in / simulated"
+	}
+	plugin := series{label: label, x: xs(rows, a.dodge), style: 1,
 		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.PluginRatio) }),
 		lo: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).Low) }),
 		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).High) }),
@@ -327,6 +334,7 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 // trendsFigure draws the trends figure of transform t with enc.
 func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
+	a.pluginLabel = pluginLabel(r.Study, t)
 	var panels []panel
 	for _, mk := range []func() (panel, error){
 		func() (panel, error) { return a.variancePanel(rows) },

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"regexp"
 	"sort"
 	"strconv"
 	"strings"
@@ -99,4 +100,43 @@ func fitShort(st study.Info) string {
 		return ""
 	}
 	return strings.Join(parts, "; ") + "."
+}
+
+// pluginLabel names the plug-in series of transform t's variance panel
+// by the variance of the arms it reads: "" (the plain label) when they
+// all fit their own family with the model variance.
+func pluginLabel(st study.Info, t int) string {
+	robust, model, mis := 0, 0, false
+	for a, arm := range st.Arms {
+		if !readsArm(st, t, a) {
+			continue
+		}
+		if arm.Robust() {
+			robust++
+		} else {
+			model++
+		}
+		mis = mis || (arm.Fit != "" && arm.Fit != arm.Family)
+	}
+	switch {
+	case robust > 0 && model == 0:
+		return "mean robust plug-in / simulated"
+	case robust > 0:
+		return "mean plug-in (robust in some arms) / simulated"
+	case mis:
+		return "mean model-based plug-in / simulated"
+	}
+	return ""
+}
+
+// readsArm reports whether transform t's expression names arm a: every
+// transform reads the one arm of a [model] study, and a transform of a
+// study with arms names each arm it reads as "arm.param".
+func readsArm(st study.Info, t, a int) bool {
+	name := st.Arms[a].Name
+	if name == "" {
+		return true
+	}
+	re := regexp.MustCompile(`(^|[^A-Za-z0-9_.])` + regexp.QuoteMeta(name) + `\.`)
+	return re.MatchString(st.Transforms[t].Expr)
 }

@@ -69,3 +69,25 @@ expr = "exp(-rate)"
 		t.Error("a study fitting its own family with the model variance mentions fits")
 	}
 }
+
+// The plug-in series is named by the variance of the arms a transform
+// reads.
+func TestPluginLabel(t *testing.T) {
+	st := study.Info{
+		Arms: []study.ArmInfo{
+			{Name: "m", Family: "weibull", Fit: "exponential"},
+			{Name: "r", Family: "weibull", Fit: "exponential", Variance: "robust"},
+			{Name: "own", Family: "normal"},
+			{Name: "rm", Family: "normal"},
+		},
+		Transforms: []study.TransformInfo{
+			{Expr: "exp(-m.rate)"}, {Expr: "exp(-r.rate)"}, {Expr: "m.rate / r.rate"}, {Expr: "own.mean"}, {Expr: "rm.sd"},
+		},
+	}
+	want := []string{"mean model-based plug-in / simulated", "mean robust plug-in / simulated", "mean plug-in (robust in some arms) / simulated", "", ""}
+	for i, w := range want {
+		if got := pluginLabel(st, i); got != w {
+			t.Errorf("transform %q: label %q, want %q", st.Transforms[i].Expr, got, w)
+		}
+	}
+}
