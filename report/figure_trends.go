@@ -356,11 +356,11 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
 		sub += " " + note
 	}
-	if short := fitShort(r.Study); short != "" {
+	if short := fitShort(r.Study, t); short != "" {
 		sub += " " + short
 	}
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
-	if r.Study.Misspecified() {
+	if readsMisfit(r.Study, t) {
 		key = append(key, "The fit differs from the data model: truth is the transform at θ*, the pseudo-true parameter, and the delta method uses the sandwich variance at θ*.")
 	}
 	// A subtitle too long for one line wraps, and the figure grows by

@@ -2,6 +2,7 @@ package report
 
 import (
 	"regexp"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -71,14 +72,23 @@ func valuesText(v map[string]float64) string {
 	return strings.Join(parts, ", ")
 }
 
-// fitShort is fitNote in one sentence, for a figure's subtitle: which
-// data were fitted as which family, and the plug-in variance.
-func fitShort(st study.Info) string {
+// fitShort is fitNote in one sentence for transform t, for its figures'
+// subtitle: which data the arms it reads were fitted as, and their
+// plug-in variance; "" when those arms fit their own family with the
+// model variance.
+func fitShort(st study.Info, t int) string {
 	var mis []string
-	robust := 0
-	for _, arm := range st.Arms {
+	robust, read := 0, 0
+	for a, arm := range st.Arms {
+		if !readsArm(st, t, a) {
+			continue
+		}
+		read++
 		if arm.Fit != "" && arm.Fit != arm.Family {
-			mis = append(mis, arm.Family+" data fitted as "+arm.Fit)
+			m := arm.Family + " data fitted as " + arm.Fit
+			if !slices.Contains(mis, m) {
+				mis = append(mis, m)
+			}
 		}
 		if arm.Robust() {
 			robust++
@@ -89,7 +99,7 @@ func fitShort(st study.Info) string {
 		parts = append(parts, "Fit differs from the data model: "+strings.Join(mis, "; "))
 	}
 	switch {
-	case robust == len(st.Arms):
+	case robust > 0 && robust == read:
 		parts = append(parts, "robust (sandwich) plug-in variance")
 	case robust > 0:
 		parts = append(parts, "robust plug-in variance in some arms, model-based in the others")
@@ -139,4 +149,15 @@ func readsArm(st study.Info, t, a int) bool {
 	}
 	re := regexp.MustCompile(`(^|[^A-Za-z0-9_.])` + regexp.QuoteMeta(name) + `\.`)
 	return re.MatchString(st.Transforms[t].Expr)
+}
+
+// readsMisfit reports whether transform t reads an arm whose fit differs
+// from its data family.
+func readsMisfit(st study.Info, t int) bool {
+	for a, arm := range st.Arms {
+		if readsArm(st, t, a) && arm.Fit != "" && arm.Fit != arm.Family {
+			return true
+		}
+	}
+	return false
 }

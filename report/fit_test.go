@@ -53,7 +53,7 @@ expr = "exp(-rate)"
 			t.Errorf("the page of a misfit lacks %q", must)
 		}
 	}
-	if got := fitShort(mis.Study); got != "Fit differs from the data model: weibull data fitted as exponential; robust (sandwich) plug-in variance." {
+	if got := fitShort(mis.Study, 0); got != "Fit differs from the data model: weibull data fitted as exponential; robust (sandwich) plug-in variance." {
 		t.Errorf("fitShort = %q", got)
 	}
 	var term strings.Builder
@@ -65,7 +65,7 @@ expr = "exp(-rate)"
 	if err != nil {
 		t.Fatal(err)
 	}
-	if fitNote(own.Study) != "" || fitShort(own.Study) != "" || strings.Contains(string(page), "pseudo-true") {
+	if fitNote(own.Study) != "" || fitShort(own.Study, 0) != "" || strings.Contains(string(page), "pseudo-true") {
 		t.Error("a study fitting its own family with the model variance mentions fits")
 	}
 }
