@@ -185,6 +185,9 @@ func newStudyPage(st study.Info, tool string, build runner.Build, replicates boo
 		p.Title = st.File
 	}
 	p.Glance = append([]keyValue{{"Model", describeModel(st.Arms)}}, glance...)
+	if note := fitNote(st); note != "" {
+		p.Glance = append(p.Glance, keyValue{"Fit", note})
+	}
 	p.Glance = append(p.Glance, keyValue{"Intervals", intervalGlance(st)})
 	p.AllCriteria = decidingWords(len(measure.Deciding(st.Criteria)))
 	p.AsRun = []keyValue{{"Seed", seedText(st)}}
@@ -375,6 +378,12 @@ func describeModel(arms []study.ArmInfo) string {
 			vals[i] = k + " = " + strconv.FormatFloat(a.Values[k], 'g', -1, 64)
 		}
 		s := a.Family + " (" + strings.Join(vals, ", ") + ")"
+		if a.Fit != "" && a.Fit != a.Family {
+			s += ", fitted as " + a.Fit
+		}
+		if a.Robust() {
+			s += ", robust variance"
+		}
 		if a.Name != "" {
 			s = a.Name + ": " + s
 			if a.Allocation != 1 {

@@ -308,6 +308,7 @@ type worker struct {
 	addHalf bool                   // [interval] zero_cells = "add_half"
 	accs    []cellAcc
 	useArm  [][]bool // [transform][arm]: whether the transform reads the arm
+	failed  []bool   // per arm: its fit failed in this replicate
 	rep     int      // replicate within the block, for panic reports
 	stage   int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
 	_       [pad]byte
@@ -370,6 +371,7 @@ func newWorker(s *study.Study, res *Result) *worker {
 		buf = buf[k*k:]
 	}
 	w.samples = padded[family.Sample](len(s.Arms))
+	w.failed = padded[bool](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
 		buf = buf[l:]
@@ -455,9 +457,9 @@ func (w *worker) runBlock(j job) {
 // replicate draws every arm, fits it, and scores every transform.
 func (w *worker) replicate() {
 	s := w.s
-	fitted := true
+	anyFailed := false
 	if w.addHalf {
-		fitted = w.drawAndFitHalf()
+		anyFailed = w.drawAndFitHalf()
 	} else {
 		// Arms by pointer: an Arm is several words, and this runs per replicate.
 		for a := range s.Arms {
@@ -466,22 +468,23 @@ func (w *worker) replicate() {
 			sample := &w.samples[a]
 			arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
 			off := arm.Offset
-			if !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a]) {
-				fitted = false
-			}
+			w.failed[a] = !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
+			anyFailed = anyFailed || w.failed[a]
 		}
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
-		if !fitted {
+		use := w.useArm[t]
+		if anyFailed && w.readsFailed(use) {
+			// A transform is undefined when an arm it reads has no fit;
+			// arms it does not read leave it alone.
 			acc.Undefined++
 			acc.FitFailures++
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
 		var pv float64
-		use := w.useArm[t]
 		for a := range s.Arms {
 			if !use[a] {
 				continue
@@ -504,9 +507,9 @@ func (w *worker) replicate() {
 
 // drawAndFitHalf draws every arm, then fits each, correcting every
 // correctable arm by adding ½ to its cells when any of them is at its
-// boundary (family.HalfCorrector); it reports whether every fit has a
-// value.
-func (w *worker) drawAndFitHalf() bool {
+// boundary (family.HalfCorrector); it marks each arm whose fit has no
+// value in w.failed and reports whether any has none.
+func (w *worker) drawAndFitHalf() (anyFailed bool) {
 	s := w.s
 	boundary := false
 	for a := range s.Arms {
@@ -516,21 +519,31 @@ func (w *worker) drawAndFitHalf() bool {
 			boundary = true
 		}
 	}
-	fitted := true
 	for a := range s.Arms {
 		w.stage = a
 		off := s.Arms[a].Offset
 		theta := w.theta[off : off+w.dims[a]]
+		w.failed[a] = false
 		if h := w.halves[a]; boundary && h != nil {
 			w.armN[a] = h.FitAddHalf(&w.samples[a], theta, w.covs[a])
 			continue
 		}
 		w.armN[a] = float64(w.sizes[a])
-		if !w.fitters[a].Fit(&w.samples[a], theta, w.covs[a]) {
-			fitted = false
+		w.failed[a] = !w.fitters[a].Fit(&w.samples[a], theta, w.covs[a])
+		anyFailed = anyFailed || w.failed[a]
+	}
+	return anyFailed
+}
+
+// readsFailed reports whether a transform reading the arms in use reads
+// one whose fit failed in this replicate.
+func (w *worker) readsFailed(use []bool) bool {
+	for a, f := range w.failed {
+		if f && use[a] {
+			return true
 		}
 	}
-	return fitted
+	return false
 }
 
 // add scores one replicate's estimate v and the variance pv its interval

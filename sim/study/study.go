@@ -97,12 +97,16 @@ func (p *PlanSpec) Looks() int { return (p.MaxReplicates + p.Batch - 1) / p.Batc
 // Arm is one independent sample of the study; a study with a [model]
 // table has one arm with an empty name.
 type Arm struct {
-	Name       string
-	Family     string
-	Values     map[string]float64 // the family's parameters, as given
-	Allocation float64            // arm size = ceil(n × Allocation)
-	Model      family.Model       // the family at Values with its estimator
-	Offset     int                // index of the arm's first parameter in θ
+	Name   string
+	Family string
+	Values map[string]float64 // the family's parameters, as given
+	// Fit is the family the analysis fits; Family itself unless the file
+	// gives fit = "...". θ holds its parameters.
+	Fit        string
+	Variance   family.Variance // the plug-in variance: model-based unless variance = "robust"
+	Allocation float64         // arm size = ceil(n × Allocation)
+	Model      family.Model    // the family at Values with its estimator
+	Offset     int             // index of the arm's first parameter in θ
 }
 
 // Transform is one function of θ whose delta-method interval is checked.
@@ -199,14 +203,27 @@ func (s *Study) ParamNames() []string {
 }
 
 // Estimates names the arm's estimated parameters, in the order of its
-// part of θ: its family's Estimates.
+// part of θ: its fitted family's Estimates.
 func (a *Arm) Estimates() []string {
-	f, ok := family.Lookup(a.Family)
+	f, ok := family.Lookup(a.FitFamily())
 	if !ok {
-		panic("study: an arm of the unregistered family " + a.Family)
+		panic("study: an arm fitting the unregistered family " + a.FitFamily())
 	}
 	return f.Estimates
 }
+
+// FitFamily is the name of the family the arm fits: Fit, or Family when
+// Fit is empty.
+func (a *Arm) FitFamily() string {
+	if a.Fit == "" {
+		return a.Family
+	}
+	return a.Fit
+}
+
+// Misspecified reports whether the arm fits another family than the one
+// its data are drawn from.
+func (a *Arm) Misspecified() bool { return a.FitFamily() != a.Family }
 
 // Dim is the length of θ.
 func (s *Study) Dim() int {
@@ -594,7 +611,9 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 		return a, false
 	}
 	a.Family = famName
-	accepted := []string{"family"}
+	fit, variance, fitOK := d.fitKeys(table, m, fam)
+	ok = ok && fitOK
+	accepted := []string{"family", "fit", "variance"}
 	if named {
 		accepted = append(accepted, "name", "allocation")
 	}
@@ -625,13 +644,64 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 	if !ok {
 		return a, false
 	}
-	model, err := fam.New(a.Values)
+	if fit != fam {
+		a.Fit = fit.Name
+	}
+	a.Variance = variance
+	model, err := family.Build(fam, a.Values, fit, variance)
 	if err != nil {
-		d.fail(table, "%s: %s", label, strings.TrimPrefix(err.Error(), "sim: "))
+		path := table
+		if _, given := m["fit"]; given {
+			path = join(table, "fit")
+		} else if _, given := m["variance"]; given {
+			path = join(table, "variance")
+		}
+		d.fail(path, "%s: %s", label, strings.TrimPrefix(err.Error(), "sim: "))
 		return a, false
 	}
 	a.Model = model
 	return a, true
+}
+
+// variantText shows a value given for a word key: quoted when it is a
+// string, by its type otherwise.
+func variantText(v any) string {
+	if str, ok := v.(string); ok {
+		return fmt.Sprintf("%q", str)
+	}
+	return typeName(v)
+}
+
+// fitKeys reads an arm's fit and variance keys: the fitted family (the
+// data family when fit is not given) and the variance ("model" unless
+// given).
+func (d *decoder) fitKeys(table string, m map[string]any, data *family.Family) (*family.Family, family.Variance, bool) {
+	fit, variance, ok := data, family.ModelVariance, true
+	if raw, given := m["fit"]; given {
+		name, isStr := raw.(string)
+		f, known := family.Lookup(name)
+		switch {
+		case !isStr:
+			d.fail(join(table, "fit"), "fit must be a string naming the fitted family, got %s; accepted: %s", typeName(raw), strings.Join(data.FitsFor(), ", "))
+			ok = false
+		case !known:
+			d.fail(join(table, "fit"), "unknown fit family %q for %s data%s", name, data.Name, didYouMean(name, data.FitsFor()))
+			ok = false
+		default:
+			fit = f
+		}
+	}
+	if raw, given := m["variance"]; given {
+		switch raw {
+		case "model":
+		case "robust":
+			variance = family.RobustVariance
+		default:
+			d.fail(join(table, "variance"), "variance must be \"model\" (inverse observed information at the estimate) or \"robust\" (the sandwich from the sample), got %s", variantText(raw))
+			ok = false
+		}
+	}
+	return fit, variance, ok
 }
 
 func (d *decoder) transforms(raw map[string]any, s *Study) {
