@@ -72,7 +72,7 @@ func waitForBlocks(t *testing.T, path string, deadline time.Duration) {
 	stop := time.Now().Add(deadline)
 	for time.Now().Before(stop) {
 		b, err := os.ReadFile(path)
-		if err == nil && bytes.Contains(b, []byte(`"blocks": [`)) && !bytes.Contains(b, []byte(`"blocks": null`)) {
+		if err == nil && bytes.Contains(b, []byte(`"nodes": [`)) && !bytes.Contains(b, []byte(`"nodes": null`)) {
 			return
 		}
 		time.Sleep(20 * time.Millisecond)

@@ -22,7 +22,8 @@ type Estimate struct {
 // res does not hold yet (res nil: the whole study; a shard's result:
 // its own blocks), and times a short calibration run (about calibrate
 // long) so the estimate includes fitting and scoring as well as drawing.
-// The memory is the whole result's, which holds every block in the end.
+// The memory is the simulation's state, which does not grow with the
+// replicates (see reduce.go).
 func EstimateWork(s *study.Study, res *Result, workers int, calibrate time.Duration) Estimate {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
@@ -40,11 +41,15 @@ func EstimateWork(s *study.Study, res *Result, workers int, calibrate time.Durat
 		e.Draws += left[ni] * int64(s.DrawsPerReplicate(n))
 		e.Replicates += left[ni]
 	}
-	// Per worker: two pivot histograms per transform; per result: the same
-	// per cell plus a few words per block.
+	// Per worker: two pivot histograms per transform and a block's
+	// estimates; per result: two histograms per cell, its few nodes, and
+	// a copy of it all while a checkpoint is encoded; per block of the
+	// grid, one byte marking it pending. None of it grows with the
+	// replicates but the last, 10⁵ bytes per n at 10⁸ replicates.
 	cells := int64(len(s.Transforms) * len(s.SampleSizes))
 	hist := int64(2 * PivotBins * 8)
-	e.MemoryBytes = int64(workers)*int64(len(s.Transforms))*hist + cells*(hist+int64(Blocks(s.Replicates))*64)
+	e.MemoryBytes = int64(workers)*int64(len(s.Transforms))*(hist+BlockSize*8) +
+		2*cells*(hist+maxNodes*64) + int64(len(s.SampleSizes))*int64(Blocks(s.Replicates))
 
 	if e.Replicates == 0 {
 		return e

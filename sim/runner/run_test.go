@@ -181,8 +181,9 @@ func TestRunCountsEveryReplicate(t *testing.T) {
 			if c.Replicates != 2500 || c.Covered+c.MissBelow+c.MissAbove+c.Undefined != 2500 {
 				t.Errorf("n=%d: replicates %d, covered+missed+undefined %d", c.N, c.Replicates, c.Covered+c.MissBelow+c.MissAbove+c.Undefined)
 			}
-			if len(c.Blocks) != Blocks(2500) {
-				t.Errorf("n=%d: %d blocks, want %d", c.N, len(c.Blocks), Blocks(2500))
+			// 3 blocks: the nodes [0, 2) and [2, 3), one per set bit of 3.
+			if heldBlocks(c.Nodes) != Blocks(2500) || len(c.Nodes) != 2 {
+				t.Errorf("n=%d: %d nodes holding %d blocks, want 2 holding %d", c.N, len(c.Nodes), heldBlocks(c.Nodes), Blocks(2500))
 			}
 			if c.Delta.Total() != c.Replicates-c.Undefined {
 				t.Errorf("n=%d: histogram holds %d, want %d", c.N, c.Delta.Total(), c.Replicates-c.Undefined)
