@@ -68,7 +68,7 @@ func TestPlanExponentialAgainstExactTheory(t *testing.T) {
 	s, p := runPlan(t, fmt.Sprintf(`seed = 101
 [plan]
 n_min = 6
-n_max = 160
+n_max = 400
 max_replicates = %d
 window = 5
 [model]
@@ -112,12 +112,12 @@ expr = "rate"
 		return 0
 	}
 	lowest, highest := 0, 0
-	for n := 6; n <= 160; n++ {
+	for n := 6; n <= 400; n++ {
 		if clear(n) == -1 {
 			lowest = n + 1
 		}
 	}
-	for n := 160; n >= 6 && clear(n) == 1; n-- {
+	for n := 400; n >= 6 && clear(n) == 1; n-- {
 		highest = n
 	}
 	t.Logf("plan answer %d; exact bracket [%d, %d]; %d evaluations, %d replicates", v.SmallestN, lowest, highest, len(p.Steps), p.Total)

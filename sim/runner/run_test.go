@@ -117,7 +117,10 @@ func keepObservations(s *study.Study) (made, maxN []*atomic.Int64) {
 // sufficient statistics to rounding (the same draws, summed in other
 // units).
 func TestWorkerKeepsObservationsAndFitBuffers(t *testing.T) {
-	sums, obs := studytest.Parse(t, twoArmStudy), studytest.Parse(t, twoArmStudy)
+	// Both draw every observation: by default the normal family draws its
+	// sums from their exact law instead, which are other numbers.
+	eachDraw := strings.ReplaceAll(twoArmStudy, `family = "normal"`, "family = \"normal\"\ndraws = \"each\"")
+	sums, obs := studytest.Parse(t, eachDraw), studytest.Parse(t, eachDraw)
 	made, maxN := keepObservations(obs)
 	ws, wo := newWorker(sums, NewResult(sums)), newWorker(obs, NewResult(obs))
 	for a := range obs.Arms {
