@@ -166,3 +166,20 @@ func TestResumeAndMergeRefuseAnotherLayout(t *testing.T) {
 		t.Errorf("merge with layout 1: exit %d, stderr %q; want a refusal saying %q", code, stderr, want)
 	}
 }
+
+// A shard owns whole blocks: more shards than blocks per n is refused,
+// naming the most that can be used.
+func TestTooManyShardsRefused(t *testing.T) {
+	study := writeStudy(t, smallStudy) // 3000 replicates: 3 blocks per n
+	out := filepath.Join(t.TempDir(), "out")
+	code, _, stderr := runCLI(t, "run", study, "-shard", "1/4", "-o", out, "-quiet")
+	if code != exitUsage || !strings.Contains(stderr, "use at most 3 shards") {
+		t.Errorf("exit %d, stderr %q; want a refusal naming 3 shards", code, stderr)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Error("a refused shard created its output folder")
+	}
+	if code, _, stderr := runCLI(t, "run", study, "-shard", "2/3", "-o", out, "-quiet"); code != exitOK {
+		t.Errorf("3 shards of 3 blocks: exit %d: %s", code, stderr)
+	}
+}
