@@ -194,3 +194,59 @@ func TestWhichFamiliesDrawStatistics(t *testing.T) {
 		t.Error("gamma claims an exact statistics sampler")
 	}
 }
+
+// DrawStatistics allocates nothing, at small and large n alike.
+func TestStatisticsDrawsAllocateNothing(t *testing.T) {
+	cases := map[string]map[string]float64{
+		"normal":           {"mean": 1, "sd": 2},
+		"exponential":      {"rate": 3},
+		"poisson":          {"mean": 4},
+		"bernoulli":        {"p": 0.4},
+		"binomial":         {"size": 7, "p": 0.2},
+		"bivariate_normal": {"mean_x": 0, "mean_y": 0, "sd_x": 1, "sd_y": 1, "rho": 0.3},
+	}
+	for name, v := range cases {
+		ss := statSampler(t, name, v)
+		s := Sample{Data: make([]float64, ss.SampleLen(1))}
+		rng := testRand(5)
+		for _, n := range []int{2, 1000000} {
+			if a := testing.AllocsPerRun(100, func() { ss.DrawStatistics(rng, n, &s) }); a != 0 {
+				t.Errorf("%s n=%d: %v allocations a draw", name, n, a)
+			}
+		}
+	}
+}
+
+// BenchmarkStatistics times one exact statistics draw and fit per family,
+// at n = 10 and n = 10⁶ (the same cost, which is the point).
+func BenchmarkStatistics(b *testing.B) {
+	cases := []struct {
+		name string
+		v    map[string]float64
+	}{
+		{"normal", map[string]float64{"mean": 1, "sd": 2}},
+		{"exponential", map[string]float64{"rate": 3}},
+		{"poisson", map[string]float64{"mean": 4}},
+		{"bernoulli", map[string]float64{"p": 0.4}},
+		{"binomial", map[string]float64{"size": 7, "p": 0.2}},
+		{"bivariate_normal", map[string]float64{"mean_x": 0, "mean_y": 0, "sd_x": 1, "sd_y": 1, "rho": 0.3}},
+	}
+	for _, c := range cases {
+		for _, n := range []int{10, 1000000} {
+			b.Run(fmt.Sprintf("%s/n=%d", c.name, n), func(b *testing.B) {
+				m := mustModel(b, c.name, c.v)
+				ss := m.Sampler.(StatisticsSampler)
+				s := Sample{Data: make([]float64, ss.SampleLen(n))}
+				f := m.Estimator.NewFitter(n)
+				theta := make([]float64, len(m.Truth))
+				cov := make([]float64, len(m.Truth)*len(m.Truth))
+				rng := testRand(9)
+				b.ReportAllocs()
+				for b.Loop() {
+					ss.DrawStatistics(rng, n, &s)
+					f.Fit(&s, theta, cov)
+				}
+			})
+		}
+	}
+}
