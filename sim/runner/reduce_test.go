@@ -1,11 +1,15 @@
 package runner
 
 import (
+	"context"
 	"math"
 	"math/bits"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
+
+	"deltaprobe/sim/study/studytest"
 )
 
 // leafNodes makes one node per block from a fixed stream of values, as a
@@ -112,5 +116,45 @@ func TestReductionRefusesOverlaps(t *testing.T) {
 	}
 	if _, err := insertNode(nil, Node{Lo: 2, Level: 2}); err == nil {
 		t.Error("a node not aligned to its size was accepted")
+	}
+}
+
+// A saved result whose nodes the reduction could not have made (edited
+// by hand, or by another program) is refused by Fits, and so by -resume
+// and merge.
+func TestFitsRefusesForeignNodes(t *testing.T) {
+	s := studytest.Parse(t, strings.Replace(twoArmStudy, "replicates = 2500", "replicates = 7000", 1)) // 7 blocks: nodes [0,4), [4,6), [6,7)
+	res, err := Run(context.Background(), s, Options{Workers: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := res.Fits(s); err != nil {
+		t.Fatalf("a result as run: %v", err)
+	}
+	cases := []struct {
+		name string
+		edit func(c *Cell)
+		want string
+	}{
+		{"overlap", func(c *Cell) { c.Nodes[1].Lo = 2; c.Nodes[1].Level = 1 }, "held twice"},
+		{"misaligned", func(c *Cell) { c.Nodes[1].Lo = 5 }, "not aligned"},
+		{"past the last block", func(c *Cell) { c.Nodes[2].Lo = 8 }, "beyond"},
+		{"not joined", func(c *Cell) {
+			a, b := c.Nodes[0], c.Nodes[0]
+			a.Level, b.Level, b.Lo = 1, 1, 2
+			c.Nodes = append([]Node{a, b}, c.Nodes[1:]...)
+		}, "would have joined"},
+	}
+	for _, tc := range cases {
+		bad := res.clone()
+		tc.edit(bad.Cells[1][0])
+		if err := bad.Fits(s); err == nil || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: Fits says %v, want an error saying %q", tc.name, err, tc.want)
+		}
+	}
+	bad := res.clone()
+	bad.Shard = &Shard{Index: 2, Count: 2}
+	if err := bad.Fits(s); err == nil || !strings.Contains(err.Error(), "no split") {
+		t.Errorf("shard 2/2: Fits says %v", err)
 	}
 }

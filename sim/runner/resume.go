@@ -34,6 +34,8 @@ func (r *Result) Fits(s *study.Study) error {
 		return fmt.Errorf("the result was run with %d replicates per n, not %d", r.Study.Replicates, s.Replicates)
 	case r.BlockSize != BlockSize:
 		return fmt.Errorf("the result uses blocks of %d replicates; this deltaprobe uses %d", r.BlockSize, BlockSize)
+	case r.Shard != nil && !(r.Shard.Count >= 1 && r.Shard.Index >= 0 && r.Shard.Index < r.Shard.Count):
+		return fmt.Errorf("the result names shard %s, which no split has", r.Shard)
 	case len(r.Cells) != len(s.Transforms):
 		return fmt.Errorf("the result has %d transforms; the study has %d", len(r.Cells), len(s.Transforms))
 	}
