@@ -17,7 +17,20 @@ func init() {
 		Estimates: []string{"shape", "rate"},
 		Support:   Positive,
 		law: func(v map[string]float64) (law, error) {
-			return &gammaLaw{shape: v["shape"], rate: v["rate"], gen: newGammaGen(v["shape"])}, nil
+			return newGammaLaw(v["shape"], v["rate"]), nil
+		},
+		// The gamma fit of data whose (y, log y) have closed-form first
+		// and second moments (gamma_misfit.go); of gamma data it is the
+		// family's own fit, offered here for the robust variance.
+		fitsData: func(d *Family) bool {
+			switch d.Name {
+			case "gamma", "exponential", "weibull", "lognormal":
+				return true
+			}
+			return false
+		},
+		fitLaw: func(_ *Family, _ map[string]float64, l law, v Variance) (Model, error) {
+			return newGammaMisfit(l.(gammaFitLaw), v == RobustVariance)
 		},
 		New: func(v map[string]float64) (Model, error) {
 			m := &gammaModel{shape: v["shape"], rate: v["rate"], gen: newGammaGen(v["shape"])}

@@ -101,6 +101,13 @@ func (l *exponentialLaw) moments() lawMoments {
 type gammaLaw struct {
 	shape, rate float64
 	gen         gammaGen
+	logScale    float64 // log(gen.d/rate): log y = logScale + log w
+}
+
+// newGammaLaw returns the Gamma(shape, rate) law.
+func newGammaLaw(shape, rate float64) *gammaLaw {
+	g := newGammaGen(shape)
+	return &gammaLaw{shape: shape, rate: rate, gen: g, logScale: math.Log(g.d) - math.Log(rate)}
 }
 
 func (l *gammaLaw) one(rng *rand.Rand) float64 { return l.gen.std(rng) / l.rate }

@@ -1,5 +1,10 @@
 package family
 
+import (
+	"fmt"
+	"math"
+)
+
 // The lognormal family, θ = (meanlog, sdlog). The likelihood depends on
 // the sample only through log y, which is a Normal(meanlog, sdlog²)
 // sample, so the MLE, its covariance and its bias are the normal family's
@@ -23,9 +28,19 @@ func init() {
 		// moments of log y up to the fourth: offered for the laws that
 		// give them in closed form.
 		fitsData: func(d *Family) bool {
-			return d.Name == "lognormal" || d.Name == "weibull" || d.Name == "exponential"
+			switch d.Name {
+			case "lognormal", "weibull", "exponential", "gamma":
+				return true
+			}
+			return false
 		},
 		fitLaw: func(_ *Family, _ map[string]float64, l law, v Variance) (Model, error) {
+			mo := l.(logLaw).logMoments()
+			for _, x := range []float64{mo.mean, mo.m2, mo.m3, mo.m4} {
+				if math.IsNaN(x) || math.IsInf(x, 0) {
+					return Model{}, fmt.Errorf("sim: the moments of log y are not finite for these data (a gamma shape too close to 0)")
+				}
+			}
 			return newMomentFit(logOf{l.(logLaw)}, normalFit, v == RobustVariance).model(), nil
 		},
 		law: func(v map[string]float64) (law, error) {

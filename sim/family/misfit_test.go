@@ -175,6 +175,7 @@ var fitDensity = map[string]func(theta []float64, y float64) float64{
 	},
 	"negative_binomial": func(th []float64, y float64) float64 { return nbLogPMF(y, th[0], th[1]) },
 	"lognormal":         func(th []float64, y float64) float64 { return distuv.LogNormal{Mu: th[0], Sigma: th[1]}.LogProb(y) },
+	"gamma":             func(th []float64, y float64) float64 { return distuv.Gamma{Alpha: th[0], Beta: th[1]}.LogProb(y) },
 }
 
 // TestLawLogMoments holds the closed-form moments of log y against the
@@ -302,7 +303,7 @@ func sandwichAt(t *testing.T, fit string, nodes []node, theta []float64) *mat.De
 func TestPseudoTrueAndSandwich(t *testing.T) {
 	for _, c := range lawCases() {
 		data, _ := Lookup(c.family)
-		for _, fitName := range []string{"poisson", "exponential", "normal", "lognormal", "weibull"} {
+		for _, fitName := range []string{"poisson", "exponential", "normal", "lognormal", "weibull", "gamma"} {
 			fit, _ := Lookup(fitName)
 			if !fit.accepts(data) {
 				continue
@@ -432,6 +433,14 @@ func TestFitAgainstOptimizer(t *testing.T) {
 		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "lognormal", 100},
 		{"gamma", map[string]float64{"shape": 2.5, "rate": 3}, "weibull", 200},
 		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 0.3}, "weibull", 200},
+		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "gamma", 200},
+		{"weibull", map[string]float64{"shape": 0.6, "scale": 30}, "gamma", 150},
+		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 0.3}, "gamma", 200},
+		{"lognormal", map[string]float64{"meanlog": -2, "sdlog": 1.2}, "gamma", 150},
+		{"exponential", map[string]float64{"rate": 0.5}, "gamma", 150},
+		{"gamma", map[string]float64{"shape": 2.5, "rate": 3}, "gamma", 200},
+		{"gamma", map[string]float64{"shape": 2.5, "rate": 3}, "lognormal", 200},
+		{"gamma", map[string]float64{"shape": 0.4, "rate": 0.2}, "lognormal", 150},
 	}
 	for i, c := range cases {
 		data, _ := Lookup(c.data)
@@ -603,6 +612,13 @@ func TestMisfitMonteCarlo(t *testing.T) {
 		{"exponential", map[string]float64{"rate": 2}, "lognormal"},
 		{"gamma", map[string]float64{"shape": 2.5, "rate": 3}, "weibull"},
 		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 0.3}, "weibull"},
+		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}, "gamma"},
+		{"weibull", map[string]float64{"shape": 0.8, "scale": 5}, "gamma"},
+		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 0.6}, "gamma"},
+		{"lognormal", map[string]float64{"meanlog": 0, "sdlog": 1}, "gamma"},
+		{"exponential", map[string]float64{"rate": 2}, "gamma"},
+		{"gamma", map[string]float64{"shape": 2.5, "rate": 3}, "lognormal"},
+		{"gamma", map[string]float64{"shape": 0.5, "rate": 1}, "lognormal"},
 	}
 	for ci, c := range cases {
 		t.Run(fmt.Sprintf("%s→%s", c.data, c.fit), func(t *testing.T) {
