@@ -345,3 +345,34 @@ func BenchmarkGammaMisfitReplicate(b *testing.B) {
 		tr.fit(rng, 40, theta)
 	}
 }
+
+// TestGammaFitMeanIsUnbiased: the gamma MLE has α̂/β̂ = ȳ exactly, and
+// E ȳ = E y, so the O(1/n) bias of τ = α/β vanishes under every law. The
+// second-order delta method gives that bias as ∇τ·b + ½ Σᵢⱼ ∂²τ/∂θᵢ∂θⱼ Σᵢⱼ
+// (b the model's Bias, Σ its sandwich; ∇τ = (1/β, −α/β²), ∂²τ/∂α² = 0,
+// ∂²τ/∂α∂β = −1/β², ∂²τ/∂β² = 2α/β³), which must be zero to rounding:
+// a check of the derived bias that does not depend on Monte Carlo.
+func TestGammaFitMeanIsUnbiased(t *testing.T) {
+	for _, c := range []struct {
+		data   string
+		values map[string]float64
+	}{
+		{"weibull", map[string]float64{"shape": 1.5, "scale": 2}},
+		{"weibull", map[string]float64{"shape": 0.5, "scale": 10}},
+		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 1.2}},
+		{"exponential", map[string]float64{"rate": 3}},
+		{"gamma", map[string]float64{"shape": 0.3, "rate": 2}},
+	} {
+		m := buildFit(t, c.data, c.values, "gamma", RobustVariance)
+		a, b := m.Truth[0], m.Truth[1]
+		sig, bias := make([]float64, 4), make([]float64, 2)
+		m.Asymptotics.Cov(m.Truth, sig)
+		m.Asymptotics.Bias(m.Truth, bias)
+		first := bias[0]/b - a*bias[1]/(b*b)
+		second := 0.5 * (-2*sig[1]/(b*b) + 2*a*sig[3]/(b*b*b))
+		scale := math.Abs(first) + math.Abs(second)
+		if got := first + second; math.Abs(got) > 1e-12*scale {
+			t.Errorf("%s %v: second-order bias of shape/rate = %.3g (terms %.6g and %.6g), want 0", c.data, c.values, got, first, second)
+		}
+	}
+}
