@@ -376,3 +376,60 @@ func TestGammaFitMeanIsUnbiased(t *testing.T) {
 		}
 	}
 }
+
+// TestGammaFitPlugInMonteCarlo: at n = 2000 the mean of the robust
+// plug-in (the sandwich from each sample) matches the sandwich at θ*,
+// and the mean of the model-based plug-in matches A⁻¹ at θ* (the inverse
+// gamma information, gammaModel.Cov at θ*), each within 4 Monte Carlo
+// standard errors plus an O(1/n) allowance of 10/n of the entry's scale
+// (common practice, as TestMisfitMonteCarlo). Under these misfits the two
+// differ by more than 10% of an entry's scale, so the check tells them
+// apart.
+func TestGammaFitPlugInMonteCarlo(t *testing.T) {
+	for ci, c := range []struct {
+		data   string
+		values map[string]float64
+	}{
+		{"weibull", map[string]float64{"shape": 0.8, "scale": 5}},
+		{"lognormal", map[string]float64{"meanlog": 0.5, "sdlog": 0.6}},
+	} {
+		m := buildFit(t, c.data, c.values, "gamma", RobustVariance)
+		sand := make([]float64, 4)
+		m.Asymptotics.Cov(m.Truth, sand)
+		inv := make([]float64, 4)
+		mustModel(t, "gamma", map[string]float64{"shape": m.Truth[0], "rate": m.Truth[1]}).Asymptotics.Cov(m.Truth, inv)
+		const n, r = 2000, 400
+		tr := newTrial(m, n)
+		tr.fitter.(OtherVariance).EnableOther()
+		rng := testRand(8100 + uint64(ci))
+		theta, other := make([]float64, 2), make([]float64, 4)
+		rob, mod := make([][]float64, 4), make([][]float64, 4)
+		for range r {
+			if !tr.fit(rng, n, theta) || !tr.fitter.(OtherVariance).OtherCov(other) {
+				t.Fatalf("%s: fit failed", c.data)
+			}
+			for i := range 4 {
+				rob[i] = append(rob[i], tr.cov[i])
+				mod[i] = append(mod[i], other[i])
+			}
+		}
+		apart := 0.0
+		for i := range 4 {
+			unit := math.Sqrt(sand[(i/2)*3] * sand[(i%2)*3])
+			for _, x := range []struct {
+				what string
+				xs   []float64
+				want float64
+			}{{"robust plug-in", rob[i], sand[i]}, {"model plug-in", mod[i], inv[i]}} {
+				got, se := meanSE(x.xs)
+				if math.Abs(got-x.want) > 4*se+10*unit/n {
+					t.Errorf("%s fitted as gamma: mean %s[%d] = %.6g ± %.2g (MCSE), want %.6g", c.data, x.what, i, got, se, x.want)
+				}
+			}
+			apart = max(apart, math.Abs(sand[i]-inv[i])/unit)
+		}
+		if apart < 0.1 {
+			t.Errorf("%s: sandwich %v and A⁻¹ %v too close for the check to tell them apart", c.data, sand, inv)
+		}
+	}
+}
