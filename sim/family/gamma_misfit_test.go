@@ -282,8 +282,9 @@ func TestGammaFitOtherVariance(t *testing.T) {
 	}
 }
 
-// TestGammaFitUndefined: below two observations, or when all observations
-// are equal, the gamma likelihood has no maximum and Fit reports false.
+// TestGammaFitUndefined: below two observations, when all observations
+// are equal, or when ȳ ≤ 0, the gamma likelihood has no maximum and Fit
+// reports false.
 func TestGammaFitUndefined(t *testing.T) {
 	m := buildFit(t, "weibull", map[string]float64{"shape": 1.5, "scale": 2}, "gamma", RobustVariance)
 	tr := newTrial(m, 10)
@@ -291,15 +292,18 @@ func TestGammaFitUndefined(t *testing.T) {
 	if tr.fit(testRand(1), 1, theta) {
 		t.Error("a gamma fit of one observation reported a value")
 	}
-	// Two equal observations at the law's mean and log-mean: centred sums
-	// all zero except that log ȳ − mean(log y) is then the law's own gap,
-	// so set them to describe y₁ = y₂ = c directly.
-	gm := m.Estimator.(*gammaFitModel)
-	c := 1.7
-	e, l := c-gm.cy, math.Log(c)-gm.cl
-	s := Sample{N: 2, Data: []float64{2 * e, 2 * l, 2 * e * e, 2 * l * l, 2 * e * l}}
+	// Two observations both equal to E y: e = 0 and l = log E y − E log y,
+	// the law's gap, so log ȳ − mean(log y) is exactly 0.
+	gap := m.Estimator.(*gammaFitModel).gap
+	s := Sample{N: 2, Data: []float64{0, 2 * gap, 0, 2 * gap * gap, 0}}
 	if tr.fitter.Fit(&s, theta, tr.cov) {
 		t.Errorf("a gamma fit of two equal observations reported θ̂ = %v", theta)
+	}
+	// A sample mean that is not positive has no gamma fit either.
+	cy := m.Estimator.(*gammaFitModel).cy
+	s = Sample{N: 2, Data: []float64{-3 * cy, 0, 4.5 * cy * cy, 0, 0}}
+	if tr.fitter.Fit(&s, theta, tr.cov) {
+		t.Errorf("a gamma fit of a sample with ȳ < 0 reported θ̂ = %v", theta)
 	}
 }
 
