@@ -294,10 +294,11 @@ type worker struct {
 	z       float64 // normal quantile of the Wald interval
 	theta   []float64
 	grad    []float64
-	covs    [][]float64     // per arm: the plug-in covariance of its θ̂
-	samples []family.Sample // per arm: the latest draw, read by its fitter
-	fitters []family.Fitter // per arm: this worker's own, with any buffers its fit keeps
-	dims    []int           // parameters per arm
+	covs    [][]float64              // per arm: the plug-in covariance of its θ̂
+	samples []family.Sample          // per arm: the latest draw, read by its fitter
+	fitters []family.Fitter          // per arm: this worker's own, with any buffers its fit keeps
+	causes  []family.FailureReporter // per arm: the fitter, when it names its failures; else nil
+	dims    []int                    // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
 	accs    []cellAcc
@@ -342,7 +343,10 @@ func newWorker(s *study.Study, res *Result) *worker {
 			maxN = max(maxN, size)
 			sampleLens[ai] = max(sampleLens[ai], a.Model.Sampler.SampleLen(size))
 		}
-		w.fitters = append(w.fitters, a.Model.Estimator.NewFitter(maxN))
+		f := a.Model.Estimator.NewFitter(maxN)
+		w.fitters = append(w.fitters, f)
+		r, _ := f.(family.FailureReporter)
+		w.causes = append(w.causes, r)
 		floats += k*k + sampleLens[ai]
 	}
 	buf := padded[float64](floats)
@@ -428,6 +432,7 @@ func (w *worker) runBlock(j job) {
 func (w *worker) replicate() {
 	s := w.s
 	fitted := true
+	cause := family.NotConverged // of the first arm whose fit failed
 	// Arms by pointer: an Arm is several words, and this runs per replicate.
 	for a := range s.Arms {
 		arm := &s.Arms[a]
@@ -436,6 +441,9 @@ func (w *worker) replicate() {
 		arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
 		off := arm.Offset
 		if !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a]) {
+			if fitted && w.causes[a] != nil {
+				cause = w.causes[a].LastFailure()
+			}
 			fitted = false
 		}
 	}
@@ -443,8 +451,7 @@ func (w *worker) replicate() {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
 		if !fitted {
-			acc.Undefined++
-			acc.FitFailures++
+			acc.failed(cause)
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)

@@ -36,6 +36,9 @@ type ArmInfo struct {
 	Family     string             `json:"family"`
 	Values     map[string]float64 `json:"values"`
 	Allocation float64            `json:"allocation"`
+	// Design describes a regression model's covariates and equations in
+	// words; empty for the other families.
+	Design string `json:"design,omitempty"`
 }
 
 // TransformInfo names one transform as run.
@@ -64,7 +67,11 @@ func (s *Study) Info() Info {
 		info.Overrides = append(info.Overrides, "replicates")
 	}
 	for _, a := range s.Arms {
-		info.Arms = append(info.Arms, ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation})
+		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
+		if a.Regression != nil {
+			ai.Design = a.Regression.Describe()
+		}
+		info.Arms = append(info.Arms, ai)
 	}
 	for _, t := range s.Transforms {
 		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr})
@@ -111,6 +118,9 @@ func (i Info) PerArm() bool {
 // Discrete reports whether any arm draws discrete data (counts).
 func (s *Study) Discrete() bool {
 	for _, a := range s.Arms {
+		if a.Regression != nil && a.Regression.Design.Discrete() {
+			return true
+		}
 		if f, ok := family.Lookup(a.Family); ok && f.Discrete {
 			return true
 		}

@@ -17,6 +17,7 @@ import (
 
 	"deltaprobe/sim/expr"
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/regress"
 )
 
 // Limits on what a study may ask for; beyond them a typo is more likely
@@ -98,6 +99,10 @@ type Arm struct {
 	Allocation float64            // arm size = ceil(n × Allocation)
 	Model      family.Model       // the family at Values with its estimator
 	Offset     int                // index of the arm's first parameter in θ
+	// Regression is the design of a regression [model], nil otherwise;
+	// Names are then its parameters' names (Values holds their truth).
+	Regression *regress.Model
+	Names      []string
 }
 
 // Transform is one function of θ whose delta-method interval is checked.
@@ -150,6 +155,9 @@ func (s *Study) ParamNames() []string {
 // Estimates names the arm's estimated parameters, in the order of its
 // part of θ: its family's Estimates.
 func (a *Arm) Estimates() []string {
+	if a.Regression != nil {
+		return a.Names
+	}
 	f, ok := family.Lookup(a.Family)
 	if !ok {
 		panic("study: an arm of the unregistered family " + a.Family)
@@ -454,7 +462,12 @@ func (d *decoder) arms(raw map[string]any, s *Study) {
 			d.fail("model", "model must be a table ([model]), got %s", typeName(modelRaw))
 			return
 		}
-		if a, ok := d.arm("model", m, false); ok {
+		if isRegression(m) {
+			a := Arm{Allocation: 1, Values: map[string]float64{}}
+			if d.regression("model", m, &a) {
+				s.Arms = []Arm{a}
+			}
+		} else if a, ok := d.arm("model", m, false); ok {
 			s.Arms = []Arm{a}
 		}
 	default:
@@ -519,9 +532,13 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 			}
 		}
 	}
+	if named && isRegression(m) {
+		d.fail(table, "regression models (%s, [[model.equation]]) go in [model], not in [[arm]] tables", strings.Join(regress.Names(), ", "))
+		return a, false
+	}
 	famRaw, given := m["family"]
 	if !given {
-		d.fail(table, "%s has no family: add family = \"...\"; accepted: %s", label, strings.Join(family.Names(), ", "))
+		d.fail(table, "%s has no family: add family = \"...\"; accepted: %s", label, strings.Join(append(family.Names(), regress.Names()...), ", "))
 		return a, false
 	}
 	famName, isStr := famRaw.(string)
@@ -531,7 +548,7 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 	}
 	fam, known := family.Lookup(famName)
 	if !known {
-		d.fail(join(table, "family"), "unknown family %q%s", famName, didYouMean(famName, family.Names()))
+		d.fail(join(table, "family"), "unknown family %q%s", famName, didYouMean(famName, append(family.Names(), regress.Names()...)))
 		return a, false
 	}
 	a.Family = famName
