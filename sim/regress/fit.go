@@ -39,6 +39,8 @@ type fitter struct {
 	step  []float64
 	trial []float64
 	lp    simplex
+	cnt   []float64 // rows per pattern, for a grouped equation
+	ysum  []float64 // their outcomes' sum
 	last  family.Failure
 	_     [pad]byte
 }
@@ -56,7 +58,7 @@ func (m *Model) NewFitter(maxN int) family.Fitter {
 			lpCols = max(lpCols, 2*maxN)
 		}
 	}
-	buf := make([]float64, 4*pmax*pmax+5*pmax)
+	buf := make([]float64, 4*pmax*pmax+5*pmax+2*m.patterns)
 	take := func(k int) []float64 {
 		s := buf[:k:k]
 		buf = buf[k:]
@@ -65,6 +67,7 @@ func (m *Model) NewFitter(maxN int) family.Fitter {
 	f := &fitter{m: m}
 	f.z, f.g, f.beta, f.step, f.trial = take(pmax), take(pmax), take(pmax), take(pmax), take(pmax)
 	f.h, f.h2, f.inv = take(pmax*pmax), take(pmax*pmax), take(pmax*pmax)
+	f.cnt, f.ysum = take(m.patterns), take(m.patterns)
 	if lpCols > 0 {
 		f.lp = newSimplex(pmax, lpCols)
 	}
@@ -124,7 +127,7 @@ func (f *fitter) design(q *eqn, row []float64) {
 // sqrt(RSS/n) with the residuals summed in a second pass. It leaves β̂
 // in f.beta, n·σ̂²(XᵀX)⁻¹ in f.inv and σ̂ in f.step[0].
 func (f *fitter) fitLinear(q *eqn, s *family.Sample) bool {
-	p, n, cols := q.p(), s.N, f.m.cols
+	p, n, cols := q.p(), s.N, f.m.stride
 	if n <= p {
 		f.last = family.Singular
 		return false
@@ -195,7 +198,10 @@ func mirror(h []float64, p int) {
 // evaluate computes, at f.trial, the log-likelihood (up to terms free of
 // β), the score into f.g and the information into f.h.
 func (f *fitter) evaluate(q *eqn, s *family.Sample, beta []float64) float64 {
-	p, n, cols := q.p(), s.N, f.m.cols
+	if q.grouped {
+		return f.evaluateGrouped(q, beta)
+	}
+	p, n, cols := q.p(), s.N, f.m.stride
 	h, g := f.h[:p*p], f.g[:p]
 	clear(h)
 	clear(g)
@@ -233,18 +239,79 @@ func (f *fitter) evaluate(q *eqn, s *family.Sample, beta []float64) float64 {
 	return ll
 }
 
+// evaluateGrouped is evaluate from the counts and outcome sums per
+// pattern (group): the same sums, each pattern's rows added at once.
+func (f *fitter) evaluateGrouped(q *eqn, beta []float64) float64 {
+	p := q.p()
+	h, g := f.h[:p*p], f.g[:p]
+	clear(h)
+	clear(g)
+	var ll float64
+	for k, c := range f.cnt {
+		if c == 0 {
+			continue
+		}
+		z := q.patZ[k*p : (k+1)*p]
+		eta := 0.0
+		for j := range z {
+			eta += beta[j] * z[j]
+		}
+		y := f.ysum[k]
+		var mu, w float64
+		if q.kind == Logistic {
+			e := math.Exp(-math.Abs(eta))
+			l1p := math.Log1p(e)
+			if eta >= 0 {
+				mu = 1 / (1 + e)
+				ll += y*eta - c*(eta+l1p)
+			} else {
+				mu = e / (1 + e)
+				ll += y*eta - c*l1p
+			}
+			w = mu * (1 - mu)
+		} else {
+			mu = math.Exp(eta)
+			w = mu
+			ll += y*eta - c*mu
+		}
+		accumulate(h, g, z, c*w, y-c*mu)
+	}
+	mirror(h, p)
+	return ll
+}
+
+// group sums a grouped equation's rows by pattern.
+func (f *fitter) group(q *eqn, s *family.Sample) {
+	clear(f.cnt)
+	clear(f.ysum)
+	stride, pcol := f.m.stride, f.m.cols
+	for i := 0; i < s.N; i++ {
+		row := s.Data[i*stride : (i+1)*stride]
+		k := int(row[pcol])
+		f.cnt[k]++
+		f.ysum[k] += row[q.out]
+	}
+}
+
 // fitGLM maximises a logistic or Poisson log-likelihood by Newton's
 // method with step halving, leaving β̂ in f.beta and n·I(β̂)⁻¹ in f.inv.
 func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
-	p, n, cols := q.p(), s.N, f.m.cols
+	p, n, cols := q.p(), s.N, f.m.stride
 	if n < p {
 		f.last = family.Singular
 		return false
 	}
 	// Start at the intercept-only fit.
 	var ybar float64
-	for i := 0; i < n; i++ {
-		ybar += s.Data[i*cols+q.out]
+	if q.grouped {
+		f.group(q, s)
+		for _, y := range f.ysum {
+			ybar += y
+		}
+	} else {
+		for i := 0; i < n; i++ {
+			ybar += s.Data[i*cols+q.out]
+		}
 	}
 	ybar /= float64(n)
 	beta := f.beta[:p]
@@ -337,12 +404,18 @@ func known(checked bool) existence {
 // rank, an MLE that does not exist (shown by the linear program, run
 // here unless it has run already), or, the MLE existing, no convergence.
 func (f *fitter) classify(q *eqn, s *family.Sample, mle existence) bool {
-	p, n, cols := q.p(), s.N, f.m.cols
+	p, n, cols := q.p(), s.N, f.m.stride
 	h2, g := f.h2[:p*p], f.g[:p]
 	clear(h2)
-	for i := 0; i < n; i++ {
-		f.design(q, s.Data[i*cols:(i+1)*cols])
-		accumulate(h2, g, f.z[:p], 1, 0)
+	if q.grouped {
+		for k, c := range f.cnt {
+			accumulate(h2, g, q.patZ[k*p:(k+1)*p], c, 0)
+		}
+	} else {
+		for i := 0; i < n; i++ {
+			f.design(q, s.Data[i*cols:(i+1)*cols])
+			accumulate(h2, g, f.z[:p], 1, 0)
+		}
 	}
 	mirror(h2, p)
 	switch {

@@ -18,6 +18,15 @@ type Model struct {
 	ncov   int // covariate columns; outcomes follow
 	cols   int // columns of a row: covariates, then one per equation
 	slots  int // scratch a derived covariate's program needs
+	stride int // floats per row: cols, and the pattern's number when grouped
+	// patterns is the number of covariate patterns when every covariate
+	// is discrete (levels, bernoulli, derived from them) and there are at
+	// most maxPatterns of them, else 0. A row's pattern is then its
+	// combination of levels, then its bernoulli bits: an equation whose
+	// terms are all covariates is fitted from the counts and outcome sums
+	// per pattern (the same MLE, in far fewer operations).
+	patterns int
+	patRows  [][]float64 // the covariate values of each pattern
 	truth  []float64
 	cov    []float64 // Σ(θ0), per observation, row-major
 	bias   []float64 // b(θ0), per observation
@@ -36,6 +45,12 @@ type eqn struct {
 	sd   float64   // Linear
 	off  int       // its first entry in θ
 	dim  int       // its entries in θ: len(beta), plus sd when Linear
+	// grouped: a logistic or Poisson equation on covariates only, in a
+	// model with patterns; patMean is then each pattern's true mean of
+	// the outcome, patZ its design vector (pattern-major, p each).
+	grouped bool
+	patMean []float64
+	patZ    []float64
 }
 
 // p is the number of coefficients, intercept included.
@@ -84,6 +99,8 @@ func New(d *Design) (*Model, error) {
 		column[e.Outcome] = m.ncov + ei
 	}
 	m.truth = d.Truth()
+	m.stride = m.cols
+	m.setPatterns()
 	if err := m.expectations(); err != nil {
 		return nil, err
 	}
@@ -99,9 +116,10 @@ func (m *Model) Model() family.Model {
 func (m *Model) Dim() int { return len(m.truth) }
 
 // SampleLen is n rows of Design's columns (covariates in order, then
-// each equation's outcome), row after row, and the scratch the derived
+// each equation's outcome, then, for a design of patterns, the row's
+// pattern number), row after row, and the scratch the derived
 // covariates' programs need after them.
-func (m *Model) SampleLen(n int) int { return n*m.cols + m.slots }
+func (m *Model) SampleLen(n int) int { return n*m.stride + m.slots }
 
 // Draw draws n rows. Levels covariates are assigned in turn, as one
 // factorial design: row i takes the first levels covariate's value
@@ -109,13 +127,15 @@ func (m *Model) SampleLen(n int) int { return n*m.cols + m.slots }
 // combination appears n/(k₁k₂…) times when n is a multiple of that.
 func (m *Model) Draw(rng *rand.Rand, n int, s *Sample) {
 	s.N = n
-	cols := m.cols
-	data := s.Data[:n*cols]
-	scratch := s.Data[n*cols : n*cols+m.slots]
+	stride := m.stride
+	data := s.Data[:n*stride]
+	scratch := s.Data[n*stride : n*stride+m.slots]
 	cs := m.Design.Covariates
+	combos := levelCombinations(cs)
 	for i := 0; i < n; i++ {
-		row := data[i*cols : (i+1)*cols]
+		row := data[i*stride : (i+1)*stride]
 		idx := i
+		pattern, bit := i%combos, combos
 		for c := range cs {
 			cv := &cs[c]
 			switch cv.Dist {
@@ -127,7 +147,9 @@ func (m *Model) Draw(rng *rand.Rand, n int, s *Sample) {
 				row[c] = 0
 				if rng.Float64() < cv.P {
 					row[c] = 1
+					pattern += bit
 				}
+				bit *= 2
 			case Normal:
 				row[c] = cv.Mean + cv.SD*rng.NormFloat64()
 			case Uniform:
@@ -136,8 +158,23 @@ func (m *Model) Draw(rng *rand.Rand, n int, s *Sample) {
 				row[c] = cv.Program.ValueWith(row[:c], scratch)
 			}
 		}
+		if m.patterns > 0 {
+			row[m.cols] = float64(pattern)
+		}
 		for e := range m.eqs {
 			q := &m.eqs[e]
+			if q.grouped {
+				mu := q.patMean[pattern]
+				if q.kind == Logistic {
+					row[q.out] = 0
+					if rng.Float64() < mu {
+						row[q.out] = 1
+					}
+				} else {
+					row[q.out] = drawPoisson(rng, mu)
+				}
+				continue
+			}
 			eta := q.eta(row)
 			switch q.kind {
 			case Logistic:
@@ -252,4 +289,75 @@ func (m *Model) Describe() string {
 		s += "; expected information exact (averages over the levels and binary values)"
 	}
 	return s
+}
+
+// maxPatterns bounds the covariate patterns a grouped fit keeps.
+const maxPatterns = 4096
+
+// setPatterns enumerates the covariate patterns of a discrete design and
+// marks the equations fitted from them.
+func (m *Model) setPatterns() {
+	cs := m.Design.Covariates
+	count := levelCombinations(cs)
+	for _, c := range cs {
+		switch c.Dist {
+		case Bernoulli:
+			count *= 2
+		case Normal, Uniform:
+			return
+		}
+		if count > maxPatterns {
+			return
+		}
+	}
+	m.patterns = count
+	m.stride = m.cols + 1
+	combos := levelCombinations(cs)
+	scratch := make([]float64, m.slots)
+	for pattern := 0; pattern < count; pattern++ {
+		row := make([]float64, m.cols)
+		idx, bits := pattern%combos, pattern/combos
+		for c := range cs {
+			cv := &cs[c]
+			switch cv.Dist {
+			case Levels:
+				k := len(cv.Values)
+				row[c] = cv.Values[idx%k]
+				idx /= k
+			case Bernoulli:
+				row[c] = float64(bits % 2)
+				bits /= 2
+			case Derived:
+				row[c] = cv.Program.ValueWith(row[:c], scratch)
+			}
+		}
+		m.patRows = append(m.patRows, row[:m.ncov])
+	}
+	for e := range m.eqs {
+		q := &m.eqs[e]
+		if q.kind == Linear {
+			continue
+		}
+		q.grouped = true
+		for _, c := range q.cols {
+			q.grouped = q.grouped && c < m.ncov
+		}
+		if !q.grouped {
+			continue
+		}
+		row := make([]float64, m.cols)
+		for _, pr := range m.patRows {
+			copy(row, pr)
+			eta := q.eta(row)
+			mu := math.Exp(eta)
+			if q.kind == Logistic {
+				mu = expit(eta)
+			}
+			q.patMean = append(q.patMean, mu)
+			q.patZ = append(q.patZ, 1)
+			for _, c := range q.cols {
+				q.patZ = append(q.patZ, row[c])
+			}
+		}
+	}
 }

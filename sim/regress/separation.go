@@ -26,9 +26,34 @@ import (
 // exists reports whether the MLE of equation q exists for sample s (the
 // design having full column rank).
 func (f *fitter) exists(q *eqn, s *family.Sample) bool {
-	p, n, cols := q.p(), s.N, f.m.cols
+	p, n, cols := q.p(), s.N, f.m.stride
 	lp := &f.lp
 	lp.reset(p)
+	if q.grouped {
+		// Identical rows are one column: a positive weight on the column
+		// spreads over its rows.
+		for k, c := range f.cnt {
+			if c == 0 {
+				continue
+			}
+			z, y := q.patZ[k*p:(k+1)*p], f.ysum[k]
+			switch {
+			case q.kind == Logistic:
+				if y > 0 {
+					lp.add(z, 1)
+				}
+				if y < c {
+					lp.add(z, -1)
+				}
+			case y > 0:
+				lp.add(z, 1)
+				lp.add(z, -1)
+			default:
+				lp.add(z, -1)
+			}
+		}
+		return lp.feasible()
+	}
 	for i := 0; i < n; i++ {
 		row := s.Data[i*cols : (i+1)*cols]
 		f.design(q, row)
