@@ -370,6 +370,9 @@ func describeModel(arms []study.ArmInfo) string {
 			vals[i] = k + " = " + strconv.FormatFloat(a.Values[k], 'g', -1, 64)
 		}
 		s := a.Family + " (" + strings.Join(vals, ", ") + ")"
+		if a.Design != "" {
+			s = regressionText(a)
+		}
 		if a.Name != "" {
 			s = a.Name + ": " + s
 			if a.Allocation != 1 {

@@ -163,4 +163,9 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	if note := armSizesNote(st, exampleN(st, 0)); note != "" {
 		wrap(w, "", note+" N: the total at each n.")
 	}
+	for _, a := range st.Arms {
+		if a.Design != "" {
+			wrap(w, "", regressionText(a)+".")
+		}
+	}
 }

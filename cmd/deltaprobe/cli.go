@@ -18,6 +18,7 @@ import (
 	"deltaprobe/report"
 	"deltaprobe/sim/family"
 	"deltaprobe/sim/plan"
+	"deltaprobe/sim/regress"
 	"deltaprobe/sim/runner"
 	"deltaprobe/sim/study"
 )
@@ -532,6 +533,21 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stdout, "    %-8s %s\n", p.Name, p.Accepts)
 		}
 		fmt.Fprintf(stdout, "    estimates: %s\n", strings.Join(f.Estimates, ", "))
+		fmt.Fprintf(stdout, "    estimator: %s\n\n", f.Estimator)
+	}
+	fmt.Fprintln(stdout, "Regression families, in [model] with [[model.covariate]] tables (distribution = levels, bernoulli, normal, uniform, or expr = ... derived from covariates above), or as [[model.equation]] tables of a chain (parameters then OUTCOME.COEF):")
+	fmt.Fprintln(stdout)
+	for _, f := range regress.Families {
+		fmt.Fprintf(stdout, "%s — %s\n", f.Name, f.Summary)
+		fmt.Fprintf(stdout, "    %-12s %s\n", "coefficients", "a table of numbers: intercept (required) and one per covariate or earlier outcome")
+		if f.Kind == regress.Linear {
+			fmt.Fprintf(stdout, "    %-12s %s\n", "sd", "a number > 0, the error sd")
+		}
+		est := "intercept, each coefficient"
+		if f.Kind == regress.Linear {
+			est += ", sd"
+		}
+		fmt.Fprintf(stdout, "    estimates: %s\n", est)
 		fmt.Fprintf(stdout, "    estimator: %s\n\n", f.Estimator)
 	}
 	return exitOK

@@ -27,9 +27,9 @@ type Model struct {
 	// per pattern (the same MLE, in far fewer operations).
 	patterns int
 	patRows  [][]float64 // the covariate values of each pattern
-	truth  []float64
-	cov    []float64 // Σ(θ0), per observation, row-major
-	bias   []float64 // b(θ0), per observation
+	truth    []float64
+	cov      []float64 // Σ(θ0), per observation, row-major
+	bias     []float64 // b(θ0), per observation
 	// Nodes is the number of quadrature nodes per continuous dimension
 	// the expected information was accepted at (0: no continuous
 	// dimension, the averages are exact sums).

@@ -198,7 +198,13 @@ func (d *Design) Describe() string {
 	if len(d.Covariates) == 0 {
 		s = "no covariates"
 	}
-	if levelCombinations(d.Covariates) > 1 {
+	levels := 0
+	for _, c := range d.Covariates {
+		if c.Dist == Levels {
+			levels++
+		}
+	}
+	if levels > 1 {
 		s += fmt.Sprintf(" (the %d combinations of levels cycle in turn, the first covariate fastest)", levelCombinations(d.Covariates))
 	}
 	return s + "; " + strings.Join(eqs, "; ")
