@@ -6,16 +6,17 @@ import (
 	"deltaprobe/sim/family"
 )
 
-// Newton's method settings. A step is accepted as converged when no
-// coefficient moves by more than stepTol·max(1, |β|): Newton converges
-// quadratically to an MLE that exists, so its steps shrink to nothing,
+// Newton's method settings. The fit stops after a step that moves no
+// coefficient by more than stepTol·max(1, |β|): Newton converges
+// quadratically to an MLE that exists, so the error left after such a
+// step is of order stepTol² (about 1e-14), and its steps shrink to nothing,
 // while under separation they stay of order one for ever (the
 // log-likelihood creeps to its supremum along a direction). That is a
 // symptom only; the proof either way is the linear program (separation.go),
 // run when the steps have not settled after lpAfter iterations or the
 // information cannot be factorised.
 const (
-	stepTol  = 1e-10
+	stepTol  = 1e-7
 	maxIter  = 60
 	lpAfter  = 6
 	pivotTol = 1e-13 // a Cholesky pivot below this share of its diagonal entry counts as 0
@@ -195,17 +196,17 @@ func mirror(h []float64, p int) {
 	}
 }
 
-// evaluate computes, at f.trial, the log-likelihood (up to terms free of
-// β), the score into f.g and the information into f.h.
-func (f *fitter) evaluate(q *eqn, s *family.Sample, beta []float64) float64 {
+// evaluate computes, at beta, the score into f.g and the information
+// into f.h.
+func (f *fitter) evaluate(q *eqn, s *family.Sample, beta []float64) {
 	if q.grouped {
-		return f.evaluateGrouped(q, beta)
+		f.evaluateGrouped(q, beta)
+		return
 	}
 	p, n, cols := q.p(), s.N, f.m.stride
 	h, g := f.h[:p*p], f.g[:p]
 	clear(h)
 	clear(g)
-	var ll float64
 	for i := 0; i < n; i++ {
 		row := s.Data[i*cols : (i+1)*cols]
 		f.design(q, row)
@@ -214,39 +215,59 @@ func (f *fitter) evaluate(q *eqn, s *family.Sample, beta []float64) float64 {
 		for j := range z {
 			eta += beta[j] * z[j]
 		}
-		y := row[q.out]
 		var mu, w float64
 		if q.kind == Logistic {
-			// log(1 + e^η) and expit(η) from one exponential.
-			e := math.Exp(-math.Abs(eta))
-			l1p := math.Log1p(e)
-			if eta >= 0 {
-				mu = 1 / (1 + e)
-				ll += y*eta - eta - l1p
-			} else {
-				mu = e / (1 + e)
-				ll += y*eta - l1p
-			}
+			mu = expit(eta)
 			w = mu * (1 - mu)
 		} else {
 			mu = math.Exp(eta)
 			w = mu
-			ll += y*eta - mu
 		}
-		accumulate(h, g, z, w, y-mu)
+		accumulate(h, g, z, w, row[q.out]-mu)
 	}
 	mirror(h, p)
+}
+
+// logLik is the log-likelihood at beta, up to terms free of β.
+func (f *fitter) logLik(q *eqn, s *family.Sample, beta []float64) float64 {
+	p := q.p()
+	var ll float64
+	term := func(z []float64, y, count float64) {
+		eta := 0.0
+		for j := range z {
+			eta += beta[j] * z[j]
+		}
+		if q.kind == Logistic {
+			// log(1 + e^η) = max(η, 0) + log1p(e^(−|η|)).
+			ll += y*eta - count*(math.Max(eta, 0)+math.Log1p(math.Exp(-math.Abs(eta))))
+		} else {
+			ll += y*eta - count*math.Exp(eta)
+		}
+	}
+	if q.grouped {
+		for k, c := range f.cnt {
+			if c > 0 {
+				term(q.patZ[k*p:(k+1)*p], f.ysum[k], c)
+			}
+		}
+		return ll
+	}
+	stride := f.m.stride
+	for i := 0; i < s.N; i++ {
+		row := s.Data[i*stride : (i+1)*stride]
+		f.design(q, row)
+		term(f.z[:p], row[q.out], 1)
+	}
 	return ll
 }
 
 // evaluateGrouped is evaluate from the counts and outcome sums per
 // pattern (group): the same sums, each pattern's rows added at once.
-func (f *fitter) evaluateGrouped(q *eqn, beta []float64) float64 {
+func (f *fitter) evaluateGrouped(q *eqn, beta []float64) {
 	p := q.p()
 	h, g := f.h[:p*p], f.g[:p]
 	clear(h)
 	clear(g)
-	var ll float64
 	for k, c := range f.cnt {
 		if c == 0 {
 			continue
@@ -256,28 +277,17 @@ func (f *fitter) evaluateGrouped(q *eqn, beta []float64) float64 {
 		for j := range z {
 			eta += beta[j] * z[j]
 		}
-		y := f.ysum[k]
 		var mu, w float64
 		if q.kind == Logistic {
-			e := math.Exp(-math.Abs(eta))
-			l1p := math.Log1p(e)
-			if eta >= 0 {
-				mu = 1 / (1 + e)
-				ll += y*eta - c*(eta+l1p)
-			} else {
-				mu = e / (1 + e)
-				ll += y*eta - c*l1p
-			}
+			mu = expit(eta)
 			w = mu * (1 - mu)
 		} else {
 			mu = math.Exp(eta)
 			w = mu
-			ll += y*eta - c*mu
 		}
-		accumulate(h, g, z, c*w, y-c*mu)
+		accumulate(h, g, z, c*w, f.ysum[k]-c*mu)
 	}
 	mirror(h, p)
-	return ll
 }
 
 // group sums a grouped equation's rows by pattern.
@@ -301,7 +311,6 @@ func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
 		f.last = family.Singular
 		return false
 	}
-	// Start at the intercept-only fit.
 	var ybar float64
 	if q.grouped {
 		f.group(q, s)
@@ -320,15 +329,15 @@ func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
 	case q.kind == Poisson && ybar == 0:
 		f.last = family.ZeroCounts
 		return false
-	case q.kind == Poisson:
-		beta[0] = math.Log(ybar)
-	case ybar == 0 || ybar == 1:
+	case q.kind == Logistic && (ybar == 0 || ybar == 1):
 		f.last = family.Separation // every outcome alike: the intercept runs off
 		return false
-	default:
-		beta[0] = math.Log(ybar / (1 - ybar))
 	}
-	ll := f.evaluate(q, s, beta)
+	// Start at the true coefficients: the log-likelihood is concave, so
+	// the MLE, where it exists, is the same from any start, and from the
+	// truth, O(1/√n) away, Newton needs the fewest steps.
+	copy(beta, q.beta)
+	f.evaluate(q, s, beta)
 	checked := false // the linear program has shown that the MLE exists
 	step, trial := f.step[:p], f.trial[:p]
 	for it := 0; it < maxIter; it++ {
@@ -360,15 +369,30 @@ func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
 			}
 			checked = true
 		}
-		// Halve the step until the log-likelihood does not fall.
+		// Halve the step until the log-likelihood does not fall. It is
+		// concave, so along the step φ(t) = ℓ(β + t·δ) has a falling
+		// derivative: when φ'(1) = g(β + δ)ᵀδ ≥ 0, φ rose all the way and
+		// the step is taken without computing ℓ (a logarithm a row);
+		// only otherwise are the two log-likelihoods compared.
 		accepted := false
+		llOld := math.NaN()
 		for half := 0; half < 40; half++ {
 			for j := range trial {
 				trial[j] = beta[j] + step[j]
 			}
-			llNew := f.evaluate(q, s, trial)
-			if llNew >= ll-1e-12*math.Abs(ll) {
-				ll = llNew
+			f.evaluate(q, s, trial)
+			var slope float64
+			for j := range step {
+				slope += f.g[j] * step[j]
+			}
+			if slope >= 0 {
+				accepted = true
+				break
+			}
+			if math.IsNaN(llOld) {
+				llOld = f.logLik(q, s, beta)
+			}
+			if llNew := f.logLik(q, s, trial); llNew >= llOld-1e-12*math.Abs(llOld) {
 				accepted = true
 				break
 			}
