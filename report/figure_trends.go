@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -38,6 +39,9 @@ type trendAxes struct {
 	criteria study.Criteria
 	level    float64
 	xlabel   string
+	// pluginLabel names the plug-in series of the variance panel; empty
+	// means "mean plug-in / simulated".
+	pluginLabel string
 }
 
 func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
@@ -207,7 +211,11 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 		}
 		return r.Get(measure.PluginRatio) * end / r.Get(measure.VarRatio)
 	}
-	plugin := series{label: "mean plug-in / simulated", x: xs(rows, a.dodge), style: 1,
+	label := a.pluginLabel
+	if label == "" {
+		label = "mean plug-in / simulated"
+	}
+	plugin := series{label: label, x: xs(rows, a.dodge), style: 1,
 		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.PluginRatio) }),
 		lo: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).Low) }),
 		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).High) }),
@@ -219,6 +227,25 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 	legend = append(legend, legendItem{label: "accepted " + fmtBand(c), thumbs: []plot.Thumbnailer{band}})
 	a.finish(p, math.NaN())
 	return panel{title: "Variance: delta method against simulation", plot: p, legend: legend}, nil
+}
+
+// powerPanel sets the simulated rejection rate of the test of the null,
+// with the Wilson interval the power criterion uses, beside the rate the
+// delta method predicts and the target.
+func (a trendAxes) powerPanel(rows []measure.Row) (panel, error) {
+	p := a.newPanel("rejection rate (proportion)")
+	target := hLine{at: a.criteria.PowerTarget(), style: refStyle}
+	p.Add(target)
+	legend := []legendItem{}
+	sim := checkedSeries("simulated", rows, measure.PowerCheck)
+	pred := series{label: "delta-method prediction", x: xs(rows, a.dodge), style: 1,
+		y: column(rows, func(r measure.Row) float64 { return r.Get(measure.RejectDelta) })}
+	if err := addSeries(p, &legend, sim, pred); err != nil {
+		return panel{}, err
+	}
+	legend = append(legend, legendItem{label: "target " + fmtG(a.criteria.PowerTarget()), thumbs: []plot.Thumbnailer{target}})
+	a.finish(p, 0)
+	return panel{title: "Power: rejections of the null", plot: p, legend: legend}, nil
 }
 
 func (a trendAxes) coveragePanel(rows []measure.Row) (panel, error) {
@@ -327,14 +354,20 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 // trendsFigure draws the trends figure of transform t with enc.
 func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
+	a.pluginLabel = pluginLabel(r.Study, t)
 	var panels []panel
-	for _, mk := range []func() (panel, error){
+	makers := []func() (panel, error){
 		func() (panel, error) { return a.variancePanel(rows) },
 		func() (panel, error) { return a.coveragePanel(rows) },
 		func() (panel, error) { return a.biasPanel(rows) },
 		func() (panel, error) { return a.missPanel(rows) },
 		func() (panel, error) { return a.ksPanel(r, t, rows) },
-	} {
+	}
+	tested := r.Study.Transforms[t].Null != nil
+	if tested {
+		makers = append(makers[:2], append([]func() (panel, error){func() (panel, error) { return a.powerPanel(rows) }}, makers[2:]...)...)
+	}
+	for _, mk := range makers {
 		pn, err := mk()
 		if err != nil {
 			return nil, 0, 0, err
@@ -345,18 +378,38 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	title := figureTitle(info, "")
 	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
 		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
+	if customRecipe(r.Study) {
+		sub = fmt.Sprintf("Delta method against %d simulated replicates per n; intervals at level %s: %s. %s",
+			r.Study.Replicates, fmtG(r.Study.Level), recipeWords(r.Study, t), verdictPhrase(v))
+	}
 	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
 		sub += " " + note
 	}
+	if short := fitShort(r.Study, t); short != "" {
+		sub += " " + short
+	}
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
+	if readsMisfit(r.Study, t) {
+		key = append(key, "The fit differs from the data model: truth is the transform at θ*, the pseudo-true parameter, and the delta method uses the sandwich variance at θ*.")
+	}
 	// A subtitle too long for one line wraps, and the figure grows by
 	// the lines it adds, in whole pixels, so the panels keep their room.
 	head := wrappedHeading(title, sub)
-	height := trendsHeight + head.height() - oneLineHeading(title, sub).height()
+	rowsOfPanels, base := 3, trendsHeight
+	if tested {
+		rowsOfPanels, base = 4, trendsHeight*3/2
+	}
+	height := base + head.height() - oneLineHeading(title, sub).height()
 	height = vg.Length(math.Ceil(float64(height.Dots(figDPI)))) / figDPI * vg.Inch
 	return encodeSized(enc, height, func(dc draw.Canvas) {
-		grid := runPanelGrid(panelRows(panels, 3, 2))
-		grid.extra = func(c draw.Canvas) { drawKey(c, key) }
+		grid := runPanelGrid(panelRows(panels, rowsOfPanels, 2))
+		keyDrawn := false // in the first empty slot only
+		grid.extra = func(c draw.Canvas) {
+			if !keyDrawn {
+				drawKey(c, key)
+				keyDrawn = true
+			}
+		}
 		grid.draw(head.draw(dc))
 	})
 }
@@ -394,11 +447,25 @@ func trendsKey(rows []measure.Row, v measure.TransformVerdict, d measure.Decisio
 			"A criterion passes at n when its bar lies inside the grey band, fails when the bar lies wholly outside it, and is unclear otherwise.",
 		"Only variance, coverage and bias decide the verdict; the one-sided misses and the KS distance help to see why.",
 	}
+	if len(rows) > 0 && !slices.Equal(decidingNames(rows[0]), []string{"coverage", "variance", "bias"}) {
+		paras[1] = "Only " + criteriaInWords(rows[0]) + " decide the verdict (the study's decide list); the other panels help to see why."
+	}
 	if v.SmallestN > 0 {
 		paras = append(paras, fmt.Sprintf("The dash-dot line marks n = %d, the smallest n from which every criterion passes at that n and every larger n of the grid.", v.SmallestN))
 	}
 	paras = append(paras, "Verdict by n: "+verdictRuns(rows)+".")
 	return paras
+}
+
+// decidingNames names the criteria that decide row r, in table order.
+func decidingNames(r measure.Row) []string {
+	var names []string
+	for _, c := range measure.Criteria() {
+		if !r.Check(c).Advisory {
+			names = append(names, c.Name)
+		}
+	}
+	return names
 }
 
 // verdictRuns condenses the verdicts by n into runs, "5–10 fail; 20–160 pass".
@@ -442,6 +509,10 @@ func fmtBand(b [2]float64) string { return fmtG(b[0]) + "–" + fmtG(b[1]) }
 
 func trendsAlt(r *runner.Result, t int, v measure.TransformVerdict) string {
 	info := r.Study.Transforms[t]
+	if info.Null != nil {
+		return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, rejection rate of the test of %s = %s against the delta method's prediction, standardised bias, one-sided miss rates and KS distance, each with its accepted band or target. %s",
+			info.Name, info.Name, fmtG(*info.Null), verdictPhrase(v))
+	}
 	return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, standardised bias, one-sided miss rates and KS distance, each with its accepted band. %s",
 		info.Name, verdictPhrase(v))
 }

@@ -54,7 +54,7 @@ usage:
                                     (DIR/result.json) or a plan folder (DIR/plan.json)
 
 -figures writes each figure as PNG (the default), SVG and/or PDF, e.g. -figures png,pdf.
-  deltaprobe families               the data-generating families and their estimators
+  deltaprobe families               the families: parameters, estimators, which data each fit accepts
   deltaprobe version
 
 Run "deltaprobe COMMAND -h" for a command's flags.
@@ -530,12 +530,25 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 	for _, f := range family.All() {
 		fmt.Fprintf(stdout, "%s — %s\n", f.Name, f.Summary)
 		for _, p := range f.Params {
-			fmt.Fprintf(stdout, "    %-8s %s\n", p.Name, p.Accepts)
+			fmt.Fprintf(stdout, "    %-10s %s\n", p.Name, p.Accepts)
+		}
+		fmt.Fprintf(stdout, "    data:      %s\n", f.Support)
+		if !f.Fittable() {
+			fmt.Fprintf(stdout, "    fit:       data only, cannot be fitted; fit it with %s\n\n", strings.Join(f.FitsFor(), " or "))
+			continue
 		}
 		fmt.Fprintf(stdout, "    estimates: %s\n", strings.Join(f.Estimates, ", "))
-		fmt.Fprintf(stdout, "    estimator: %s\n\n", f.Estimator)
+		fmt.Fprintf(stdout, "    estimator: %s\n", f.Estimator)
+		fmt.Fprintf(stdout, "    fits data: %s\n", strings.Join(f.FitsData(), ", "))
+		variances := "model (inverse observed information)"
+		if f.Robust() {
+			variances += ", robust (sandwich)"
+		}
+		fmt.Fprintf(stdout, "    variance:  %s\n\n", variances)
 	}
-	fmt.Fprintln(stdout, "Regression families, in [model] with [[model.covariate]] tables (distribution = levels, bernoulli, normal, uniform, or expr = ... derived from covariates above), or as [[model.equation]] tables of a chain (parameters then OUTCOME.COEF):")
+	fmt.Fprintln(stdout, "A study draws from family and fits fit (default: the same family); θ holds the fitted family's estimates.")
+	fmt.Fprintln(stdout)
+	fmt.Fprintln(stdout, "Regression families, in [model] with [[model.covariate]] tables (distribution = levels, bernoulli, normal, uniform, or expr = ... derived from covariates above), or as [[model.equation]] tables of a chain (parameters then OUTCOME.COEF); n counts rows:")
 	fmt.Fprintln(stdout)
 	for _, f := range regress.Families {
 		fmt.Fprintf(stdout, "%s — %s\n", f.Name, f.Summary)
@@ -548,7 +561,8 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 			est += ", sd"
 		}
 		fmt.Fprintf(stdout, "    estimates: %s\n", est)
-		fmt.Fprintf(stdout, "    estimator: %s\n\n", f.Estimator)
+		fmt.Fprintf(stdout, "    estimator: %s\n", f.Estimator)
+		fmt.Fprintf(stdout, "    variance:  model (inverse information)\n\n")
 	}
 	return exitOK
 }

@@ -291,8 +291,11 @@ type worker struct {
 	rng     rand.Rand // draws from pcg
 	s       *study.Study
 	res     *Result
-	z       float64 // normal quantile of the Wald interval
-	theta   []float64
+	q       float64   // the interval's quantile at the block's n
+	qs      []float64 // the quantile at each n of the grid, computed once
+	theta   []float64 // θ̂, the first Dim() entries of sized
+	sized   []float64 // θ̂ then the sizes (study.SizeNames): what se expressions read
+	armN    []float64 // per arm: the observations its covariance is divided by
 	grad    []float64
 	covs    [][]float64              // per arm: the plug-in covariance of its θ̂
 	samples []family.Sample          // per arm: the latest draw, read by its fitter
@@ -301,8 +304,12 @@ type worker struct {
 	dims    []int                    // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
+	seEvals []*expr.Evaluator      // per transform: the analyst's se, or nil
+	halves  []family.HalfCorrector // per arm: the zero-cell correction, or nil
+	addHalf bool                   // [interval] zero_cells = "add_half"
 	accs    []cellAcc
 	useArm  [][]bool // [transform][arm]: whether the transform reads the arm
+	failed  []bool   // per arm: its fit failed in this replicate
 	rep     int      // replicate within the block, for panic reports
 	stage   int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
 	_       [pad]byte
@@ -316,8 +323,11 @@ type worker struct {
 // division; the sweep is a few independent multiply-adds per value.
 type cellAcc struct {
 	truth, sdDelta float64
+	null           float64 // H0's value, when hasNull
+	hasNull        bool
 	Counts         // the block's tallies; Replicates is set when it is flushed
 	pluginSum      float64
+	widthSum       float64
 	vals           []float64 // estimates not yet in mom
 	mom            Moments
 	delta, wald    Histogram
@@ -326,13 +336,17 @@ type cellAcc struct {
 func newWorker(s *study.Study, res *Result) *worker {
 	w := &worker{s: s, res: res}
 	w.rng = *rand.New(&w.pcg)
-	w.z = math.Sqrt2 * math.Erfinv(s.Level)
+	for _, n := range s.SampleSizes {
+		w.qs = append(w.qs, s.Quantile(n))
+	}
 	w.sizes = make([]int, len(s.Arms))
+	w.addHalf = s.Interval.AddHalf()
 	// θ̂, the gradient, the arms' covariances and their samples' data,
 	// written per replicate, share one padded array; the samples'
 	// headers, whose N is written per replicate, get one of their own.
 	d := s.Dim()
-	floats := d + d
+	ns := len(s.SizeNames())
+	floats := d + ns + d + len(s.Arms)
 	sampleLens := make([]int, len(s.Arms))
 	for ai, a := range s.Arms {
 		k := len(a.Model.Truth)
@@ -347,16 +361,21 @@ func newWorker(s *study.Study, res *Result) *worker {
 		w.fitters = append(w.fitters, f)
 		r, _ := f.(family.FailureReporter)
 		w.causes = append(w.causes, r)
+		hc, _ := a.Model.Estimator.(family.HalfCorrector)
+		w.halves = append(w.halves, hc)
 		floats += k*k + sampleLens[ai]
 	}
 	buf := padded[float64](floats)
-	w.theta, buf = buf[:d:d], buf[d:]
+	w.sized, buf = buf[:d+ns:d+ns], buf[d+ns:]
+	w.theta = w.sized[:d:d]
+	w.armN, buf = buf[:len(s.Arms):len(s.Arms)], buf[len(s.Arms):]
 	w.grad, buf = buf[:d:d], buf[d:]
 	for _, k := range w.dims {
 		w.covs = append(w.covs, buf[:k*k:k*k])
 		buf = buf[k*k:]
 	}
 	w.samples = padded[family.Sample](len(s.Arms))
+	w.failed = padded[bool](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
 		buf = buf[l:]
@@ -364,6 +383,11 @@ func newWorker(s *study.Study, res *Result) *worker {
 	w.accs = padded[cellAcc](len(s.Transforms))
 	for ti, t := range s.Transforms {
 		w.evals = append(w.evals, t.Program.NewEvaluator())
+		var se *expr.Evaluator
+		if t.SEProgram != nil {
+			se = t.SEProgram.NewEvaluator()
+		}
+		w.seEvals = append(w.seEvals, se)
 		w.accs[ti] = cellAcc{vals: padded[float64](BlockSize)[:0], delta: newHistogram(), wald: newHistogram()}
 		use := make([]bool, len(s.Arms))
 		for ai, a := range s.Arms {
@@ -410,11 +434,17 @@ func (w *worker) runBlock(j job) {
 	w.pcg.Seed(s1, s2)
 	for a := range s.Arms {
 		w.sizes[a] = s.ArmSize(a, n)
+		w.armN[a] = float64(w.sizes[a])
 	}
+	study.SetSizes(w.sized[len(w.theta):], n, w.sizes, len(w.sized)-len(w.theta) > 1)
+	w.q = w.qs[j.ni]
 	for t := range w.accs {
 		acc := &w.accs[t]
 		p := w.res.Predictions[t][j.ni]
 		*acc = cellAcc{truth: p.Truth, sdDelta: math.Sqrt(p.DeltaVar), vals: acc.vals[:0], delta: acc.delta, wald: acc.wald}
+		if null := s.Transforms[t].Null; null != nil {
+			acc.null, acc.hasNull = *null, true
+		}
 		acc.delta.reset()
 		acc.wald.reset()
 	}
@@ -431,47 +461,114 @@ func (w *worker) runBlock(j job) {
 // replicate draws every arm, fits it, and scores every transform.
 func (w *worker) replicate() {
 	s := w.s
-	fitted := true
-	cause := family.NotConverged // of the first arm whose fit failed
-	// Arms by pointer: an Arm is several words, and this runs per replicate.
-	for a := range s.Arms {
-		arm := &s.Arms[a]
-		w.stage = a
-		sample := &w.samples[a]
-		arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
-		off := arm.Offset
-		if !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a]) {
-			if fitted && w.causes[a] != nil {
-				cause = w.causes[a].LastFailure()
-			}
-			fitted = false
+	anyFailed := false
+	if w.addHalf {
+		anyFailed = w.drawAndFitHalf()
+	} else {
+		// Arms by pointer: an Arm is several words, and this runs per replicate.
+		for a := range s.Arms {
+			arm := &s.Arms[a]
+			w.stage = a
+			sample := &w.samples[a]
+			arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
+			off := arm.Offset
+			w.failed[a] = !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
+			anyFailed = anyFailed || w.failed[a]
 		}
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
-		if !fitted {
-			acc.failed(cause)
+		use := w.useArm[t]
+		if anyFailed && w.readsFailed(use) {
+			// A transform is undefined when an arm it reads has no fit;
+			// arms it does not read leave it alone.
+			acc.failed(w.causeOf(use))
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
 		var pv float64
-		use := w.useArm[t]
 		for a := range s.Arms {
 			if !use[a] {
 				continue
 			}
 			off, k := s.Arms[a].Offset, w.dims[a]
-			pv += study.QuadForm(w.grad[off:off+k], w.covs[a]) / float64(w.sizes[a])
+			pv += study.QuadForm(w.grad[off:off+k], w.covs[a]) / w.armN[a]
 		}
-		acc.add(v, pv, w.z)
+		if e := w.seEvals[t]; e != nil {
+			// The analyst's standard error replaces the plug-in one; a
+			// negative or NaN value leaves pv undefined below.
+			se := e.Value(w.sized)
+			pv = se * se
+			if !(se >= 0) {
+				pv = math.NaN()
+			}
+		}
+		acc.add(v, pv, w.q)
 	}
 }
 
-// add scores one replicate's estimate v and plug-in variance pv.
-func (acc *cellAcc) add(v, pv, z float64) {
+// drawAndFitHalf draws every arm, then fits each, correcting every
+// correctable arm by adding ½ to its cells when any of them is at its
+// boundary (family.HalfCorrector); it marks each arm whose fit has no
+// value in w.failed and reports whether any has none.
+func (w *worker) drawAndFitHalf() (anyFailed bool) {
+	s := w.s
+	boundary := false
+	for a := range s.Arms {
+		w.stage = a
+		s.Arms[a].Model.Sampler.Draw(&w.rng, w.sizes[a], &w.samples[a])
+		if h := w.halves[a]; h != nil && h.AtBoundary(&w.samples[a]) {
+			boundary = true
+		}
+	}
+	for a := range s.Arms {
+		w.stage = a
+		off := s.Arms[a].Offset
+		theta := w.theta[off : off+w.dims[a]]
+		w.failed[a] = false
+		if h := w.halves[a]; boundary && h != nil {
+			w.armN[a] = h.FitAddHalf(&w.samples[a], theta, w.covs[a])
+			continue
+		}
+		w.armN[a] = float64(w.sizes[a])
+		w.failed[a] = !w.fitters[a].Fit(&w.samples[a], theta, w.covs[a])
+		anyFailed = anyFailed || w.failed[a]
+	}
+	return anyFailed
+}
+
+// causeOf is why the first arm a transform reads whose fit failed in
+// this replicate had no estimate: what its fitter names, else
+// not_converged.
+func (w *worker) causeOf(use []bool) family.Failure {
+	for a, f := range w.failed {
+		if f && use[a] && w.causes[a] != nil {
+			return w.causes[a].LastFailure()
+		}
+		if f && use[a] {
+			return family.NotConverged
+		}
+	}
+	return family.NotConverged
+}
+
+// readsFailed reports whether a transform reading the arms in use reads
+// one whose fit failed in this replicate.
+func (w *worker) readsFailed(use []bool) bool {
+	for a, f := range w.failed {
+		if f && use[a] {
+			return true
+		}
+	}
+	return false
+}
+
+// add scores one replicate's estimate v and the variance pv its interval
+// uses, with quantile q.
+func (acc *cellAcc) add(v, pv, q float64) {
 	// |x| <= MaxFloat64 is false for NaN and ±Inf alike: one compare each.
-	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64) {
+	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64 && q <= math.MaxFloat64) {
 		acc.Undefined++
 		return
 	}
@@ -479,7 +576,8 @@ func (acc *cellAcc) add(v, pv, z float64) {
 	if se == 0 {
 		acc.ZeroSE++
 	}
-	switch lo, hi := v-z*se, v+z*se; {
+	lo, hi := v-q*se, v+q*se
+	switch {
 	case hi < acc.truth:
 		acc.MissBelow++
 	case lo > acc.truth:
@@ -487,6 +585,10 @@ func (acc *cellAcc) add(v, pv, z float64) {
 	default:
 		acc.Covered++
 	}
+	if acc.hasNull && (hi < acc.null || lo > acc.null) {
+		acc.Rejected++
+	}
+	acc.widthSum += hi - lo
 	if len(acc.vals) == cap(acc.vals) {
 		// Only when replicate is driven past a block's worth without
 		// runBlock (a benchmark): fold early rather than allocate.
@@ -525,6 +627,7 @@ func (w *worker) flush(j job) {
 		b := BlockStat{Block: j.block, N: acc.mom.N, Mean: acc.mom.Mean, M2: acc.mom.M2, M3: acc.mom.M3, M4: acc.mom.M4}
 		if acc.mom.N > 0 {
 			b.PluginVar = acc.pluginSum / float64(acc.mom.N)
+			b.Width = acc.widthSum / float64(acc.mom.N)
 		}
 		c.Blocks = append(c.Blocks, b)
 		c.mergedCache = nil

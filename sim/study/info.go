@@ -28,6 +28,7 @@ type Info struct {
 	Criteria       Criteria        `json:"criteria"`
 	Arms           []ArmInfo       `json:"arms"`
 	Transforms     []TransformInfo `json:"transforms"`
+	Interval       *Interval       `json:"interval,omitempty"` // nil: normal quantile, no correction
 }
 
 // ArmInfo describes one arm of the model as run.
@@ -39,12 +40,43 @@ type ArmInfo struct {
 	// Design describes a regression model's covariates and equations in
 	// words; empty for the other families.
 	Design string `json:"design,omitempty"`
+	// Fit is the fitted family when it is not Family; Variance is
+	// "robust" when the file asks for it. Both are left out otherwise, so
+	// a study without them records what it did before the keys existed.
+	Fit      string `json:"fit,omitempty"`
+	Variance string `json:"variance,omitempty"`
+	// PseudoTrue is θ*, the fitted family's parameters closest to the
+	// data law, by name; only when Fit differs from Family.
+	PseudoTrue map[string]float64 `json:"pseudo_true,omitempty"`
+}
+
+// FitFamily is the family the arm fits.
+func (a ArmInfo) FitFamily() string {
+	if a.Fit == "" {
+		return a.Family
+	}
+	return a.Fit
+}
+
+// Robust reports whether the arm's plug-in variance is the sandwich.
+func (a ArmInfo) Robust() bool { return a.Variance == "robust" }
+
+// Misspecified reports whether any arm fits another family than its data's.
+func (i Info) Misspecified() bool {
+	for _, a := range i.Arms {
+		if a.Fit != "" && a.Fit != a.Family {
+			return true
+		}
+	}
+	return false
 }
 
 // TransformInfo names one transform as run.
 type TransformInfo struct {
-	Name string `json:"name"`
-	Expr string `json:"expr"`
+	Name string   `json:"name"`
+	Expr string   `json:"expr"`
+	SE   string   `json:"se,omitempty"`   // the analyst's standard error; empty: the plug-in delta SE
+	Null *float64 `json:"null,omitempty"` // H0's value; nil: no test
 }
 
 // Overridden reports whether a flag overrode the named value ("seed",
@@ -59,6 +91,7 @@ func (s *Study) Info() Info {
 		Replicates: s.Replicates, Level: s.Level,
 		SampleSizes: append([]int(nil), s.SampleSizes...), Criteria: s.Criteria,
 		FileSeed: s.FileSeed, FileReplicates: s.FileReplicates,
+		Interval: s.Interval,
 	}
 	if s.Seed != s.FileSeed {
 		info.Overrides = append(info.Overrides, "seed")
@@ -67,14 +100,23 @@ func (s *Study) Info() Info {
 		info.Overrides = append(info.Overrides, "replicates")
 	}
 	for _, a := range s.Arms {
-		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
+		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation, Fit: a.Fit}
 		if a.Regression != nil {
 			ai.Design = a.Regression.Describe()
+		}
+		if a.Variance == family.RobustVariance {
+			ai.Variance = "robust"
+		}
+		if a.Misspecified() {
+			ai.PseudoTrue = map[string]float64{}
+			for i, name := range a.Estimates() {
+				ai.PseudoTrue[name] = a.Model.Truth[i]
+			}
 		}
 		info.Arms = append(info.Arms, ai)
 	}
 	for _, t := range s.Transforms {
-		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr})
+		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr, SE: t.SE, Null: t.Null})
 	}
 	return info
 }
