@@ -562,7 +562,7 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 		}
 		fmt.Fprintf(stdout, "    estimates: %s\n", est)
 		fmt.Fprintf(stdout, "    estimator: %s\n", f.Estimator)
-		fmt.Fprintf(stdout, "    variance:  model (inverse information)\n\n")
+		fmt.Fprintf(stdout, "    variance:  model (inverse information), robust (HC0 sandwich; a chain's of its stacked estimating equations)\n\n")
 	}
 	return exitOK
 }

@@ -40,6 +40,10 @@ type fitter struct {
 	step  []float64
 	trial []float64
 	lp    simplex
+	sb    []float64 // the robust plug-in's B (dim×dim)
+	stmp  []float64 // and a product (dim×dim)
+	sc    []float64 // and the model-based covariance (dim×dim)
+	score []float64 // one row's stacked scores (dim)
 	cnt   []float64 // rows per pattern, for a grouped equation
 	ysum  []float64 // their outcomes' sum
 	last  family.Failure
@@ -59,7 +63,11 @@ func (m *Model) NewFitter(maxN int) family.Fitter {
 			lpCols = max(lpCols, 2*maxN)
 		}
 	}
-	buf := make([]float64, 4*pmax*pmax+5*pmax+2*m.patterns)
+	d := 0
+	if m.Robust {
+		d = m.Dim()
+	}
+	buf := make([]float64, 4*pmax*pmax+5*pmax+2*m.patterns+3*d*d+d)
 	take := func(k int) []float64 {
 		s := buf[:k:k]
 		buf = buf[k:]
@@ -69,6 +77,7 @@ func (m *Model) NewFitter(maxN int) family.Fitter {
 	f.z, f.g, f.beta, f.step, f.trial = take(pmax), take(pmax), take(pmax), take(pmax), take(pmax)
 	f.h, f.h2, f.inv = take(pmax*pmax), take(pmax*pmax), take(pmax*pmax)
 	f.cnt, f.ysum = take(m.patterns), take(m.patterns)
+	f.sb, f.stmp, f.sc, f.score = take(d*d), take(d*d), take(d*d), take(d)
 	if lpCols > 0 {
 		f.lp = newSimplex(pmax, lpCols)
 	}
@@ -79,9 +88,10 @@ func (m *Model) NewFitter(maxN int) family.Fitter {
 func (f *fitter) LastFailure() family.Failure { return f.last }
 
 // Fit fits every equation by its own MLE and writes θ̂ and the plug-in
-// per-observation covariance n·I(θ̂)⁻¹, I the sample's information (the
+// per-observation covariance: n·I(θ̂)⁻¹, I the sample's information (the
 // observed information, which for these canonical links is the expected
-// information given the covariates), block-diagonal over the equations.
+// information given the covariates), block-diagonal over the equations;
+// or, for Model.Robust, the sandwich (robust.go).
 // It reports false, with the cause in LastFailure, when an equation's
 // MLE does not exist or its fit did not converge.
 func (f *fitter) Fit(s *family.Sample, theta, cov []float64) bool {
@@ -111,6 +121,9 @@ func (f *fitter) Fit(s *family.Sample, theta, cov []float64) bool {
 			theta[q.off+p] = f.step[0] // fitLinear leaves σ̂ there
 			cov[(q.off+p)*d+q.off+p] = f.step[0] * f.step[0] / 2
 		}
+	}
+	if f.m.Robust {
+		f.sandwich(s, theta, cov)
 	}
 	return true
 }

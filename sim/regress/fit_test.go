@@ -237,8 +237,9 @@ func TestPoissonZeroCounts(t *testing.T) {
 // Draw and Fit allocate nothing per replicate, the linear program's path
 // included.
 func TestDrawAndFitAllocateNothing(t *testing.T) {
-	for name, d := range map[string]*Design{"logistic": logistic3(), "poisson": poissonNormal(), "chain": chain()} {
+	for name, d := range map[string]*Design{"logistic": logistic3(), "poisson": poissonNormal(), "chain": chain(), "chain robust": chain()} {
 		m := mustNew(t, d)
+		m.Robust = name == "chain robust"
 		for _, n := range []int{12, 100} {
 			s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
 			f := m.NewFitter(n)
@@ -256,8 +257,9 @@ func TestDrawAndFitAllocateNothing(t *testing.T) {
 	}
 }
 
-func benchFit(b *testing.B, d *Design, n int) {
+func benchFit(b *testing.B, d *Design, n int, robust bool) {
 	m := mustNew(b, d)
+	m.Robust = robust
 	s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
 	f := m.NewFitter(n)
 	rng := rand.New(rand.NewPCG(1, 2))
@@ -273,10 +275,11 @@ func benchFit(b *testing.B, d *Design, n int) {
 // BenchmarkReplicate is one replicate's draw and fit: a logistic fit with
 // three coefficients at n = 100 and 1000, and a two-equation chain.
 func BenchmarkReplicate(b *testing.B) {
-	b.Run("logistic3_n100", func(b *testing.B) { benchFit(b, logistic3(), 100) })
-	b.Run("logistic3_n1000", func(b *testing.B) { benchFit(b, logistic3(), 1000) })
-	b.Run("chain_n100", func(b *testing.B) { benchFit(b, chain(), 100) })
-	b.Run("chain_n1000", func(b *testing.B) { benchFit(b, chain(), 1000) })
+	b.Run("logistic3_n100", func(b *testing.B) { benchFit(b, logistic3(), 100, false) })
+	b.Run("logistic3_n1000", func(b *testing.B) { benchFit(b, logistic3(), 1000, false) })
+	b.Run("chain_n100", func(b *testing.B) { benchFit(b, chain(), 100, false) })
+	b.Run("chain_n1000", func(b *testing.B) { benchFit(b, chain(), 1000, false) })
+	b.Run("chain_robust_n100", func(b *testing.B) { benchFit(b, chain(), 100, true) })
 }
 
 // BenchmarkSolve compares the hand-rolled Cholesky factor-and-solve with

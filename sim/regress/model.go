@@ -30,6 +30,9 @@ type Model struct {
 	truth    []float64
 	cov      []float64 // Σ(θ0), per observation, row-major
 	bias     []float64 // b(θ0), per observation
+	// Robust says the plug-in covariance is the sandwich (HC0) of the
+	// stacked estimating equations rather than the inverse information.
+	Robust bool
 	// Nodes is the number of quadrature nodes per continuous dimension
 	// the expected information was accepted at (0: no continuous
 	// dimension, the averages are exact sums).
@@ -252,7 +255,12 @@ func drawPoisson(rng *rand.Rand, mu float64) float64 {
 // block-diagonal over the equations (each is fitted by its own
 // likelihood, and the joint likelihood factorises, so the blocks of the
 // information between equations are zero). It is computed once, at the
-// truth; theta must be the truth.
+// truth; theta must be the truth. It is also the limit of the robust
+// plug-in: the data come from the model fitted, so the sandwich's B (the
+// scores' covariance) equals A, the information, equation by equation,
+// and between equations E[s_y s_mᵀ] = E[E(s_y | x, m) s_mᵀ] = 0 because a
+// later equation's score has mean zero given the earlier outcomes it
+// conditions on (derived).
 func (m *Model) Cov(theta, cov []float64) {
 	m.checkTruth(theta)
 	copy(cov, m.cov)

@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"deltaprobe/sim/expr"
+	"deltaprobe/sim/family"
 	"deltaprobe/sim/regress"
 )
 
@@ -54,7 +55,18 @@ func (d *decoder) regression(table string, m map[string]any, a *Arm) bool {
 	} else {
 		accepted = append(accepted, "family", "coefficients", "sd")
 	}
-	d.unknownKeysAt(table, "in a regression [model]", m, append(accepted, "family", "coefficients", "sd"))
+	d.unknownKeysAt(table, "in a regression [model]", m, append(accepted, "family", "coefficients", "sd", "variance"))
+	robust := false
+	if raw, given := m["variance"]; given {
+		switch raw {
+		case "model":
+		case "robust":
+			robust = true
+		default:
+			d.fail(join(table, "variance"), "variance must be \"model\" (inverse information at the estimate) or \"robust\" (the HC0 sandwich of the estimating equations, from the sample), got %s", variantText(raw))
+			return false
+		}
+	}
 	ok := d.covariates(table, m, design)
 	var columns []string // covariates, then outcomes, in declaration order
 	for _, c := range design.Covariates {
@@ -132,6 +144,10 @@ func (d *decoder) regression(table string, m map[string]any, a *Arm) bool {
 	a.Family = design.Equations[0].Kind.String()
 	if chain {
 		a.Family = "equations"
+	}
+	model.Robust = robust
+	if robust {
+		a.Variance = family.RobustVariance
 	}
 	a.Regression = model
 	a.Names = design.ParamNames()
