@@ -52,6 +52,26 @@ func (m *Model) expectations() error {
 			continuous++
 		}
 	}
+	// The discrete dimensions' points, to refuse a rule too large before
+	// computing it (a Poisson outcome's counts are not known here; the
+	// walk itself counts them).
+	discrete := 1.0
+	for _, c := range m.Design.Covariates {
+		switch c.Dist {
+		case Levels:
+			discrete *= float64(len(c.Values))
+		case Bernoulli:
+			discrete *= 2
+		}
+	}
+	for e, q := range m.eqs {
+		if used[e] && q.kind == Logistic {
+			discrete *= 2
+		}
+	}
+	if discrete > maxPoints {
+		return fmt.Errorf("the design has %.3g combinations of discrete values (levels, bernoulli covariates, binary outcomes used as covariates); at most %d are accepted for the expected information", discrete, maxPoints)
+	}
 	if continuous == 0 {
 		info, bias, err := m.moments(0, used)
 		if err != nil {
@@ -64,7 +84,7 @@ func (m *Model) expectations() error {
 		return err
 	}
 	for nodes := 16; ; nodes *= 2 {
-		if math.Pow(float64(nodes), float64(continuous)) > maxPoints {
+		if discrete*math.Pow(float64(nodes), float64(continuous)) > maxPoints {
 			return fmt.Errorf("the expected information could not be computed to the accuracy deltaprobe needs (about 1e-9 relative) within %d quadrature points: %d continuous dimensions (normal or uniform covariates, linear outcomes used as covariates); use fewer, or levels", maxPoints, continuous)
 		}
 		info, bias, err := m.moments(nodes, used)

@@ -382,13 +382,21 @@ func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
 			}
 			checked = true
 		}
-		// Halve the step until the log-likelihood does not fall. It is
-		// concave, so along the step φ(t) = ℓ(β + t·δ) has a falling
-		// derivative: when φ'(1) = g(β + δ)ᵀδ ≥ 0, φ rose all the way and
-		// the step is taken without computing ℓ (a logarithm a row);
-		// only otherwise are the two log-likelihoods compared.
+		// Halve the step until the log-likelihood does not fall far. It
+		// is concave, so along the step φ(t) = ℓ(β + t·δ) lies below its
+		// tangent at t = 1: φ(1) ≥ φ(0) + φ'(1), φ'(1) = g(β + δ)ᵀδ. When
+		// φ'(1) ≥ −½·φ'(0) (φ'(0) = gᵀδ, the Newton decrement) the step
+		// is taken without computing ℓ (a logarithm a row): ℓ fell by at
+		// most half the decrement, and for φ quadratic, the model Newton
+		// steps by, it rose by at least a quarter of it. A step that
+		// overshoots far makes φ'(1) large and negative; only then are
+		// the two log-likelihoods compared and the step halved.
 		accepted := false
 		llOld := math.NaN()
+		var rise float64 // φ'(0) = g(β)ᵀδ, the Newton decrement, > 0
+		for j := range step {
+			rise += f.g[j] * step[j]
+		}
 		for half := 0; half < 40; half++ {
 			for j := range trial {
 				trial[j] = beta[j] + step[j]
@@ -398,7 +406,7 @@ func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
 			for j := range step {
 				slope += f.g[j] * step[j]
 			}
-			if slope >= 0 {
+			if slope >= -0.5*rise {
 				accepted = true
 				break
 			}
@@ -412,6 +420,7 @@ func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
 			for j := range step {
 				step[j] /= 2
 			}
+			rise /= 2
 		}
 		if !accepted {
 			break
