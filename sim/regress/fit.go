@@ -44,10 +44,14 @@ type fitter struct {
 	stmp  []float64 // and a product (dim×dim)
 	sc    []float64 // and the model-based covariance (dim×dim)
 	score []float64 // one row's stacked scores (dim)
-	cnt   []float64 // rows per pattern, for a grouped equation
-	ysum  []float64 // their outcomes' sum
-	last  family.Failure
-	_     [pad]byte
+	// other: the runner asked for the other variance too (EnableOther);
+	// otherCov holds it after a successful Fit.
+	other    bool
+	otherCov []float64
+	cnt      []float64 // rows per pattern, for a grouped equation
+	ysum     []float64 // their outcomes' sum
+	last     family.Failure
+	_        [pad]byte
 }
 
 // NewFitter allocates a worker's buffers for samples of up to maxN rows.
@@ -122,9 +126,38 @@ func (f *fitter) Fit(s *family.Sample, theta, cov []float64) bool {
 			cov[(q.off+p)*d+q.off+p] = f.step[0] * f.step[0] / 2
 		}
 	}
-	if f.m.Robust {
+	switch {
+	case f.m.Robust && f.other:
+		copy(f.otherCov, cov)
 		f.sandwich(s, theta, cov)
+	case f.m.Robust:
+		f.sandwich(s, theta, cov)
+	case f.other:
+		copy(f.otherCov, cov)
+		f.sandwich(s, theta, f.otherCov)
 	}
+	return true
+}
+
+// EnableOther makes Fit compute the other plug-in covariance too: the
+// sandwich beside the model-based one, or the reverse.
+func (f *fitter) EnableOther() {
+	d := f.m.Dim()
+	f.other = true
+	f.otherCov = make([]float64, d*d)
+	if len(f.score) < d {
+		buf := make([]float64, 3*d*d+d)
+		f.sb, f.stmp, f.sc, f.score = buf[:d*d], buf[d*d:2*d*d], buf[2*d*d:3*d*d], buf[3*d*d:]
+	}
+}
+
+// OtherCov writes the other plug-in covariance of the last Fit; it
+// reports false unless EnableOther was called.
+func (f *fitter) OtherCov(cov []float64) bool {
+	if !f.other {
+		return false
+	}
+	copy(cov, f.otherCov)
 	return true
 }
 

@@ -136,3 +136,38 @@ func TestRobustLinearHC0(t *testing.T) {
 		}
 	}
 }
+
+// With EnableOther a fitter writes the other plug-in covariance beside
+// its own: the sandwich beside the model-based one and the reverse, the
+// same numbers the other setting's Fit writes.
+func TestOtherVariance(t *testing.T) {
+	const n = 120
+	for _, robust := range []bool{false, true} {
+		m := mustNew(t, chain())
+		s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
+		m.Draw(rand.New(rand.NewPCG(21, 22)), n, s)
+		dim := m.Dim()
+		m.Robust = robust
+		f := m.NewFitter(n)
+		ov := f.(family.OtherVariance)
+		ov.EnableOther()
+		theta, cov, other := make([]float64, dim), make([]float64, dim*dim), make([]float64, dim*dim)
+		if !f.Fit(s, theta, cov) || !ov.OtherCov(other) {
+			t.Fatal("the fit failed")
+		}
+		m.Robust = !robust
+		want := make([]float64, dim*dim)
+		if !m.NewFitter(n).Fit(s, theta, want) {
+			t.Fatal("the fit failed")
+		}
+		for i := range want {
+			if math.Abs(other[i]-want[i]) > 1e-12*math.Abs(want[i])+1e-15 {
+				t.Errorf("robust=%v: other cov[%d] = %.15g, the other setting's Fit %.15g", robust, i, other[i], want[i])
+			}
+		}
+		allocs := testing.AllocsPerRun(50, func() { f.Fit(s, theta, cov); ov.OtherCov(other) })
+		if allocs != 0 {
+			t.Errorf("robust=%v: %v allocations per Fit with the other variance", robust, allocs)
+		}
+	}
+}
