@@ -13,8 +13,9 @@ func init() {
 		Estimates: []string{"rate"},
 		New: func(v map[string]float64) (Model, error) {
 			m := &exponentialModel{rate: v["rate"]}
-			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m}, nil
+			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m, EventShare: 1}, nil
 		},
+		Censor: newCensoredExponential,
 	})
 }
 
@@ -33,6 +34,9 @@ func (*exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	}
 	s.N, s.Data[0] = n, sum
 }
+
+// Events: every lifetime is seen.
+func (*exponentialModel) Events(s *Sample) int { return s.N }
 
 func (m *exponentialModel) NewFitter(int) Fitter { return m }
 

@@ -89,6 +89,18 @@ type Model struct {
 	Sampler     Sampler
 	Estimator   Estimator
 	Asymptotics Asymptotics
+	// EventShare is, for a lifetime family, the expected share of
+	// observations that are events (not censored) at the truth: 1
+	// without censoring. 0 for a family without lifetimes.
+	EventShare float64
+}
+
+// EventCounter is implemented by the samplers of lifetime families: how
+// many of a sample's observations are events, the rest being censored.
+// The runner reports the share (summary.csv's events) and names a
+// replicate with no events as the reason it is undefined.
+type EventCounter interface {
+	Events(s *Sample) int
 }
 
 // ParamSpec describes one parameter a family takes in the study file.
@@ -117,6 +129,10 @@ type Family struct {
 	// New builds the model from validated parameter values, keyed by
 	// ParamSpec.Name.
 	New func(values map[string]float64) (Model, error)
+	// Censor builds the model of right-censored lifetimes under c, fitted
+	// by the MLE under non-informative censoring; nil for a family that
+	// is not a lifetime family.
+	Censor func(values map[string]float64, c Censoring) (Model, error)
 }
 
 var families = map[string]*Family{}

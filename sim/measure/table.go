@@ -120,8 +120,20 @@ var (
 	// (τ̂ − τ0)/se from N(0, 1), from its histogram.
 	KSPivot = define(Measure{Name: "ks_pivot", Group: Intervals,
 		Value: func(c *Cell, _ *Row) float64 { return c.Cell.Wald.KSNormal() }})
+	// events is the mean share of observations that were events (not
+	// censored), over the replicates and the lifetime arms the transform
+	// reads; empty when it reads none.
+	Events = define(Measure{Name: "events", Group: Counts,
+		Value: func(c *Cell, _ *Row) float64 {
+			if c.Cell.Lifetimes == 0 {
+				return nan
+			}
+			return float64(c.Cell.Events) / float64(c.Cell.Lifetimes)
+		}})
 	FitFailures = define(Measure{Name: "fit_failures", Group: Internal, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.FitFailures) }})
+	NoEvents = define(Measure{Name: "no_events", Group: Internal, Count: true,
+		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.NoEvents) }})
 	ZeroSE = define(Measure{Name: "zero_se", Group: Internal, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.ZeroSE) }})
 )

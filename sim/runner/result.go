@@ -48,18 +48,27 @@ type Cell struct {
 // add exactly, in any order.
 type Counts struct {
 	Replicates  int64 `json:"replicates"`
-	Undefined   int64 `json:"undefined"`    // τ̂ or its standard error not finite, or no fit
-	FitFailures int64 `json:"fit_failures"` // of which: the estimator had no value
-	ZeroSE      int64 `json:"zero_se"`      // defined, but the plug-in standard error was 0
-	Covered     int64 `json:"covered"`
-	MissBelow   int64 `json:"miss_below"` // interval wholly below the truth
-	MissAbove   int64 `json:"miss_above"` // interval wholly above the truth
+	Undefined   int64 `json:"undefined"`           // τ̂ or its standard error not finite, or no fit
+	FitFailures int64 `json:"fit_failures"`        // of which: the estimator had no value
+	NoEvents    int64 `json:"no_events,omitempty"` // of which: an arm's censored lifetimes had no event
+	// Events and Lifetimes count, over the replicates and the lifetime
+	// arms the transform reads, the observations that were events and
+	// all observations: summary.csv's events is their ratio.
+	Events    int64 `json:"events,omitempty"`
+	Lifetimes int64 `json:"lifetimes,omitempty"`
+	ZeroSE    int64 `json:"zero_se"` // defined, but the plug-in standard error was 0
+	Covered   int64 `json:"covered"`
+	MissBelow int64 `json:"miss_below"` // interval wholly below the truth
+	MissAbove int64 `json:"miss_above"` // interval wholly above the truth
 }
 
 func (c *Counts) add(o Counts) {
 	c.Replicates += o.Replicates
 	c.Undefined += o.Undefined
 	c.FitFailures += o.FitFailures
+	c.NoEvents += o.NoEvents
+	c.Events += o.Events
+	c.Lifetimes += o.Lifetimes
 	c.ZeroSE += o.ZeroSE
 	c.Covered += o.Covered
 	c.MissBelow += o.MissBelow

@@ -294,10 +294,12 @@ type worker struct {
 	z       float64 // normal quantile of the Wald interval
 	theta   []float64
 	grad    []float64
-	covs    [][]float64     // per arm: the plug-in covariance of its θ̂
-	samples []family.Sample // per arm: the latest draw, read by its fitter
-	fitters []family.Fitter // per arm: this worker's own, with any buffers its fit keeps
-	dims    []int           // parameters per arm
+	covs    [][]float64           // per arm: the plug-in covariance of its θ̂
+	samples []family.Sample       // per arm: the latest draw, read by its fitter
+	fitters []family.Fitter       // per arm: this worker's own, with any buffers its fit keeps
+	counter []family.EventCounter // per arm: nil unless it draws lifetimes
+	events  []int                 // per arm: the latest draw's events
+	dims    []int                 // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
 	accs    []cellAcc
@@ -343,6 +345,8 @@ func newWorker(s *study.Study, res *Result) *worker {
 			sampleLens[ai] = max(sampleLens[ai], a.Model.Sampler.SampleLen(size))
 		}
 		w.fitters = append(w.fitters, a.Model.Estimator.NewFitter(maxN))
+		counter, _ := a.Model.Sampler.(family.EventCounter)
+		w.counter = append(w.counter, counter)
 		floats += k*k + sampleLens[ai]
 	}
 	buf := padded[float64](floats)
@@ -353,6 +357,7 @@ func newWorker(s *study.Study, res *Result) *worker {
 		buf = buf[k*k:]
 	}
 	w.samples = padded[family.Sample](len(s.Arms))
+	w.events = padded[int](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
 		buf = buf[l:]
@@ -427,29 +432,43 @@ func (w *worker) runBlock(j job) {
 // replicate draws every arm, fits it, and scores every transform.
 func (w *worker) replicate() {
 	s := w.s
-	fitted := true
+	fitted, noEvents := true, false
 	// Arms by pointer: an Arm is several words, and this runs per replicate.
 	for a := range s.Arms {
 		arm := &s.Arms[a]
 		w.stage = a
 		sample := &w.samples[a]
 		arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
+		if w.counter[a] != nil {
+			w.events[a] = w.counter[a].Events(sample)
+		}
 		off := arm.Offset
 		if !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a]) {
 			fitted = false
+			noEvents = noEvents || w.counter[a] != nil && w.events[a] == 0
 		}
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
+		use := w.useArm[t]
+		for a := range s.Arms {
+			if use[a] && w.counter[a] != nil {
+				acc.Events += int64(w.events[a])
+				acc.Lifetimes += int64(w.sizes[a])
+			}
+		}
 		if !fitted {
 			acc.Undefined++
-			acc.FitFailures++
+			if noEvents {
+				acc.NoEvents++
+			} else {
+				acc.FitFailures++
+			}
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
 		var pv float64
-		use := w.useArm[t]
 		for a := range s.Arms {
 			if !use[a] {
 				continue

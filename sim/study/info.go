@@ -36,6 +36,10 @@ type ArmInfo struct {
 	Family     string             `json:"family"`
 	Values     map[string]float64 `json:"values"`
 	Allocation float64            `json:"allocation"`
+	// Censoring and EventShare (the expected share of events at the
+	// truth) are set for an arm with censored lifetimes.
+	Censoring  *family.Censoring `json:"censoring,omitempty"`
+	EventShare float64           `json:"event_share,omitempty"`
 }
 
 // TransformInfo names one transform as run.
@@ -64,7 +68,12 @@ func (s *Study) Info() Info {
 		info.Overrides = append(info.Overrides, "replicates")
 	}
 	for _, a := range s.Arms {
-		info.Arms = append(info.Arms, ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation})
+		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
+		if a.Censoring != nil {
+			c := *a.Censoring
+			ai.Censoring, ai.EventShare = &c, a.Model.EventShare
+		}
+		info.Arms = append(info.Arms, ai)
 	}
 	for _, t := range s.Transforms {
 		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr})

@@ -1,0 +1,140 @@
+package family
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+)
+
+// newCensoredExponential is the exponential family's Censor: lifetimes of
+// the given rate under the censoring law c, fitted by the censored MLE.
+func newCensoredExponential(v map[string]float64, c Censoring) (Model, error) {
+	m := &censoredExponential{rate: v["rate"], c: c}
+	m.share, _ = c.exponentialEvents(m.rate)
+	if !(m.share > 0) {
+		return Model{}, fmt.Errorf("under this censoring no event is expected at rate %v (P(event) = %v)", m.rate, m.share)
+	}
+	return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m, EventShare: m.share}, nil
+}
+
+// censoredExponential is an exponential lifetime of rate λ under
+// independent right censoring (Censoring), with the MLE under
+// non-informative censoring: λ̂ = D/T, D the number of events and T the
+// total time at risk (Lawless 2003, Statistical Models and Methods for
+// Lifetime Data, 2nd ed., ch. 2, from memory). θ = (rate).
+type censoredExponential struct {
+	rate  float64
+	c     Censoring
+	share float64 // P(event) at the truth
+}
+
+// SampleLen is 2: a censored exponential sample is (D, T), the number of
+// events and the total time at risk, which are sufficient for λ.
+func (*censoredExponential) SampleLen(int) int { return 2 }
+
+// Draw draws n units one by one (never the sufficient statistics
+// directly: D and T are dependent, and their joint law under entry and
+// dropout has no simple form). Lifetime and dropout are competing
+// exponentials, so their minimum is exponential with rate μ = λ + δ and,
+// independently of it, the lifetime is the smaller with probability λ/μ:
+// one exponential draw per unit, and one 64-bit word when entry or
+// dropout needs a uniform (its two 32-bit halves serve the entry time and
+// the kind of ending).
+func (m *censoredExponential) Draw(rng *rand.Rand, n int, s *Sample) {
+	mu := m.rate + m.c.DropoutRate
+	var events, time float64
+	switch {
+	case m.c.Entry == 0 && m.c.DropoutRate == 0:
+		events, time = drawEndOnly(rng, n, mu, m.c.End)
+	default:
+		end := m.c.End
+		if end == 0 {
+			end = math.Inf(1)
+		}
+		events, time = drawEntryDropout(rng, n, mu, end, m.c.Entry, m.rate/mu)
+	}
+	s.N, s.Data[0], s.Data[1] = n, events, time
+}
+
+// drawEndOnly: every unit enters at 0 and is censored at end.
+//
+//go:noinline
+func drawEndOnly(rng *rand.Rand, n int, rate, end float64) (events, time float64) {
+	// Compare in standard units, so the division is per sample, not per draw.
+	limit := end * rate
+	var sum float64
+	for range n {
+		e := rng.ExpFloat64()
+		if e <= limit {
+			events++
+			sum += e
+		} else {
+			sum += limit
+		}
+	}
+	return events, sum / rate
+}
+
+// drawEntryDropout: entry uniform on [0, entry], end of study at end
+// (+Inf: none), the minimum of lifetime and dropout exponential with rate
+// mu, and the lifetime the smaller with probability pLife.
+//
+//go:noinline
+func drawEntryDropout(rng *rand.Rand, n int, mu, end, entry, pLife float64) (events, time float64) {
+	const half = 0x1p-32
+	for range n {
+		y := rng.ExpFloat64() / mu
+		u := rng.Uint64()
+		c := end - entry*float64(u>>32)*half
+		if y <= c {
+			time += y
+			if float64(u&0xffffffff)*half < pLife {
+				events++
+			}
+		} else {
+			time += c
+		}
+	}
+	return events, time
+}
+
+// Events is the number of events in the sample.
+func (*censoredExponential) Events(s *Sample) int { return int(s.Data[0]) }
+
+func (m *censoredExponential) NewFitter(int) Fitter { return m }
+
+// Fit writes λ̂ = D/T and the plug-in covariance from the observed
+// information: the log-likelihood D log λ − λT has −∂² = D/λ², so
+// Var λ̂ ≈ λ̂²/D, per observation n·λ̂²/D. With no event the MLE is 0 on
+// the boundary and its variance is not defined: Fit reports false (the
+// runner counts the reason, see Events).
+func (m *censoredExponential) Fit(s *Sample, theta, cov []float64) bool {
+	d := s.Data[0]
+	if d == 0 {
+		return false
+	}
+	r := d / s.Data[1]
+	theta[0] = r
+	cov[0] = r * r * float64(s.N) / d
+	return true
+}
+
+// Cov is the inverse expected information of one observation,
+// λ²/P(event): the expected information is E[D]/λ² per unit (Lawless
+// 2003, ch. 2, from memory; derived from −∂² log L = D/λ²).
+func (m *censoredExponential) Cov(theta, cov []float64) {
+	p, _ := m.c.exponentialEvents(theta[0])
+	cov[0] = theta[0] * theta[0] / p
+}
+
+// Bias is the Cox–Snell (1968) first-order bias (κ₁₁₁ + 2κ₁,₁₁)/(2i²) of
+// one observation's log-likelihood ℓ = d log λ − λt (derived): i = p/λ²,
+// κ₁₁₁ = E ℓ”' = 2p/λ³, κ₁,₁₁ = E[ℓ'ℓ”] = −p/λ³ + E[dt]/λ², so
+// b = λ²·E[dt]/p², p = P(event) and E[dt] the expected time at risk of
+// events (Censoring.exponentialEvents). Without censoring it is λ, the
+// uncensored family's bias.
+func (m *censoredExponential) Bias(theta, bias []float64) {
+	lambda := theta[0]
+	p, dt := m.c.exponentialEvents(lambda)
+	bias[0] = lambda * lambda * dt / (p * p)
+}

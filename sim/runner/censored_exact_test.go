@@ -1,0 +1,183 @@
+package runner_test
+
+import (
+	"fmt"
+	"math"
+	"testing"
+
+	"deltaprobe/sim/measure"
+	"deltaprobe/sim/study"
+
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// endCensoredExact is the exact finite-sample law of λ̂ = D/T for n
+// exponential lifetimes of rate λ, all entering at 0 and censored at the
+// end of study c (derived):
+//
+// The number of events D is Binomial(n, p), p = 1 − e^(−λc). Given
+// D = k, the k event times are iid Exp(λ) truncated to [0, c] and the
+// other n − k units each contribute c, so T = (n − k)c + S, S the sum of
+// k truncated exponentials. Its Laplace transform is
+// E e^(−uT) = e^(−u(n−k)c)·L(u)^k, L(u) = λ(1 − e^(−(λ+u)c))/((λ + u)p),
+// and E T^(−m) = ∫₀^∞ u^(m−1) E e^(−uT) du / Γ(m), an integral of a
+// positive function, done by the trapezoid rule in log u (exponentially
+// convergent for an integrand analytic in a strip and decaying at both
+// ends; step 0.01 over 80 e-folds). Expanding (1 − e^(−(λ+u)c))^k
+// binomially, S is a signed mixture of Gamma(k, λ) laws shifted by jc:
+// P(S ≤ s) = p^(−k) Σⱼ C(k, j)(−1)^j e^(−λjc) G_k(s − jc), G_k the
+// Gamma(k, λ) CDF (gonum distuv.Gamma). The alternating sum loses about
+// k·log10((1 + e^(−λc))/p) digits, so it serves n ≤ 20 at λc = 1.
+type endCensoredExact struct {
+	lambda, c float64
+	n         int
+}
+
+func (e endCensoredExact) p() float64 { return -math.Expm1(-e.lambda * e.c) }
+
+// invMoment is E T^(−m) given D = k.
+func (e endCensoredExact) invMoment(k, m int) float64 {
+	p := e.p()
+	logMGF := func(u float64) float64 {
+		l := math.Log(e.lambda) - math.Log(e.lambda+u) + math.Log(-math.Expm1(-(e.lambda+u)*e.c)) - math.Log(p)
+		return -u*float64(e.n-k)*e.c + float64(k)*l
+	}
+	// ∫ u^(m−1) M(u) du = ∫ e^(m·t) M(e^t) dt over t = log u.
+	centre := math.Log(e.lambda / (float64(e.n) * p))
+	const h = 0.01
+	var sum float64
+	for t := centre - 40; t <= centre+40; t += h {
+		sum += math.Exp(float64(m)*t + logMGF(math.Exp(t)))
+	}
+	g, _ := math.Lgamma(float64(m))
+	return sum * h / math.Exp(g)
+}
+
+// sCDF is P(S ≤ s) given D = k.
+func (e endCensoredExact) sCDF(k int, s float64) float64 {
+	if s <= 0 {
+		return 0
+	}
+	if s >= float64(k)*e.c {
+		return 1
+	}
+	g := distuv.Gamma{Alpha: float64(k), Beta: e.lambda}
+	var sum float64
+	for j := 0; j <= k; j++ {
+		if s-float64(j)*e.c <= 0 {
+			break
+		}
+		lc, _ := math.Lgamma(float64(k + 1))
+		l1, _ := math.Lgamma(float64(j + 1))
+		l2, _ := math.Lgamma(float64(k - j + 1))
+		term := math.Exp(lc-l1-l2-e.lambda*float64(j)*e.c) * g.CDF(s-float64(j)*e.c)
+		if j%2 == 1 {
+			term = -term
+		}
+		sum += term
+	}
+	return math.Min(1, math.Max(0, sum/math.Pow(e.p(), float64(k))))
+}
+
+// law returns the exact moments of λ̂ over the defined replicates
+// (D ≥ 1) and the probabilities that the Wald interval λ̂ ± z·λ̂/√D
+// (the observed-information interval) covers λ, lies wholly below it or
+// wholly above it, over all replicates (D = 0 is undefined and covers
+// nothing). withCoverage false skips the alternating sums.
+func (e endCensoredExact) law(z float64, withCoverage bool) (d exactDist, cover, below, above float64) {
+	bin := distuv.Binomial{N: float64(e.n), P: e.p()}
+	defined := 1 - bin.Prob(0)
+	var raw [5]float64
+	for k := 1; k <= e.n; k++ {
+		w := bin.Prob(float64(k))
+		for m := 1; m <= 4; m++ {
+			raw[m] += w / defined * math.Pow(float64(k), float64(m)) * e.invMoment(k, m)
+		}
+		if !withCoverage {
+			continue
+		}
+		// covers ⇔ λ̂(1 − c) ≤ λ ≤ λ̂(1 + c), c = z/√k, λ̂ = k/T:
+		// below ⇔ T > k(1 + c)/λ; above ⇔ T < k(1 − c)/λ (none if c ≥ 1).
+		ck := z / math.Sqrt(float64(k))
+		base := float64(e.n-k) * e.c
+		pBelow := 1 - e.sCDF(k, float64(k)*(1+ck)/e.lambda-base)
+		pAbove := 0.0
+		if ck < 1 {
+			pAbove = e.sCDF(k, float64(k)*(1-ck)/e.lambda-base)
+		}
+		below += w * pBelow
+		above += w * pAbove
+		cover += w * (1 - pBelow - pAbove)
+	}
+	return exactMomentsFromRaw(raw[1], raw[2], raw[3], raw[4]), cover, below, above
+}
+
+// The reference itself: with an end far beyond every lifetime the law is
+// the uncensored one, E λ̂ = nλ/(n − 1), Var λ̂ = n²λ²/((n − 1)²(n − 2))
+// (derived: nȲ ~ Gamma(n, λ)), and the coverage the Gamma CDF's.
+func TestEndCensoredExactReducesToUncensored(t *testing.T) {
+	e := endCensoredExact{lambda: 0.5, c: 200, n: 12}
+	d, cover, _, _ := e.law(exactZ(0.95), true)
+	fn := float64(e.n)
+	if want := fn * e.lambda / (fn - 1); math.Abs(d.mean-want) > 1e-9*want {
+		t.Errorf("mean %.12g, inverse-gamma %.12g", d.mean, want)
+	}
+	if want := fn * fn * e.lambda * e.lambda / ((fn - 1) * (fn - 1) * (fn - 2)); math.Abs(d.variance-want) > 1e-8*want {
+		t.Errorf("variance %.12g, inverse-gamma %.12g", d.variance, want)
+	}
+	S := distuv.Gamma{Alpha: fn, Beta: e.lambda}
+	c := exactZ(0.95) / math.Sqrt(fn)
+	if want := S.CDF(fn*(1+c)/e.lambda) - S.CDF(fn*(1-c)/e.lambda); math.Abs(cover-want) > 1e-9 {
+		t.Errorf("coverage %.12g, Gamma CDF %.12g", cover, want)
+	}
+}
+
+// Exponential lifetimes censored at the end of study only: the delta
+// variance, the events share, and the simulated mean, variance and
+// coverage against the exact law (endCensoredExact) within 4 MCSE.
+func TestExactCensoredExponentialEndOfStudy(t *testing.T) {
+	const lambda, end = 0.5, 2.0 // λ·end = 1: P(event) = 1 − e^(−1) ≈ 0.632
+	const replicates = 40 * study.BlockSize
+	sizes := []int{8, 20, 60}
+	rows := exactRun(t, fmt.Sprintf(`seed = 151515
+replicates = %d
+sample_sizes = [8, 20, 60]
+[model]
+family = "exponential"
+rate = %v
+[model.censoring]
+end = %v
+[[transform]]
+name = "rate"
+expr = "rate"
+`, replicates, lambda, end))
+	z := exactZ(0.95)
+	for _, n := range sizes {
+		row := exactRow(t, rows, "rate", n)
+		e := endCensoredExact{lambda: lambda, c: end, n: n}
+		label := fmt.Sprintf("end-censored rate n=%d", n)
+		// delta_var = λ²/(n(1 − e^(−λ·end))) (derived: information
+		// n·P(event)/λ², P(event) = 1 − e^(−λ·end)).
+		if want := lambda * lambda / (float64(n) * -math.Expm1(-lambda*end)); math.Abs(row.Get(measure.DeltaVar)-want) > 1e-14*want {
+			t.Errorf("%s: delta_var %.17g, want λ²/(n(1 − e^(−λ·end))) = %.17g", label, row.Get(measure.DeltaVar), want)
+		}
+		// events: n·R Bernoulli(p) units, p = 1 − e^(−λ·end) (derived).
+		exactCheckShare(t, label+" events", row.Get(measure.Events), row.Count(measure.Replicates)*int64(n), e.p(), "derived: P(event) = 1 − e^(−λ·end)")
+		// undefined: no event among n, (1 − p)^n (derived).
+		exactCheckShare(t, label+" undefined", float64(row.Count(measure.Undefined))/float64(row.Count(measure.Replicates)), row.Count(measure.Replicates), math.Pow(1-e.p(), float64(n)), "derived: P(D = 0) = e^(−nλ·end)")
+		if row.Count(measure.NoEvents) != row.Count(measure.Undefined) || row.Count(measure.FitFailures) != 0 {
+			t.Errorf("%s: %d undefined, %d for want of an event, %d fit failures: every undefined replicate here is one without events",
+				label, row.Count(measure.Undefined), row.Count(measure.NoEvents), row.Count(measure.FitFailures))
+		}
+		withCoverage := n <= 20
+		d, cover, below, above := e.law(z, withCoverage)
+		src := "derived: Binomial events, truncated-exponential sum; Laplace integral"
+		exactCheckMoments(t, label, row, d, src, true)
+		if withCoverage {
+			src := "derived: alternating Gamma(k, λ) mixture, gonum distuv"
+			exactCheckShare(t, label+" coverage", row.Get(measure.Coverage), row.Count(measure.Replicates), cover, src)
+			exactCheckShare(t, label+" miss_below", row.Get(measure.MissBelow), row.Count(measure.Replicates), below, src)
+			exactCheckShare(t, label+" miss_above", row.Get(measure.MissAbove), row.Count(measure.Replicates), above, src)
+		}
+	}
+}
