@@ -298,6 +298,20 @@ func (a trendAxes) biasPanel(rows []measure.Row) (panel, error) {
 // binned KS distance errs low by about 0.002, so the line is a guide.
 const ksNoise = 1.3581
 
+// trendsSubtitle is the trends figure's subtitle: the replicates and
+// level, the verdict, what n stands for and the censoring.
+func trendsSubtitle(r *runner.Result, v measure.TransformVerdict) string {
+	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
+		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
+	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
+		sub += " " + note
+	}
+	if note := censoringNote(r.Study); note != "" {
+		sub += " " + note
+	}
+	return sub
+}
+
 func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, error) {
 	p := a.newPanel("KS distance")
 	legend := []legendItem{}
@@ -343,11 +357,7 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	}
 	info := r.Study.Transforms[t]
 	title := figureTitle(info, "")
-	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
-		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
-	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
-		sub += " " + note
-	}
+	sub := trendsSubtitle(r, v)
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
 	// A subtitle too long for one line wraps, and the figure grows by
 	// the lines it adds, in whole pixels, so the panels keep their room.

@@ -180,7 +180,11 @@ func newStudyPage(st study.Info, tool string, build runner.Build, replicates boo
 	if p.Title == "" {
 		p.Title = st.File
 	}
-	p.Glance = append([]keyValue{{"Model", describeModel(st.Arms)}}, glance...)
+	p.Glance = []keyValue{{"Model", describeModel(st.Arms)}}
+	if c := censoringText(st); c != "" {
+		p.Glance = append(p.Glance, keyValue{"Censoring", c + ". The fit is the MLE under non-informative censoring, its variance the inverse observed information; the predictions use the expected information under this censoring."})
+	}
+	p.Glance = append(p.Glance, glance...)
 	p.Glance = append(p.Glance, keyValue{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(st.Level))})
 	p.AsRun = []keyValue{{"Seed", seedText(st)}}
 	if replicates {

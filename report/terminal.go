@@ -163,4 +163,7 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	if note := armSizesNote(st, exampleN(st, 0)); note != "" {
 		wrap(w, "", note+" N: the total at each n.")
 	}
+	if note := censoringNote(st); note != "" {
+		wrap(w, "", note+" delta_var uses the expected information under this censoring.")
+	}
 }

@@ -532,7 +532,13 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stdout, "    %-8s %s\n", p.Name, p.Accepts)
 		}
 		fmt.Fprintf(stdout, "    estimates: %s\n", strings.Join(f.Estimates, ", "))
-		fmt.Fprintf(stdout, "    estimator: %s\n\n", f.Estimator)
+		fmt.Fprintf(stdout, "    estimator: %s\n", f.Estimator)
+		if f.Censor != nil {
+			fmt.Fprintf(stdout, "    censoring: [model.censoring] or [arm.censoring]: entry (uniform entry over [0, entry]),\n")
+			fmt.Fprintf(stdout, "               end (calendar end of study), dropout_rate (exponential loss to follow-up)\n")
+			fmt.Fprintf(stdout, "               %s\n", f.CensoredEstimator)
+		}
+		fmt.Fprintln(stdout)
 	}
 	return exitOK
 }

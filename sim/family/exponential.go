@@ -15,7 +15,8 @@ func init() {
 			m := &exponentialModel{rate: v["rate"]}
 			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m, EventShare: 1}, nil
 		},
-		Censor: newCensoredExponential,
+		Censor:            newCensoredExponential,
+		CensoredEstimator: "censored MLE: events / total time at risk, variance 1/observed information; undefined without events",
 	})
 }
 

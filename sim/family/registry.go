@@ -133,6 +133,9 @@ type Family struct {
 	// by the MLE under non-informative censoring; nil for a family that
 	// is not a lifetime family.
 	Censor func(values map[string]float64, c Censoring) (Model, error)
+	// CensoredEstimator is one line on the censored fit, for families
+	// with Censor.
+	CensoredEstimator string
 }
 
 var families = map[string]*Family{}
