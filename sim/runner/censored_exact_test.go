@@ -181,3 +181,53 @@ expr = "rate"
 		}
 	}
 }
+
+// A replicate is undefined for the transforms that read an arm without
+// events, and only for them: P(no event among n) = (1 − p)^n with
+// p = 1 − e^(−λ·end) (derived), and a transform of the other arm alone
+// is never undefined.
+func TestCensoredNoEventsOnlyWhereRead(t *testing.T) {
+	const n, lambda, end = 100, 0.02, 1.0
+	rows := exactRun(t, fmt.Sprintf(`seed = 7
+replicates = 20000
+sample_sizes = [%d]
+[[arm]]
+name = "rare"
+family = "exponential"
+rate = %v
+[arm.censoring]
+end = %v
+[[arm]]
+name = "other"
+family = "normal"
+mean = 3
+sd = 1
+[[transform]]
+name = "rare_rate"
+expr = "rare.rate"
+[[transform]]
+name = "other_mean"
+expr = "other.mean"
+[[transform]]
+name = "both"
+expr = "rare.rate * other.mean"
+`, n, lambda, end))
+	p := -math.Expm1(-lambda * end)
+	pNone := math.Pow(1-p, n)
+	for _, name := range []string{"rare_rate", "both"} {
+		row := exactRow(t, rows, name, n)
+		share := float64(row.Count(measure.Undefined)) / float64(row.Count(measure.Replicates))
+		exactCheckShare(t, name+" undefined", share, row.Count(measure.Replicates), pNone, "derived: (1 − p)^n, p = 1 − e^(−λ·end)")
+		if row.Count(measure.NoEvents) != row.Count(measure.Undefined) {
+			t.Errorf("%s: %d undefined but %d counted for want of events", name, row.Count(measure.Undefined), row.Count(measure.NoEvents))
+		}
+		exactCheckShare(t, name+" events", row.Get(measure.Events), row.Count(measure.Replicates)*n, p, "derived: P(event) = 1 − e^(−λ·end)")
+	}
+	other := exactRow(t, rows, "other_mean", n)
+	if other.Count(measure.Undefined) != 0 {
+		t.Errorf("other_mean reads only the normal arm, yet %d replicates are undefined", other.Count(measure.Undefined))
+	}
+	if e := other.Get(measure.Events); !math.IsNaN(e) {
+		t.Errorf("other_mean reads no lifetimes, yet events = %v (want empty)", e)
+	}
+}

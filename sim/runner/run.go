@@ -299,6 +299,7 @@ type worker struct {
 	fitters []family.Fitter       // per arm: this worker's own, with any buffers its fit keeps
 	counter []family.EventCounter // per arm: nil unless it draws lifetimes
 	events  []int                 // per arm: the latest draw's events
+	fitted  []bool                // per arm: whether the latest fit has a value
 	dims    []int                 // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
@@ -358,6 +359,7 @@ func newWorker(s *study.Study, res *Result) *worker {
 	}
 	w.samples = padded[family.Sample](len(s.Arms))
 	w.events = padded[int](len(s.Arms))
+	w.fitted = padded[bool](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
 		buf = buf[l:]
@@ -432,7 +434,6 @@ func (w *worker) runBlock(j job) {
 // replicate draws every arm, fits it, and scores every transform.
 func (w *worker) replicate() {
 	s := w.s
-	fitted, noEvents := true, false
 	// Arms by pointer: an Arm is several words, and this runs per replicate.
 	for a := range s.Arms {
 		arm := &s.Arms[a]
@@ -443,19 +444,26 @@ func (w *worker) replicate() {
 			w.events[a] = w.counter[a].Events(sample)
 		}
 		off := arm.Offset
-		if !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a]) {
-			fitted = false
-			noEvents = noEvents || w.counter[a] != nil && w.events[a] == 0
-		}
+		w.fitted[a] = w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
 		use := w.useArm[t]
+		// Undefined when an arm the transform reads has no estimate; the
+		// reason is the lack of events when that arm had none.
+		fitted, noEvents := true, false
 		for a := range s.Arms {
-			if use[a] && w.counter[a] != nil {
+			if !use[a] {
+				continue
+			}
+			if w.counter[a] != nil {
 				acc.Events += int64(w.events[a])
 				acc.Lifetimes += int64(w.sizes[a])
+			}
+			if !w.fitted[a] {
+				fitted = false
+				noEvents = noEvents || w.counter[a] != nil && w.events[a] == 0
 			}
 		}
 		if !fitted {
