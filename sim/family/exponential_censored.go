@@ -88,22 +88,24 @@ func drawEndOnly(rng *rand.Rand, n int, rate, end float64) (events, time float64
 //
 //go:noinline
 func drawEntryDropout(rng *rand.Rand, n int, mu, end, entry, pLife float64) (events, time float64) {
-	const half = 0x1p-32
+	// In standard units (times μ), so the division is per sample: the
+	// censoring time μ(end − entry·U) is endMu − step·(U's 32 bits).
+	endMu, step := end*mu, entry*mu*0x1p-32
 	// u's low 32 bits below threshold: the lifetime ended first.
 	threshold := uint64(math.Ceil(pLife * (1 << 32)))
 	var count uint64
+	var sum float64
 	for range n {
-		y := rng.ExpFloat64() / mu
+		yb := math.Float64bits(rng.ExpFloat64())
 		u := rng.Uint64()
-		c := end - entry*float64(u>>32)*half
-		yb, cb := math.Float64bits(y), math.Float64bits(c)
+		cb := math.Float64bits(endMu - step*float64(u>>32))
 		over := (cb - yb) >> 63 // 1 when censored: y > c
 		life := ((u & 0xffffffff) - threshold) >> 63
 		count += life &^ over
 		mask := -over
-		time += math.Float64frombits(yb&^mask | cb&mask)
+		sum += math.Float64frombits(yb&^mask | cb&mask)
 	}
-	return float64(count), time
+	return float64(count), sum / mu
 }
 
 // Events is the number of events in the sample.
