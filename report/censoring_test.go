@@ -47,7 +47,7 @@ func TestCensoringInWords(t *testing.T) {
 
 	rows := measure.Summarize(r)
 	vs := measure.Verdicts(rows)
-	if sub := trendsSubtitle(r, vs[0]); !strings.Contains(sub, wantTreated) {
+	if sub := trendsSubtitle(r, 0, vs[0]); !strings.Contains(sub, wantTreated) {
 		t.Errorf("trends subtitle %q lacks %q", sub, wantTreated)
 	}
 

@@ -3,6 +3,7 @@ package report
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -221,6 +222,25 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 	return panel{title: "Variance: delta method against simulation", plot: p, legend: legend}, nil
 }
 
+// powerPanel sets the simulated rejection rate of the test of the null,
+// with the Wilson interval the power criterion uses, beside the rate the
+// delta method predicts and the target.
+func (a trendAxes) powerPanel(rows []measure.Row) (panel, error) {
+	p := a.newPanel("rejection rate (proportion)")
+	target := hLine{at: a.criteria.PowerTarget(), style: refStyle}
+	p.Add(target)
+	legend := []legendItem{}
+	sim := checkedSeries("simulated", rows, measure.PowerCheck)
+	pred := series{label: "delta-method prediction", x: xs(rows, a.dodge), style: 1,
+		y: column(rows, func(r measure.Row) float64 { return r.Get(measure.RejectDelta) })}
+	if err := addSeries(p, &legend, sim, pred); err != nil {
+		return panel{}, err
+	}
+	legend = append(legend, legendItem{label: "target " + fmtG(a.criteria.PowerTarget()), thumbs: []plot.Thumbnailer{target}})
+	a.finish(p, 0)
+	return panel{title: "Power: rejections of the null", plot: p, legend: legend}, nil
+}
+
 func (a trendAxes) coveragePanel(rows []measure.Row) (panel, error) {
 	p := a.newPanel("coverage (proportion)")
 	c := a.criteria.Coverage
@@ -298,11 +318,16 @@ func (a trendAxes) biasPanel(rows []measure.Row) (panel, error) {
 // binned KS distance errs low by about 0.002, so the line is a guide.
 const ksNoise = 1.3581
 
-// trendsSubtitle is the trends figure's subtitle: the replicates and
-// level, the verdict, what n stands for and the censoring.
-func trendsSubtitle(r *runner.Result, v measure.TransformVerdict) string {
+// trendsSubtitle is transform t's trends figure's subtitle: the
+// replicates, level and interval, the verdict, what n stands for and the
+// censoring.
+func trendsSubtitle(r *runner.Result, t int, v measure.TransformVerdict) string {
 	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
 		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
+	if customRecipe(r.Study) {
+		sub = fmt.Sprintf("Delta method against %d simulated replicates per n; intervals at level %s: %s. %s",
+			r.Study.Replicates, fmtG(r.Study.Level), recipeWords(r.Study, t), verdictPhrase(v))
+	}
 	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
 		sub += " " + note
 	}
@@ -342,13 +367,18 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
 	var panels []panel
-	for _, mk := range []func() (panel, error){
+	makers := []func() (panel, error){
 		func() (panel, error) { return a.variancePanel(rows) },
 		func() (panel, error) { return a.coveragePanel(rows) },
 		func() (panel, error) { return a.biasPanel(rows) },
 		func() (panel, error) { return a.missPanel(rows) },
 		func() (panel, error) { return a.ksPanel(r, t, rows) },
-	} {
+	}
+	tested := r.Study.Transforms[t].Null != nil
+	if tested {
+		makers = append(makers[:2], append([]func() (panel, error){func() (panel, error) { return a.powerPanel(rows) }}, makers[2:]...)...)
+	}
+	for _, mk := range makers {
 		pn, err := mk()
 		if err != nil {
 			return nil, 0, 0, err
@@ -357,16 +387,26 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	}
 	info := r.Study.Transforms[t]
 	title := figureTitle(info, "")
-	sub := trendsSubtitle(r, v)
+	sub := trendsSubtitle(r, t, v)
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
 	// A subtitle too long for one line wraps, and the figure grows by
 	// the lines it adds, in whole pixels, so the panels keep their room.
 	head := wrappedHeading(title, sub)
-	height := trendsHeight + head.height() - oneLineHeading(title, sub).height()
+	rowsOfPanels, base := 3, trendsHeight
+	if tested {
+		rowsOfPanels, base = 4, trendsHeight*3/2
+	}
+	height := base + head.height() - oneLineHeading(title, sub).height()
 	height = vg.Length(math.Ceil(float64(height.Dots(figDPI)))) / figDPI * vg.Inch
 	return encodeSized(enc, height, func(dc draw.Canvas) {
-		grid := runPanelGrid(panelRows(panels, 3, 2))
-		grid.extra = func(c draw.Canvas) { drawKey(c, key) }
+		grid := runPanelGrid(panelRows(panels, rowsOfPanels, 2))
+		keyDrawn := false // in the first empty slot only
+		grid.extra = func(c draw.Canvas) {
+			if !keyDrawn {
+				drawKey(c, key)
+				keyDrawn = true
+			}
+		}
 		grid.draw(head.draw(dc))
 	})
 }
@@ -404,11 +444,25 @@ func trendsKey(rows []measure.Row, v measure.TransformVerdict, d measure.Decisio
 			"A criterion passes at n when its bar lies inside the grey band, fails when the bar lies wholly outside it, and is unclear otherwise.",
 		"Only variance, coverage and bias decide the verdict; the one-sided misses and the KS distance help to see why.",
 	}
+	if len(rows) > 0 && !slices.Equal(decidingNames(rows[0]), []string{"coverage", "variance", "bias"}) {
+		paras[1] = "Only " + criteriaInWords(rows[0]) + " decide the verdict (the study's decide list); the other panels help to see why."
+	}
 	if v.SmallestN > 0 {
 		paras = append(paras, fmt.Sprintf("The dash-dot line marks n = %d, the smallest n from which every criterion passes at that n and every larger n of the grid.", v.SmallestN))
 	}
 	paras = append(paras, "Verdict by n: "+verdictRuns(rows)+".")
 	return paras
+}
+
+// decidingNames names the criteria that decide row r, in table order.
+func decidingNames(r measure.Row) []string {
+	var names []string
+	for _, c := range measure.Criteria() {
+		if !r.Check(c).Advisory {
+			names = append(names, c.Name)
+		}
+	}
+	return names
 }
 
 // verdictRuns condenses the verdicts by n into runs, "5–10 fail; 20–160 pass".
@@ -452,6 +506,10 @@ func fmtBand(b [2]float64) string { return fmtG(b[0]) + "–" + fmtG(b[1]) }
 
 func trendsAlt(r *runner.Result, t int, v measure.TransformVerdict) string {
 	info := r.Study.Transforms[t]
+	if info.Null != nil {
+		return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, rejection rate of the test of %s = %s against the delta method's prediction, standardised bias, one-sided miss rates and KS distance, each with its accepted band or target. %s",
+			info.Name, info.Name, fmtG(*info.Null), verdictPhrase(v))
+	}
 	return fmt.Sprintf("Trends for %s against n: variance ratio, coverage, standardised bias, one-sided miss rates and KS distance, each with its accepted band. %s",
 		info.Name, verdictPhrase(v))
 }

@@ -22,6 +22,7 @@ var runCases = []runCase{
 	{"three transforms", "run-small"},
 	{"heavy tails, many n", "run-heavy"},
 	{"one n", "run-one-n"},
+	{"stated interval and test", "run-tested"},
 }
 
 // planCase names a stored plan by what the tests need of it.
@@ -39,6 +40,7 @@ var planCases = []planCase{
 	{"binary arms", "plan-binary-arms"},
 	{"budget exhausted", "plan-budget"},
 	{"bracket closes", "plan-adequate"},
+	{"power decides", "plan-power"},
 }
 
 // once holds what a test binary computes once per key.

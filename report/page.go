@@ -27,6 +27,9 @@ const PageFile = "index.html"
 // section of figures per transform, the study file as run and the
 // provenance.
 type studyPage struct {
+	// AllCriteria counts the deciding criteria in words ("all three
+	// criteria pass").
+	AllCriteria string
 	Title       string
 	Description string
 	Glance      []keyValue
@@ -125,6 +128,7 @@ var summaryGroups = []struct {
 	{"Estimate and bias", measure.Estimate, true},
 	{"Variance", measure.Variance, false},
 	{"Intervals and shape", measure.Intervals, true},
+	{"Test of the null", measure.Tests, true}, // only when a transform has a null
 }
 
 // groupColumns lists a page table's columns: the transform and n, the
@@ -185,7 +189,8 @@ func newStudyPage(st study.Info, tool string, build runner.Build, replicates boo
 		p.Glance = append(p.Glance, keyValue{"Censoring", c + ". The fit is the MLE under non-informative censoring, its variance the inverse observed information; the predictions use the expected information under this censoring."})
 	}
 	p.Glance = append(p.Glance, glance...)
-	p.Glance = append(p.Glance, keyValue{"Intervals", fmt.Sprintf("Wald intervals at level %s, standard error from the plug-in delta method", fmtG(st.Level))})
+	p.Glance = append(p.Glance, keyValue{"Intervals", intervalGlance(st)})
+	p.AllCriteria = decidingWords(len(measure.Deciding(st.Criteria)))
 	p.AsRun = []keyValue{{"Seed", seedText(st)}}
 	if replicates {
 		p.AsRun = append(p.AsRun, keyValue{"Replicates", replicatesText(st)})
@@ -237,7 +242,7 @@ func replicatesText(st study.Info) string {
 // the interval that decides it as interval.
 func criterionRules(bands study.Criteria, interval string) []string {
 	var out []string
-	for _, c := range measure.Criteria() {
+	for _, c := range measure.Deciding(bands) {
 		b := c.Band(bands)
 		band := fmtG(b[0]) + "–" + fmtG(b[1])
 		if b[0] == -b[1] {
@@ -297,7 +302,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		Tables:     summaryTables(rows),
 		Incomplete: !r.Complete,
 	}
-	for _, c := range measure.Criteria() {
+	for _, c := range measure.Deciding(st.Criteria) {
 		d.CriterionNames = append(d.CriterionNames, c.Column())
 	}
 	dec := measure.GridDecisions(st)
@@ -313,8 +318,8 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		trows := rows[t*nn : (t+1)*nn]
 		line := verdictLine{answerLine: newAnswerLine(info, stems[t], v, explain(trows, v))}
 		line.Bounds = boundsText(v)
-		for _, n := range v.PerCriterion {
-			line.PerCriterion = append(line.PerCriterion, dash(formatN(n)))
+		for _, c := range measure.Deciding(st.Criteria) {
+			line.PerCriterion = append(line.PerCriterion, dash(formatN(v.PerCriterion[c.Index()])))
 		}
 		d.Verdicts = append(d.Verdicts, line)
 		d.addSection(line.answerLine, t, figs, func(f Figure) string { return figureCaption(f.Kind) })
@@ -387,7 +392,14 @@ func describeModel(arms []study.ArmInfo) string {
 
 func summaryTables(rows []measure.Row) []summaryTable {
 	var out []summaryTable
+	tested := false
+	for _, r := range rows {
+		tested = tested || !math.IsNaN(r.Get(measure.Null))
+	}
 	for _, g := range summaryGroups {
+		if g.group == measure.Tests && !tested {
+			continue
+		}
 		cols := groupColumns(g.group, g.verdict)
 		tb := summaryTable{Caption: g.caption, Columns: cols}
 		for _, r := range rows {

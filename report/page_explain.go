@@ -28,7 +28,7 @@ func explain(rows []measure.Row, v measure.TransformVerdict) string {
 			}
 		}
 		if idx <= 0 {
-			return fmt.Sprintf("Smallest adequate n = %d, the smallest n studied: %s pass at every n of the grid. Smaller samples were not checked.", first.N, criteriaInWords())
+			return fmt.Sprintf("Smallest adequate n = %d, the smallest n studied: %s pass at every n of the grid. Smaller samples were not checked.", first.N, criteriaInWords(first))
 		}
 		prev := rows[idx-1]
 		s := fmt.Sprintf("Smallest adequate n = %d. Not before, because at n = %d %s.", v.SmallestN, prev.N, runVoice.shortfalls(prev))
@@ -118,7 +118,7 @@ func placeSentences(subject string) checkSentences {
 func (v checkVoice) shortfalls(r measure.Row) string {
 	var out []string
 	for _, cr := range measure.Criteria() {
-		if ch := r.Check(cr); ch.Verdict != measure.Pass {
+		if ch := r.Check(cr); ch.Verdict != measure.Pass && !ch.Advisory {
 			out = append(out, v.describe(cr, r, ch))
 		}
 	}
@@ -160,12 +160,14 @@ func (v checkVoice) describe(cr *measure.Criterion, r measure.Row, ch measure.Ch
 	).Replace(sentence)
 }
 
-// criteriaInWords lists the criteria's names as a sentence does:
-// "coverage, variance and bias".
-func criteriaInWords() string {
+// criteriaInWords lists the names of the criteria that decide row r as
+// a sentence does: "coverage, variance and bias".
+func criteriaInWords(r measure.Row) string {
 	var names []string
 	for _, c := range measure.Criteria() {
-		names = append(names, c.Name)
+		if !r.Check(c).Advisory {
+			names = append(names, c.Name)
+		}
 	}
 	if len(names) < 2 {
 		return strings.Join(names, "")

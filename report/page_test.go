@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -246,7 +247,14 @@ func checkPage(t *testing.T, dir string, page []byte, r *runner.Result) {
 			t.Errorf("summary table has %d rows, want %d", n, len(r.Study.Transforms)*len(r.Study.SampleSizes))
 		}
 	}
+	tested := false // the test table is on the page only when a transform has a null
+	for _, tr := range r.Study.Transforms {
+		tested = tested || tr.Null != nil
+	}
 	for _, col := range SummaryColumns {
+		if !tested && slices.Contains(groupColumns(measure.Tests, false)[2:], col) {
+			continue
+		}
 		found := false
 		for _, h := range headers {
 			found = found || h == col
@@ -394,5 +402,38 @@ func TestFmt3(t *testing.T) {
 		if got := fmt3(tc.in); got != tc.want {
 			t.Errorf("fmt3(%v) = %q, want %q", tc.in, got, tc.want)
 		}
+	}
+}
+
+// A study that states its interval and a test: the page says the recipe
+// in words, shows the test's table, and its verdict table has a column
+// for each deciding criterion only (coverage and power here).
+func TestPageStatesTheRecipe(t *testing.T) {
+	r := storedRun(t, "run-tested")
+	dir := t.TempDir()
+	if err := Write(dir, r); err != nil {
+		t.Fatal(err)
+	}
+	page, err := os.ReadFile(filepath.Join(dir, PageFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	doc := parsePage(t, page)
+	body := strings.Join(strings.Fields(doc.text.String()), " ")
+	for _, must := range []string{
+		"z: t quantile with n − 1 df, standard error 1 / √(n − 3); test of H0: z = 0",
+		"Test of the null",
+		"both deciding criteria pass",
+	} {
+		if !strings.Contains(body, must) {
+			t.Errorf("page does not say %q", must)
+		}
+	}
+	var heads []string
+	for _, th := range doc.find(hasClass("table", "verdicts"))[0].find(named("th")) {
+		heads = append(heads, th.text.String())
+	}
+	if want := []string{"transform", "smallest_n", "status", "limiting", "n_coverage", "n_power", "expression"}; !slices.Equal(heads, want) {
+		t.Errorf("verdict table columns %q, want %q", heads, want)
 	}
 }

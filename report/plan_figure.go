@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sort"
 	"strconv"
 	"strings"
 	"unicode"
@@ -235,6 +236,28 @@ func (a planAxis) measurePanel(cr *measure.Criterion, crit study.Criteria, level
 		p.Y.Label.Text = ""
 	}
 	a.addWindow(p)
+	if cr == measure.PowerCheck {
+		// The delta method's predicted rejection rate at the evaluated n,
+		// under the points (planKey says what it is).
+		var px, py []float64
+		for _, st := range steps {
+			if a.contains(st.N) && finite(st.Row.Get(measure.RejectDelta)) {
+				px, py = append(px, float64(st.N)), append(py, st.Row.Get(measure.RejectDelta))
+			}
+		}
+		idx := make([]int, len(px))
+		for i := range idx {
+			idx[i] = i
+		}
+		sort.Slice(idx, func(i, j int) bool { return px[idx[i]] < px[idx[j]] })
+		sx, sy := make([]float64, len(px)), make([]float64, len(px))
+		for k, i := range idx {
+			sx[k], sy[k] = px[i], py[i]
+		}
+		if l, err := lineOf(sx, sy, draw.LineStyle{Color: colSeries2, Width: vg.Points(1.25), Dashes: dashed}); err == nil && len(sx) > 0 {
+			p.Add(l)
+		}
+	}
 	p.Add(vp)
 	tr := trendAxes{xmin: a.xmin, xmax: a.xmax, mark: a.answer}
 	tr.finish(p, math.NaN())
@@ -307,7 +330,7 @@ func planFigure(p *plan.Result, v planView, enc encodeFunc) ([]byte, int, int, e
 	if v.windowTop > 0 {
 		logAxis.winLo, logAxis.winHi = float64(a)+0.5, float64(v.windowTop)+0.5
 	}
-	criteria := measure.Criteria()
+	criteria := measure.Deciding(s.Criteria)
 	cols := []planAxis{logAxis}
 	if zoom {
 		za := planAxis{xmin: float64(zlo) - 0.6, xmax: float64(zhi) + 0.6, ticks: zoomTicks{answer: a}, answer: a,
@@ -455,6 +478,9 @@ func planKey(v planView, p *plan.Result, spec study.PlanSpec) []string {
 			"%s"+
 			"The bottom row gives the replicates behind each decision, topped by the overall verdict at that n: clear cases stop after one batch of %d, cases near the threshold take up to %d.",
 			spec.NMin, hatched, closeUp, spec.Batch, spec.MaxReplicates),
+	}
+	if n, ok := p.DeltaPowerN[v.info.Name]; ok {
+		paras = append(paras, "In the power row, the orange dashed line is the rejection rate the delta method predicts at each evaluated n; "+deltaPowerWords(p, n)+".")
 	}
 	if len(v.oscill) > 0 {
 		paras = append(paras, fmt.Sprintf("Not monotone in n: n = %s failed above an earlier passing n, and the search started again above it.", joinInts(v.oscill)))

@@ -26,6 +26,7 @@ func TestPlanCasesAreWhatTheySay(t *testing.T) {
 		{planCases[2], []measure.Status{measure.StatusUnclear}, false},
 		{planCases[3], nil, true},
 		{planCases[4], []measure.Status{measure.Adequate}, false},
+		{planCases[5], []measure.Status{measure.StatusUnclear}, false},
 	}
 	for _, tc := range tests {
 		t.Run(tc.c.name, func(t *testing.T) {

@@ -9,16 +9,16 @@ import (
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/plan"
+	"deltaprobe/sim/study"
 )
 
-// PlanColumns is the header of plan.csv: each criterion's measure and its
-// Monte Carlo standard error, in the order of measure.Criteria, between
-// the evaluation and its verdict (contract: names and order).
-var PlanColumns = planColumns()
-
-func planColumns() []string {
+// PlanColumns is the header of plan.csv for a study with criteria c:
+// each deciding criterion's measure and its Monte Carlo standard error,
+// in the order of measure.Criteria, between the evaluation and its
+// verdict (contract: names and order, for the default criteria).
+func PlanColumns(c study.Criteria) []string {
 	cols := []string{"transform", "step", "n", "replicates"}
-	for _, c := range measure.Criteria() {
+	for _, c := range measure.Deciding(c) {
 		cols = append(cols, c.Measure.Name, c.MCSE.Name)
 	}
 	return append(cols, "verdict")
@@ -30,12 +30,12 @@ func PlanCSV(p *plan.Result) []byte {
 	records := make([][]string, len(p.Steps))
 	for i, st := range p.Steps {
 		rec := []string{st.Transform, strconv.Itoa(st.Step), strconv.Itoa(st.N), strconv.FormatInt(st.Replicates, 10)}
-		for _, c := range measure.Criteria() {
+		for _, c := range measure.Deciding(p.Study.Criteria) {
 			rec = append(rec, formatMeasure(c.Measure, st.Row), formatMeasure(c.MCSE, st.Row))
 		}
 		records[i] = append(rec, string(st.Row.Verdict))
 	}
-	return csvOf(PlanColumns, records)
+	return csvOf(PlanColumns(p.Study.Criteria), records)
 }
 
 // PlanTable prints, per transform, the answer, what limits it, the
@@ -73,6 +73,9 @@ func PlanTable(w io.Writer, p *plan.Result) {
 		if len(p.Undecided[i]) > 0 {
 			fmt.Fprintf(w, "  %s: %d n above the answer stayed undecided within the budget (they neither passed nor failed)\n",
 				v.Transform, len(p.Undecided[i]))
+		}
+		if n, ok := p.DeltaPowerN[v.Transform]; ok {
+			fmt.Fprintf(w, "  %s: %s\n", v.Transform, deltaPowerWords(p, n))
 		}
 	}
 	if p.Exhausted {

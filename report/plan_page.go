@@ -81,7 +81,7 @@ func buildPlanPage(p *plan.Result, figs []Figure) planPageData {
 	for t, info := range st.Transforms {
 		v := newPlanView(p, t)
 		line := planAnswerLine{
-			answerLine:   newAnswerLine(info, stems[t], v.verdict, planExplain(v, spec)),
+			answerLine:   newAnswerLine(info, stems[t], v.verdict, planExplainPower(p, v, spec)),
 			Checked:      len(v.steps),
 			Replicates:   v.replicates,
 			Window:       dash(""),
@@ -122,10 +122,11 @@ func planCaption(v planView) string {
 // planStepsTable is plan.csv for reading: every column, to four
 // significant digits (the file has eight).
 func planStepsTable(p *plan.Result) summaryTable {
-	tb := summaryTable{Caption: "Every evaluation, per transform, in the order the search made them", Columns: PlanColumns}
+	cols := PlanColumns(p.Study.Criteria)
+	tb := summaryTable{Caption: "Every evaluation, per transform, in the order the search made them", Columns: cols}
 	for _, st := range p.Steps {
-		cells := make([]summaryCell, len(PlanColumns))
-		for i, col := range PlanColumns {
+		cells := make([]summaryCell, len(cols))
+		for i, col := range cols {
 			cells[i] = planCellFor(st, col)
 		}
 		tb.Rows = append(tb.Rows, cells)
@@ -151,7 +152,7 @@ func planExplain(v planView, spec study.PlanSpec) string {
 	switch tv.Status {
 	case measure.Adequate:
 		a := tv.SmallestN
-		fmt.Fprintf(&b, "Smallest adequate n = %d: %s all pass there, and no n checked above it fails", a, criteriaInWords())
+		fmt.Fprintf(&b, "Smallest adequate n = %d: %s all pass there, and no n checked above it fails", a, criteriaInWords(v.steps[0].Row))
 		if v.windowTop > 0 {
 			fmt.Fprintf(&b, ", the window n = %d–%d included", a+1, v.windowTop)
 		}
@@ -200,4 +201,24 @@ func planExplain(v planView, spec study.PlanSpec) string {
 		fmt.Fprintf(&b, " %d replicates per n could not settle it.", spec.MaxReplicates)
 	}
 	return b.String()
+}
+
+// planExplainPower is planExplain, and for a transform whose power
+// decides, what the delta method's power formula said.
+func planExplainPower(p *plan.Result, v planView, spec study.PlanSpec) string {
+	s := planExplain(v, spec)
+	if n, ok := p.DeltaPowerN[v.info.Name]; ok {
+		s += " " + strings.ToUpper(deltaPowerWords(p, n)[:1]) + deltaPowerWords(p, n)[1:] + "."
+	}
+	return s
+}
+
+// deltaPowerWords says where the delta method's power formula reaches
+// the target, the planner's usual answer.
+func deltaPowerWords(p *plan.Result, n int) string {
+	target := fmtG(p.Study.Criteria.PowerTarget())
+	if n == 0 {
+		return fmt.Sprintf("the delta method's power formula (reject_delta) does not reach %s by n = %d", target, p.Spec.NMax)
+	}
+	return fmt.Sprintf("the delta method's power formula (reject_delta) reaches %s at n = %d", target, n)
 }

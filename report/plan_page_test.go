@@ -106,8 +106,8 @@ func checkPlanPage(t *testing.T, dir string, page []byte, s *study.Study, p *pla
 	for _, th := range evals[0].find(named("th")) {
 		headers = append(headers, th.text.String())
 	}
-	if strings.Join(headers, ",") != strings.Join(PlanColumns, ",") {
-		t.Errorf("evaluation table columns %q, want plan.csv's %q", headers, PlanColumns)
+	if cols := PlanColumns(p.Study.Criteria); strings.Join(headers, ",") != strings.Join(cols, ",") {
+		t.Errorf("evaluation table columns %q, want plan.csv's %q", headers, cols)
 	}
 	if n := len(evals[0].find(named("tr"))) - 1; n != len(p.Steps) {
 		t.Errorf("evaluation table has %d rows for %d steps", n, len(p.Steps))
@@ -214,5 +214,33 @@ func TestPlanExplain(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// A plan that power decides states the recipe and, beside its answer,
+// the delta method's own answer from the power formula.
+func TestPlanPageStatesThePowerFormula(t *testing.T) {
+	_, p := storedPlan(t, "plan-power")
+	n, ok := p.DeltaPowerN["offset"]
+	if !ok || n == 0 {
+		t.Fatalf("plan-power holds no delta-method n: %v", p.DeltaPowerN)
+	}
+	dir := t.TempDir()
+	if err := WritePlan(dir, p); err != nil {
+		t.Fatal(err)
+	}
+	page, err := os.ReadFile(filepath.Join(dir, PageFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	body := strings.Join(strings.Fields(parsePage(t, page).text.String()), " ")
+	for _, must := range []string{
+		"The delta method's power formula (reject_delta) reaches 0.8 at n = " + strconv.Itoa(n) + ".",
+		"offset: t quantile with n − 1 df, standard error sd / √(n − 1); test of H0: offset = 0",
+		"both deciding criteria pass",
+	} {
+		if !strings.Contains(body, must) {
+			t.Errorf("plan page does not say %q", must)
+		}
 	}
 }

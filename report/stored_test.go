@@ -28,6 +28,7 @@ var storedRuns = []string{
 	"run-small",    // three transforms, three n: names that meet once made safe, undefined replicates, one adequate at no n
 	"run-heavy",    // heavy tails over more n than the shapes figure shows
 	"run-one-n",    // a single sample size
+	"run-tested",   // a t interval, the analyst's se and a null, decided by coverage and power
 	"run-censored", // two arms of censored lifetimes, one with entry and dropout
 }
 
@@ -42,6 +43,7 @@ var storedPlans = []struct {
 	{"plan-binary-arms", 0},
 	{"plan-budget", 15000},
 	{"plan-adequate", 0},
+	{"plan-power", 0},
 }
 
 // maxStoredSize bounds each stored file: they are test data, and fewer

@@ -10,6 +10,7 @@ import (
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // VerdictTable prints, per transform, the answer and why, under the
@@ -18,15 +19,17 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	rows := measure.Summarize(r)
 	vs := measure.Verdicts(rows)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	// The columns are the deciding criteria; verdicts.csv has every one.
+	deciding := measure.Deciding(r.Study.Criteria)
 	var columns []string
-	for _, c := range measure.Criteria() {
+	for _, c := range deciding {
 		columns = append(columns, c.Column())
 	}
 	fmt.Fprintln(tw, "transform\tsmallest_n\tstatus\tlimiting\t"+strings.Join(columns, "\t"))
 	for _, v := range vs {
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s", clip(v.Transform, 16), boundsText(v), v.Status, v.Limiting)
-		for _, n := range v.PerCriterion {
-			fmt.Fprintf(tw, "\t%s", dash(formatN(n)))
+		for _, c := range deciding {
+			fmt.Fprintf(tw, "\t%s", dash(formatN(v.PerCriterion[c.Index()])))
 		}
 		fmt.Fprintln(tw)
 	}
@@ -36,6 +39,11 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	}
 	wrap(w, "", fmt.Sprintf("smallest_n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
 		strings.Join(columns, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
+	if customRecipe(r.Study) {
+		for t, tr := range r.Study.Transforms {
+			wrap(w, "  ", tr.Name+": "+recipeWords(r.Study, t)+".")
+		}
+	}
 	for _, v := range vs {
 		if len(v.Undecided) > 0 {
 			wrap(w, "  ", v.Transform+": "+undecidedText(v.Undecided, r.Study.Replicates))
@@ -151,19 +159,46 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	if st.PerArm() {
 		head += "\tN"
 	}
-	fmt.Fprintln(tw, head+"\ttruth\tdelta_var\tdelta_sd\tbias_2nd")
+	tested := false // a transform has a null: the table predicts its test
+	for _, info := range st.Transforms {
+		tested = tested || info.Null != nil
+	}
+	head += "\ttruth\tdelta_var\tdelta_sd\tbias_2nd\twidth_delta"
+	if tested {
+		head += "\tnull\treject_delta"
+	}
+	fmt.Fprintln(tw, head)
 	for t, info := range st.Transforms {
 		for ni, n := range st.SampleSizes {
 			p := r.Predictions[t][ni]
-			fmt.Fprintf(tw, "%s\t%d%s\t%s\t%s\t%s\t%s\n", clip(info.Name, 24), n, total(n), formatFloat(p.Truth), formatFloat(p.DeltaVar),
-				formatFloat(math.Sqrt(p.DeltaVar)), formatFloat(p.Bias2nd))
+			q, sd := st.Quantile(n), math.Sqrt(p.DeltaVar)
+			fmt.Fprintf(tw, "%s\t%d%s\t%s\t%s\t%s\t%s\t%s", clip(info.Name, 24), n, total(n), formatFloat(p.Truth), formatFloat(p.DeltaVar),
+				formatFloat(sd), formatFloat(p.Bias2nd), formatFloat(2*q*sd))
+			switch {
+			case info.Null != nil:
+				fmt.Fprintf(tw, "\t%s\t%s", formatFloat(*info.Null), formatFloat(measure.RejectRate(q, (p.Truth-*info.Null)/sd)))
+			case tested:
+				fmt.Fprint(tw, "\t–\t–")
+			}
+			fmt.Fprintln(tw)
 		}
 	}
 	tw.Flush()
 	if note := armSizesNote(st, exampleN(st, 0)); note != "" {
 		wrap(w, "", note+" N: the total at each n.")
 	}
+	wrap(w, "", "width_delta: the width 2·q·delta_sd the delta method predicts for the interval, q "+quantileWords(st)+"."+
+		map[bool]string{true: " reject_delta: the rate at which that interval excludes the null when the transform is at its truth, Φ(−q − δ) + 1 − Φ(q − δ) with δ = (truth − null)/delta_sd.", false: ""}[tested])
 	if note := censoringNote(st); note != "" {
 		wrap(w, "", note+" delta_var uses the expected information under this censoring.")
 	}
+}
+
+// quantileWords names the interval's quantile: "the normal quantile
+// 1.96", or Student's t with its df expression.
+func quantileWords(st study.Info) string {
+	if st.Interval != nil && st.Interval.Quantile == study.QuantileT {
+		return fmt.Sprintf("the %v quantile of Student's t with %s degrees of freedom", 1-(1-st.Level)/2, st.Interval.DF)
+	}
+	return fmt.Sprintf("the normal quantile %s", formatFloat(st.Quantile(0)))
 }

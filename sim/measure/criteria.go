@@ -15,6 +15,7 @@ import (
 // one declaration there (and a test).
 type Criterion struct {
 	Name    string // as verdicts.csv names it: limiting and n_NAME
+	Key     string // as the study file names it: in [criteria] decide
 	Title   string // a short panel title for figures
 	Heading string // a longer title that says what is plotted
 	Axis    string // the axis label of the measure
@@ -65,6 +66,9 @@ type Check struct {
 	Low, High float64 // Monte Carlo interval
 	Band      [2]float64
 	Verdict   Verdict
+	// Advisory: the criterion is not in the study's decide list, so it
+	// is reported and decides nothing.
+	Advisory bool
 }
 
 func judge(lo, hi float64, band [2]float64) Check {

@@ -27,7 +27,7 @@ func GridDecisions(info study.Info) Decisions {
 	if conf == 0 {
 		conf = study.DefaultConfidence
 	}
-	k := max(len(info.SampleSizes)*len(criteria), 1)
+	k := max(len(info.SampleSizes)*len(Deciding(info.Criteria)), 1)
 	alpha := (1 - conf) / float64(k)
 	return Decisions{Confidence: conf, Count: k, Z: normalQuantile(1 - alpha/2)}
 }
@@ -38,6 +38,17 @@ func (d Decisions) Method() string {
 		trimFloat(d.Confidence), d.Count, d.Z)
 }
 
+// Deciding lists the criteria that decide under c, in table order.
+func Deciding(c study.Criteria) []*Criterion {
+	var out []*Criterion
+	for _, cr := range criteria {
+		if c.Decides(cr.Key) {
+			out = append(out, cr)
+		}
+	}
+	return out
+}
+
 func normalQuantile(p float64) float64 { return math.Sqrt2 * math.Erfinv(2*p-1) }
 
 func trimFloat(x float64) string { return fmt.Sprint(x) }
@@ -45,8 +56,9 @@ func trimFloat(x float64) string { return fmt.Sprint(x) }
 // PlanDecisions is how a plan decides. A plan's bracket [n_low, n_high]
 // on the smallest adequate n rests on the decisions at two sample sizes:
 // every criterion passing at n_high, and a criterion failing at
-// n_low − 1 (none when n_low is the lowest n searched), 2 × criteria
-// decisions in all; an adequate answer is a bracket that closes. Each decision's error is split again over
+// n_low − 1 (none when n_low is the lowest n searched), 2 × deciding
+// criteria decisions in all; an adequate answer is a bracket that closes.
+// Each decision's error is split again over
 // the looks its n may take (repeated looks at growing replicates).
 //
 // Unless [plan] confidence sets each decision's confidence, it is chosen
@@ -64,7 +76,7 @@ type PlanDecisions struct {
 
 // PlanRule is the decision rule of a plan of study info with spec.
 func PlanRule(info study.Info, spec study.PlanSpec) PlanDecisions {
-	d := PlanDecisions{Count: 2 * len(criteria), Looks: spec.Looks()}
+	d := PlanDecisions{Count: 2 * max(len(Deciding(info.Criteria)), 1), Looks: spec.Looks()}
 	conf := info.Criteria.Confidence
 	if conf == 0 {
 		conf = study.DefaultConfidence

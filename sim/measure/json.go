@@ -56,10 +56,11 @@ type rowJSON struct {
 }
 
 type checkJSON struct {
-	Low     number     `json:"low"`
-	High    number     `json:"high"`
-	Band    [2]float64 `json:"band"`
-	Verdict Verdict    `json:"verdict"`
+	Low      number     `json:"low"`
+	High     number     `json:"high"`
+	Band     [2]float64 `json:"band"`
+	Verdict  Verdict    `json:"verdict"`
+	Advisory bool       `json:"advisory,omitempty"`
 }
 
 // MarshalJSON writes the row with its measures and checks by name.
@@ -74,7 +75,7 @@ func (r Row) MarshalJSON() ([]byte, error) {
 	for i, c := range criteria {
 		if i < len(r.Checks) {
 			ch := r.Checks[i]
-			out.Checks[c.Name] = checkJSON{Low: number(ch.Low), High: number(ch.High), Band: ch.Band, Verdict: ch.Verdict}
+			out.Checks[c.Name] = checkJSON{Low: number(ch.Low), High: number(ch.High), Band: ch.Band, Verdict: ch.Verdict, Advisory: ch.Advisory}
 		}
 	}
 	return json.Marshal(out)
@@ -96,7 +97,7 @@ func (r *Row) UnmarshalJSON(b []byte) error {
 	}
 	for i, c := range criteria {
 		if ch, ok := in.Checks[c.Name]; ok {
-			r.Checks[i] = Check{Low: float64(ch.Low), High: float64(ch.High), Band: ch.Band, Verdict: ch.Verdict}
+			r.Checks[i] = Check{Low: float64(ch.Low), High: float64(ch.High), Band: ch.Band, Verdict: ch.Verdict, Advisory: ch.Advisory}
 		}
 	}
 	return nil

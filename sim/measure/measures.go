@@ -33,6 +33,7 @@ const (
 	Estimate               // estimate and bias
 	Variance               // variance and its ratios
 	Intervals              // interval coverage and the shape of τ̂
+	Tests                  // the test of a transform's null
 )
 
 // Cell is what one transform's measures at one n are computed from: the
@@ -44,7 +45,18 @@ type Cell struct {
 	Pred      study.Prediction
 	Moments   runner.Moments // of the defined estimates
 	PluginVar float64        // mean plug-in variance over the defined replicates
+	Width     float64        // mean interval width over the defined replicates
 	SDDelta   float64        // √delta_var
+	Quantile  float64        // the interval's quantile q at n
+	Null      float64        // the transform's null; NaN when it has none
+}
+
+// RejectRate is the probability that |Z + δ| > q for Z ~ N(0, 1):
+// Φ(−q − δ) + 1 − Φ(q − δ), the rejection rate of a two-sided Wald test
+// whose estimate lies δ standard deviations from the null.
+func RejectRate(q, delta float64) float64 {
+	phi := func(x float64) float64 { return 0.5 * math.Erfc(-x/math.Sqrt2) }
+	return phi(-q-delta) + phi(-q+delta)
 }
 
 // defined says the cell has at least k defined estimates.

@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"deltaprobe/sim/runner"
+	"deltaprobe/sim/study"
 )
 
 // Row is one transform at one sample size: every measure, every check and
@@ -24,8 +25,8 @@ func NewRow(transform string, n int) Row {
 	for i := range r.Values {
 		r.Values[i] = nan
 	}
-	for i := range r.Checks {
-		r.Checks[i] = Check{Low: nan, High: nan, Verdict: Unclear}
+	for i, c := range criteria {
+		r.Checks[i] = Check{Low: nan, High: nan, Verdict: Unclear, Advisory: !study.DefaultCriteria(0.95).Decides(c.Key)}
 	}
 	return r
 }
@@ -65,7 +66,11 @@ func SummarizeCell(r *runner.Result, t, ni int, z float64) Row {
 	merged := rc.Merged()
 	c := &Cell{
 		Study: &r.Study, Cell: rc, Pred: r.Predictions[t][ni],
-		Moments: merged.Moments, PluginVar: merged.PluginVar,
+		Moments: merged.Moments, PluginVar: merged.PluginVar, Width: merged.Width,
+		Quantile: r.Study.Quantile(rc.N), Null: nan,
+	}
+	if null := r.Study.Transforms[t].Null; null != nil {
+		c.Null = *null
 	}
 	c.SDDelta = math.Sqrt(c.Pred.DeltaVar)
 	row := Row{
@@ -79,15 +84,20 @@ func SummarizeCell(r *runner.Result, t, ni int, z float64) Row {
 	for i, cr := range criteria {
 		lo, hi := cr.Interval(c, &row, z)
 		row.Checks[i] = judge(lo, hi, cr.Band(r.Study.Criteria))
+		row.Checks[i].Advisory = !r.Study.Criteria.Decides(cr.Key)
 	}
 	row.Verdict = combine(row.Checks)
 	return row
 }
 
-// combine passes when every check passes and fails when any fails.
+// combine passes when every deciding check passes and fails when any
+// fails; advisory checks decide nothing.
 func combine(checks []Check) Verdict {
 	v := Pass
 	for _, c := range checks {
+		if c.Advisory {
+			continue
+		}
 		switch c.Verdict {
 		case Fail:
 			return Fail

@@ -120,6 +120,52 @@ var (
 	// (τ̂ − τ0)/se from N(0, 1), from its histogram.
 	KSPivot = define(Measure{Name: "ks_pivot", Group: Intervals,
 		Value: func(c *Cell, _ *Row) float64 { return c.Cell.Wald.KSNormal() }})
+	// coverage_defined is the coverage among the defined replicates only.
+	CoverageDefined = define(Measure{Name: "coverage_defined", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 {
+			d := c.Cell.Replicates - c.Cell.Undefined
+			if d <= 0 {
+				return nan
+			}
+			return float64(c.Cell.Covered) / float64(d)
+		}})
+	// width is the mean width 2·q·se of the defined replicates' intervals.
+	Width = define(Measure{Name: "width", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 { return ifDefined(c, 1, c.Width) }})
+	// width_delta is the width the delta method predicts, 2·q·√delta_var.
+	WidthDelta = define(Measure{Name: "width_delta", Group: Intervals,
+		Value: func(c *Cell, _ *Row) float64 { return 2 * c.Quantile * c.SDDelta }})
+	Null = define(Measure{Name: "null", Group: Tests,
+		Value: func(c *Cell, _ *Row) float64 { return c.Null }})
+	// reject is the share of replicates whose interval excludes the null;
+	// an undefined replicate does not reject. Its MCSE is √(p(1 − p)/R)
+	// (Morris et al. 2019, Table 6, as for coverage).
+	Reject = define(Measure{Name: "reject", Group: Tests,
+		Value: func(c *Cell, _ *Row) float64 {
+			if math.IsNaN(c.Null) {
+				return nan
+			}
+			return share(c, c.Cell.Rejected)
+		}})
+	RejectMCSE = define(Measure{Name: "reject_mcse", Group: Tests,
+		Value: func(c *Cell, r *Row) float64 {
+			p := r.Get(Reject)
+			if math.IsNaN(p) {
+				return nan
+			}
+			return math.Sqrt(p * (1 - p) / float64(c.Cell.Replicates))
+		}})
+	// reject_delta is the rejection rate the delta method predicts at the
+	// truth, τ̂ ~ N(τ0, delta_var): Φ(−q − δ) + 1 − Φ(q − δ) with
+	// δ = (τ0 − null)/√delta_var (the Wald test's power, e.g. Casella &
+	// Berger 2002, §10.3, from memory).
+	RejectDelta = define(Measure{Name: "reject_delta", Group: Tests,
+		Value: func(c *Cell, _ *Row) float64 {
+			if math.IsNaN(c.Null) {
+				return nan
+			}
+			return RejectRate(c.Quantile, (c.Pred.Truth-c.Null)/c.SDDelta)
+		}})
 	// events is the mean share of observations that were events (not
 	// censored), over the replicates and the lifetime arms the transform
 	// reads; empty when it reads none.
@@ -129,6 +175,12 @@ var (
 				return nan
 			}
 			return float64(c.Cell.Events) / float64(c.Cell.Lifetimes)
+		}})
+	// The plug-in ratio's MCSE takes plugin_var as known: its own Monte
+	// Carlo error is smaller than emp_var's by about √n (common practice).
+	PluginRatioMCSE = define(Measure{Name: "plugin_ratio_mcse", Group: Internal,
+		Value: func(c *Cell, r *Row) float64 {
+			return ifDefined(c, 2, r.Get(PluginRatio)*r.Get(EmpVarMCSE)/r.Get(EmpVar))
 		}})
 	FitFailures = define(Measure{Name: "fit_failures", Group: Internal, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.FitFailures) }})
@@ -143,7 +195,7 @@ var (
 	// CoverageCheck: the Wald interval's coverage, its Monte Carlo
 	// interval the Wilson (1927) score interval.
 	CoverageCheck = defineCriterion(Criterion{
-		Name: "coverage", Title: "Coverage", Noun: "coverage",
+		Name: "coverage", Key: "coverage", Title: "Coverage", Noun: "coverage",
 		Heading: "Coverage of the Wald interval", Axis: "coverage",
 		Ideal: func(level float64) float64 { return level }, Nominal: true,
 		Measure: Coverage, MCSE: CoverageMCSE,
@@ -159,7 +211,7 @@ var (
 	// VarianceCheck: delta_var / emp_var. delta_var at the truth is exact,
 	// so the interval is emp_var's normal interval, inverted.
 	VarianceCheck = defineCriterion(Criterion{
-		Name: "variance", Title: "Variance ratio", Noun: "the variance ratio",
+		Name: "variance", Key: "var_ratio", Title: "Variance ratio", Noun: "the variance ratio",
 		Heading: "Variance ratio, delta method / simulated", Axis: "variance ratio", Ratio: true,
 		Ideal:   func(float64) float64 { return 1 },
 		Measure: VarRatio, MCSE: VarRatioMCSE,
@@ -182,7 +234,7 @@ var (
 	})
 	// BiasCheck: |bias| / √delta_var, its interval std_bias ± z·MCSE.
 	BiasCheck = defineCriterion(Criterion{
-		Name: "bias", Title: "Bias", Noun: "the standardised bias",
+		Name: "bias", Key: "std_bias", Title: "Bias", Noun: "the standardised bias",
 		Heading: "Bias, in delta-method standard deviations", Axis: "bias / delta sd",
 		Ideal:   func(float64) float64 { return 0 },
 		Measure: StdBias, MCSE: StdBiasMCSE,
@@ -195,5 +247,49 @@ var (
 		Below:   "the bias is {value} delta-method sd, beyond ±{bound} ({interval})",
 		Above:   "the bias is {value} delta-method sd, beyond ±{bound} ({interval})",
 		Unclear: "the bias is not clearly within ±{bound} delta-method sd: {value} ({crosses})",
+	})
+	// PluginCheck: plugin_var / emp_var, the variance the reported
+	// interval assumes against the simulated one; like the variance
+	// ratio, emp_var's interval inverted (plugin_var taken as known).
+	PluginCheck = defineCriterion(Criterion{
+		Name: "plugin", Key: "plugin_ratio", Title: "Plug-in ratio", Noun: "the plug-in ratio",
+		Heading: "Plug-in variance / simulated variance", Axis: "plug-in ratio", Ratio: true,
+		Ideal:   func(float64) float64 { return 1 },
+		Measure: PluginRatio, MCSE: PluginRatioMCSE,
+		Rule: "Plug-in: the Monte Carlo {interval} of plugin_var / emp_var lies inside {band}.",
+		Band: func(c study.Criteria) [2]float64 { return c.PluginBand() },
+		Interval: func(c *Cell, r *Row, z float64) (float64, float64) {
+			ev, mcse := r.Get(EmpVar), r.Get(EmpVarMCSE)
+			if math.IsNaN(mcse) {
+				return nan, nan
+			}
+			lo, hi := c.PluginVar/(ev+z*mcse), math.Inf(1)
+			if d := ev - z*mcse; d > 0 {
+				hi = c.PluginVar / d
+			}
+			return lo, hi
+		},
+		Below:   "the reported standard error is too small: its variance is {value} of the simulated variance ({interval}; {band})",
+		Above:   "the reported standard error is too large: its variance is {value} times the simulated variance ({interval}; {band})",
+		Unclear: "the plug-in ratio is not clearly inside its band: {value} ({crosses})",
+	})
+	// PowerCheck: the rejection rate of the test of the null, its Monte
+	// Carlo interval Wilson's (1927); it passes at or above the target.
+	PowerCheck = defineCriterion(Criterion{
+		Name: "power", Key: "power", Title: "Power", Noun: "the power",
+		Heading: "Rejection rate of the test of the null", Axis: "rejection rate",
+		Ideal:   func(float64) float64 { return 1 },
+		Measure: Reject, MCSE: RejectMCSE,
+		Rule: "Power: the Wilson {interval} of the rejection rate lies inside {band}.",
+		Band: func(c study.Criteria) [2]float64 { return [2]float64{c.PowerTarget(), 1} },
+		Interval: func(c *Cell, _ *Row, z float64) (float64, float64) {
+			if math.IsNaN(c.Null) {
+				return nan, nan
+			}
+			return wilson(float64(c.Cell.Rejected), float64(c.Cell.Replicates), z)
+		},
+		Below:   "the test rejects too rarely: {value} ({interval}; {band})",
+		Above:   "the test rejects too rarely: {value} ({interval}; {band})",
+		Unclear: "the power is not clearly at its target: {value} ({crosses})",
 	})
 )

@@ -24,11 +24,12 @@ func TestTableOrder(t *testing.T) {
 		"rel_bias", "std_bias", "bias_2nd", "emp_var", "emp_var_mcse", "delta_var",
 		"var_ratio", "var_ratio_mcse", "plugin_var", "plugin_ratio", "coverage",
 		"coverage_mcse", "miss_below", "miss_above", "iqr_sd", "skewness",
-		"ex_kurtosis", "ks_pivot", "events"}
+		"ex_kurtosis", "ks_pivot", "coverage_defined", "width", "width_delta",
+		"null", "reject", "reject_mcse", "reject_delta", "events"}
 	if !slices.Equal(columns, want) {
 		t.Errorf("summary measures\n%q\nwant\n%q", columns, want)
 	}
-	if want := []string{"std_bias_mcse", "fit_failures", "no_events", "zero_se"}; !slices.Equal(internal, want) {
+	if want := []string{"std_bias_mcse", "plugin_ratio_mcse", "fit_failures", "no_events", "zero_se"}; !slices.Equal(internal, want) {
 		t.Errorf("internal measures %q, want %q", internal, want)
 	}
 	var names []string
@@ -44,7 +45,7 @@ func TestTableOrder(t *testing.T) {
 			t.Errorf("criterion %s lacks words", c.Name)
 		}
 	}
-	if want := []string{"coverage", "variance", "bias"}; !slices.Equal(names, want) {
+	if want := []string{"coverage", "variance", "bias", "plugin", "power"}; !slices.Equal(names, want) {
 		t.Errorf("criteria %q, want %q", names, want)
 	}
 }

@@ -113,7 +113,7 @@ func Conclude(rows []Row, a Answer) TransformVerdict {
 		tv.Status, tv.SmallestN, tv.Limiting = Adequate, tv.Low, "none"
 		if tv.SmallestN > a.Lowest {
 			for c, cr := range criteria {
-				if tv.PerCriterion[c] == tv.SmallestN {
+				if tv.PerCriterion[c] == tv.SmallestN && !decidesNothing(rows, c) {
 					tv.Limiting = cr.Name
 					break
 				}
@@ -145,7 +145,7 @@ func Conclude(rows []Row, a Answer) TransformVerdict {
 // v, or "" if none has.
 func firstWith(r Row, v Verdict) string {
 	for c, cr := range criteria {
-		if r.Checks[c].Verdict == v {
+		if r.Checks[c].Verdict == v && !r.Checks[c].Advisory {
 			return cr.Name
 		}
 	}
@@ -191,7 +191,7 @@ func searched(rows []Row, a Answer) TransformVerdict {
 		if a.N > a.Lowest {
 			best := 0
 			for c, cr := range criteria {
-				if tv.PerCriterion[c] > best {
+				if tv.PerCriterion[c] > best && !decidesNothing(rows, c) {
 					best, tv.Limiting = tv.PerCriterion[c], cr.Name
 				}
 			}
@@ -240,6 +240,10 @@ func integerLow(rows []Row, lowest int, v func(Row) Verdict) int {
 	return low
 }
 
+// decidesNothing reports whether criterion c is advisory in rows: not
+// in the study's decide list, so it may not be named as limiting.
+func decidesNothing(rows []Row, c int) bool { return rows[0].Checks[c].Advisory }
+
 // bounds returns Low and High (see TransformVerdict) of rows sorted by n,
 // reading each row's verdict with v; 0 where a bound does not exist.
 func bounds(rows []Row, v func(Row) Verdict) (low, high int) {
@@ -270,7 +274,7 @@ func undecided(rows []Row, low, high int) []UndecidedN {
 		reps := float64(r.Count(Replicates))
 		for c, cr := range criteria {
 			ch := r.Checks[c]
-			if ch.Verdict != Unclear {
+			if ch.Verdict != Unclear || ch.Advisory {
 				continue
 			}
 			v, half := r.Get(cr.Measure), (ch.High-ch.Low)/2

@@ -65,7 +65,7 @@ func TestGridDecisions(t *testing.T) {
 	}{{0.95, 6}, {0.99, 1}, {0.5, 12}} {
 		info := study.Info{SampleSizes: make([]int, c.ns), Criteria: study.Criteria{Confidence: c.conf}}
 		d := GridDecisions(info)
-		k := c.ns * len(Criteria())
+		k := c.ns * 3 // the default decide: coverage, var_ratio, std_bias
 		want := distuv.UnitNormal.Quantile(1 - (1-c.conf)/float64(2*k))
 		if d.Count != k || math.Abs(d.Z-want) > 1e-9 {
 			t.Errorf("confidence %v, %d sizes: K = %d, z = %v; want %d, %v", c.conf, c.ns, d.Count, d.Z, k, want)

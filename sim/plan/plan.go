@@ -38,20 +38,25 @@ type Result struct {
 	Steps    []Step                     `json:"steps"`
 	Verdicts []measure.TransformVerdict `json:"verdicts"`
 	// Per transform, in study order:
-	Window       []int                 `json:"window"`       // integers above the answer that were checked
-	LargestFail  []int                 `json:"largest_fail"` // largest n found failing above any candidate; 0 if none
-	Oscillations [][]int               `json:"oscillations"` // failing n found above a candidate, in order
-	Undecided    [][]int               `json:"undecided"`    // unclear n above the answer
-	Spent        map[int]int64         `json:"spent"`        // replicates simulated per n
-	Total        int64                 `json:"total"`
-	Decisions    measure.PlanDecisions `json:"decisions"`   // the confidence of each decision and of each answer
-	Method       string                `json:"method"`      // Decisions in words
-	WindowRule   string                `json:"window_rule"` // how many integers above an answer are checked
-	Z            float64               `json:"z"`
-	Exhausted    bool                  `json:"exhausted"` // the -budget cap was reached
-	Workers      int                   `json:"workers"`
-	Elapsed      float64               `json:"elapsed_seconds"`
-	Finished     string                `json:"finished"` // RFC 3339 UTC
+	Window       []int   `json:"window"`       // integers above the answer that were checked
+	LargestFail  []int   `json:"largest_fail"` // largest n found failing above any candidate; 0 if none
+	Oscillations [][]int `json:"oscillations"` // failing n found above a candidate, in order
+	Undecided    [][]int `json:"undecided"`    // unclear n above the answer
+	// DeltaPowerN holds, for each transform whose power decides, the
+	// smallest n of the search range at which the delta method's
+	// rejection rate reaches the target (0: not within the range): the
+	// answer of the power formula, beside the plan's own.
+	DeltaPowerN map[string]int        `json:"delta_power_n,omitempty"`
+	Spent       map[int]int64         `json:"spent"` // replicates simulated per n
+	Total       int64                 `json:"total"`
+	Decisions   measure.PlanDecisions `json:"decisions"`   // the confidence of each decision and of each answer
+	Method      string                `json:"method"`      // Decisions in words
+	WindowRule  string                `json:"window_rule"` // how many integers above an answer are checked
+	Z           float64               `json:"z"`
+	Exhausted   bool                  `json:"exhausted"` // the -budget cap was reached
+	Workers     int                   `json:"workers"`
+	Elapsed     float64               `json:"elapsed_seconds"`
+	Finished    string                `json:"finished"` // RFC 3339 UTC
 	// Incomplete marks a plan stopped before its end (Ctrl-C, SIGTERM):
 	// Steps hold every evaluation finished, the per-transform lists only
 	// the transforms finished, and Cache what resuming needs (see Resume).
@@ -164,6 +169,7 @@ func Resume(ctx context.Context, s *study.Study, prev *Result, cfg Config) (*Res
 	}
 	// finish recomputes every transform's lists as the replay reaches it.
 	p.out.Verdicts, p.out.Window, p.out.LargestFail, p.out.Oscillations, p.out.Undecided = nil, nil, nil, nil, nil
+	p.out.DeltaPowerN = nil
 	p.out.Build = p.out.Build.Join(runner.CurrentBuild())
 	p.out.Tool = runner.Version
 	return p.run()
@@ -512,8 +518,41 @@ func (p *planner) finish(t, answer, window int, budgetCut bool) {
 		}
 	}
 	p.out.Undecided = append(p.out.Undecided, undecided)
+	if tr := p.s.Transforms[t]; tr.Null != nil && p.s.Criteria.Decides("power") {
+		if p.out.DeltaPowerN == nil {
+			p.out.DeltaPowerN = map[string]int{}
+		}
+		p.out.DeltaPowerN[tr.Name] = deltaPowerN(p.s, t, p.spec)
+	}
 	p.out.Verdicts = append(p.out.Verdicts, tv)
 	p.out.Window = append(p.out.Window, window)
 	p.out.LargestFail = append(p.out.LargestFail, largest)
 	p.out.Oscillations = append(p.out.Oscillations, osc)
+}
+
+// deltaPowerN is the smallest n in [NMin, NMax] at which the delta
+// method's rejection rate for transform t, Φ(−q − δ) + 1 − Φ(q − δ) with
+// δ = (τ0 − null)/√delta_var (measure.RejectRate), reaches the power
+// target; 0 when it does not by NMax. The rate is taken to grow with n
+// (δ grows like √n and q does not grow), so the search bisects.
+func deltaPowerN(s *study.Study, t int, spec study.PlanSpec) int {
+	null := *s.Transforms[t].Null
+	target := s.Criteria.PowerTarget()
+	reaches := func(n int) bool {
+		p := s.Predict(t, n)
+		return measure.RejectRate(s.Quantile(n), (p.Truth-null)/math.Sqrt(p.DeltaVar)) >= target
+	}
+	if !reaches(spec.NMax) {
+		return 0
+	}
+	lo, hi := spec.NMin, spec.NMax // reaches(hi); the answer is in [lo, hi]
+	for lo < hi {
+		mid := lo + (hi-lo)/2
+		if reaches(mid) {
+			hi = mid
+		} else {
+			lo = mid + 1
+		}
+	}
+	return hi
 }

@@ -393,6 +393,9 @@ expr = "p"
 				continue
 			}
 			for c, n := range v.PerCriterion {
+				if !p.Study.Criteria.Decides(measure.Criteria()[c].Key) {
+					continue // reported only: it need not pass
+				}
 				// A criterion's own bracket may stay open (0) below the
 				// answer, but may not close above it.
 				if n > v.SmallestN {

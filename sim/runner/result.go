@@ -58,8 +58,9 @@ type Counts struct {
 	Lifetimes int64 `json:"lifetimes,omitempty"`
 	ZeroSE    int64 `json:"zero_se"` // defined, but the plug-in standard error was 0
 	Covered   int64 `json:"covered"`
-	MissBelow int64 `json:"miss_below"` // interval wholly below the truth
-	MissAbove int64 `json:"miss_above"` // interval wholly above the truth
+	MissBelow int64 `json:"miss_below"`         // interval wholly below the truth
+	MissAbove int64 `json:"miss_above"`         // interval wholly above the truth
+	Rejected  int64 `json:"rejected,omitempty"` // interval excludes the transform's null
 }
 
 func (c *Counts) add(o Counts) {
@@ -73,6 +74,7 @@ func (c *Counts) add(o Counts) {
 	c.Covered += o.Covered
 	c.MissBelow += o.MissBelow
 	c.MissAbove += o.MissAbove
+	c.Rejected += o.Rejected
 }
 
 // BlockStat is the floating-point part of one block's state.
@@ -84,12 +86,14 @@ type BlockStat struct {
 	M3        float64 `json:"m3"`
 	M4        float64 `json:"m4"`
 	PluginVar float64 `json:"plugin_var"` // mean plug-in variance over the block's defined replicates
+	Width     float64 `json:"width"`      // mean interval width over the block's defined replicates
 }
 
 // Merged is a cell's floating-point state folded over its blocks.
 type Merged struct {
 	Moments   Moments // of the defined estimates
 	PluginVar float64 // mean plug-in variance over the defined replicates
+	Width     float64 // mean interval width over the defined replicates
 }
 
 // Merged folds the blocks in block order, so any set of blocks gives the
@@ -108,6 +112,7 @@ func (c *Cell) Merged() Merged {
 		before := float64(cm.Moments.N)
 		cm.Moments.Merge(Moments{N: b.N, Mean: b.Mean, M2: b.M2, M3: b.M3, M4: b.M4})
 		cm.PluginVar += (b.PluginVar - cm.PluginVar) * float64(b.N) / (before + float64(b.N))
+		cm.Width += (b.Width - cm.Width) * float64(b.N) / (before + float64(b.N))
 	}
 	c.mergedCache = &cm
 	return cm
@@ -156,11 +161,11 @@ func (h *Histogram) UnmarshalJSON(b []byte) error {
 }
 
 // MarshalJSON writes a block as a compact array [block, n, mean, m2, m3,
-// m4, plugin_var]; a non-finite value (a heavy tail can overflow m4) is
+// m4, plugin_var, width]; a non-finite value (a heavy tail can overflow m4) is
 // written as a string, since JSON has no NaN or infinity.
 func (b BlockStat) MarshalJSON() ([]byte, error) {
 	buf := []byte("[" + strconv.Itoa(b.Block) + "," + strconv.FormatInt(b.N, 10))
-	for _, x := range []float64{b.Mean, b.M2, b.M3, b.M4, b.PluginVar} {
+	for _, x := range []float64{b.Mean, b.M2, b.M3, b.M4, b.PluginVar, b.Width} {
 		buf = append(buf, ',')
 		if math.IsNaN(x) || math.IsInf(x, 0) {
 			buf = strconv.AppendQuote(buf, strconv.FormatFloat(x, 'g', -1, 64))
@@ -171,14 +176,19 @@ func (b BlockStat) MarshalJSON() ([]byte, error) {
 	return append(buf, ']'), nil
 }
 
-// UnmarshalJSON reads the form written by MarshalJSON.
+// UnmarshalJSON reads the form written by MarshalJSON, and the 7-field
+// form written before the width was kept, whose width is unknown (NaN,
+// an empty width column).
 func (b *BlockStat) UnmarshalJSON(data []byte) error {
 	var parts []json.RawMessage
 	if err := json.Unmarshal(data, &parts); err != nil {
 		return err
 	}
-	if len(parts) != 7 {
-		return fmt.Errorf("block record has %d fields, want 7", len(parts))
+	if len(parts) != 7 && len(parts) != 8 {
+		return fmt.Errorf("block record has %d fields, want 8", len(parts))
+	}
+	if len(parts) == 7 {
+		b.Width = math.NaN()
 	}
 	if err := json.Unmarshal(parts[0], &b.Block); err != nil {
 		return fmt.Errorf("block index: %w", err)
@@ -186,7 +196,7 @@ func (b *BlockStat) UnmarshalJSON(data []byte) error {
 	if err := json.Unmarshal(parts[1], &b.N); err != nil {
 		return fmt.Errorf("block count: %w", err)
 	}
-	for i, dst := range []*float64{&b.Mean, &b.M2, &b.M3, &b.M4, &b.PluginVar} {
+	for i, dst := range []*float64{&b.Mean, &b.M2, &b.M3, &b.M4, &b.PluginVar, &b.Width}[:len(parts)-2] {
 		raw := parts[i+2]
 		if len(raw) > 0 && raw[0] == '"' {
 			var s string

@@ -291,8 +291,11 @@ type worker struct {
 	rng     rand.Rand // draws from pcg
 	s       *study.Study
 	res     *Result
-	z       float64 // normal quantile of the Wald interval
-	theta   []float64
+	q       float64   // the interval's quantile at the block's n
+	qs      []float64 // the quantile at each n of the grid, computed once
+	theta   []float64 // θ̂, the first Dim() entries of sized
+	sized   []float64 // θ̂ then the sizes (study.SizeNames): what se expressions read
+	armN    []float64 // per arm: the observations its covariance is divided by
 	grad    []float64
 	covs    [][]float64           // per arm: the plug-in covariance of its θ̂
 	samples []family.Sample       // per arm: the latest draw, read by its fitter
@@ -303,6 +306,9 @@ type worker struct {
 	dims    []int                 // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
+	seEvals []*expr.Evaluator      // per transform: the analyst's se, or nil
+	halves  []family.HalfCorrector // per arm: the zero-cell correction, or nil
+	addHalf bool                   // [interval] zero_cells = "add_half"
 	accs    []cellAcc
 	useArm  [][]bool // [transform][arm]: whether the transform reads the arm
 	rep     int      // replicate within the block, for panic reports
@@ -318,8 +324,11 @@ type worker struct {
 // division; the sweep is a few independent multiply-adds per value.
 type cellAcc struct {
 	truth, sdDelta float64
+	null           float64 // H0's value, when hasNull
+	hasNull        bool
 	Counts         // the block's tallies; Replicates is set when it is flushed
 	pluginSum      float64
+	widthSum       float64
 	vals           []float64 // estimates not yet in mom
 	mom            Moments
 	delta, wald    Histogram
@@ -328,13 +337,17 @@ type cellAcc struct {
 func newWorker(s *study.Study, res *Result) *worker {
 	w := &worker{s: s, res: res}
 	w.rng = *rand.New(&w.pcg)
-	w.z = math.Sqrt2 * math.Erfinv(s.Level)
+	for _, n := range s.SampleSizes {
+		w.qs = append(w.qs, s.Quantile(n))
+	}
 	w.sizes = make([]int, len(s.Arms))
+	w.addHalf = s.Interval.AddHalf()
 	// θ̂, the gradient, the arms' covariances and their samples' data,
 	// written per replicate, share one padded array; the samples'
 	// headers, whose N is written per replicate, get one of their own.
 	d := s.Dim()
-	floats := d + d
+	ns := len(s.SizeNames())
+	floats := d + ns + d + len(s.Arms)
 	sampleLens := make([]int, len(s.Arms))
 	for ai, a := range s.Arms {
 		k := len(a.Model.Truth)
@@ -348,10 +361,14 @@ func newWorker(s *study.Study, res *Result) *worker {
 		w.fitters = append(w.fitters, a.Model.Estimator.NewFitter(maxN))
 		counter, _ := a.Model.Sampler.(family.EventCounter)
 		w.counter = append(w.counter, counter)
+		hc, _ := a.Model.Estimator.(family.HalfCorrector)
+		w.halves = append(w.halves, hc)
 		floats += k*k + sampleLens[ai]
 	}
 	buf := padded[float64](floats)
-	w.theta, buf = buf[:d:d], buf[d:]
+	w.sized, buf = buf[:d+ns:d+ns], buf[d+ns:]
+	w.theta = w.sized[:d:d]
+	w.armN, buf = buf[:len(s.Arms):len(s.Arms)], buf[len(s.Arms):]
 	w.grad, buf = buf[:d:d], buf[d:]
 	for _, k := range w.dims {
 		w.covs = append(w.covs, buf[:k*k:k*k])
@@ -367,6 +384,11 @@ func newWorker(s *study.Study, res *Result) *worker {
 	w.accs = padded[cellAcc](len(s.Transforms))
 	for ti, t := range s.Transforms {
 		w.evals = append(w.evals, t.Program.NewEvaluator())
+		var se *expr.Evaluator
+		if t.SEProgram != nil {
+			se = t.SEProgram.NewEvaluator()
+		}
+		w.seEvals = append(w.seEvals, se)
 		w.accs[ti] = cellAcc{vals: padded[float64](BlockSize)[:0], delta: newHistogram(), wald: newHistogram()}
 		use := make([]bool, len(s.Arms))
 		for ai, a := range s.Arms {
@@ -413,11 +435,17 @@ func (w *worker) runBlock(j job) {
 	w.pcg.Seed(s1, s2)
 	for a := range s.Arms {
 		w.sizes[a] = s.ArmSize(a, n)
+		w.armN[a] = float64(w.sizes[a])
 	}
+	study.SetSizes(w.sized[len(w.theta):], n, w.sizes, len(w.sized)-len(w.theta) > 1)
+	w.q = w.qs[j.ni]
 	for t := range w.accs {
 		acc := &w.accs[t]
 		p := w.res.Predictions[t][j.ni]
 		*acc = cellAcc{truth: p.Truth, sdDelta: math.Sqrt(p.DeltaVar), vals: acc.vals[:0], delta: acc.delta, wald: acc.wald}
+		if null := s.Transforms[t].Null; null != nil {
+			acc.null, acc.hasNull = *null, true
+		}
 		acc.delta.reset()
 		acc.wald.reset()
 	}
@@ -434,17 +462,23 @@ func (w *worker) runBlock(j job) {
 // replicate draws every arm, fits it, and scores every transform.
 func (w *worker) replicate() {
 	s := w.s
-	// Arms by pointer: an Arm is several words, and this runs per replicate.
-	for a := range s.Arms {
-		arm := &s.Arms[a]
-		w.stage = a
-		sample := &w.samples[a]
-		arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
-		if w.counter[a] != nil {
-			w.events[a] = w.counter[a].Events(sample)
+	if w.addHalf {
+		w.drawAndFitHalf()
+	} else {
+		// Arms by pointer: an Arm is several words, and this runs per replicate.
+		for a := range s.Arms {
+			arm := &s.Arms[a]
+			w.stage = a
+			sample := &w.samples[a]
+			arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
+			off := arm.Offset
+			w.fitted[a] = w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
 		}
-		off := arm.Offset
-		w.fitted[a] = w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
+	}
+	for a := range s.Arms {
+		if w.counter[a] != nil {
+			w.events[a] = w.counter[a].Events(&w.samples[a])
+		}
 	}
 	for t := range w.accs {
 		acc := &w.accs[t]
@@ -482,16 +516,54 @@ func (w *worker) replicate() {
 				continue
 			}
 			off, k := s.Arms[a].Offset, w.dims[a]
-			pv += study.QuadForm(w.grad[off:off+k], w.covs[a]) / float64(w.sizes[a])
+			pv += study.QuadForm(w.grad[off:off+k], w.covs[a]) / w.armN[a]
 		}
-		acc.add(v, pv, w.z)
+		if e := w.seEvals[t]; e != nil {
+			// The analyst's standard error replaces the plug-in one; a
+			// negative or NaN value leaves pv undefined below.
+			se := e.Value(w.sized)
+			pv = se * se
+			if !(se >= 0) {
+				pv = math.NaN()
+			}
+		}
+		acc.add(v, pv, w.q)
 	}
 }
 
-// add scores one replicate's estimate v and plug-in variance pv.
-func (acc *cellAcc) add(v, pv, z float64) {
+// drawAndFitHalf draws every arm, then fits each, correcting every
+// correctable arm by adding ½ to its cells when any of them is at its
+// boundary (family.HalfCorrector); fitted records whether each fit has a
+// value.
+func (w *worker) drawAndFitHalf() {
+	s := w.s
+	boundary := false
+	for a := range s.Arms {
+		w.stage = a
+		s.Arms[a].Model.Sampler.Draw(&w.rng, w.sizes[a], &w.samples[a])
+		if h := w.halves[a]; h != nil && h.AtBoundary(&w.samples[a]) {
+			boundary = true
+		}
+	}
+	for a := range s.Arms {
+		w.stage = a
+		off := s.Arms[a].Offset
+		theta := w.theta[off : off+w.dims[a]]
+		if h := w.halves[a]; boundary && h != nil {
+			w.armN[a] = h.FitAddHalf(&w.samples[a], theta, w.covs[a])
+			w.fitted[a] = true
+			continue
+		}
+		w.armN[a] = float64(w.sizes[a])
+		w.fitted[a] = w.fitters[a].Fit(&w.samples[a], theta, w.covs[a])
+	}
+}
+
+// add scores one replicate's estimate v and the variance pv its interval
+// uses, with quantile q.
+func (acc *cellAcc) add(v, pv, q float64) {
 	// |x| <= MaxFloat64 is false for NaN and ±Inf alike: one compare each.
-	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64) {
+	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64 && q <= math.MaxFloat64) {
 		acc.Undefined++
 		return
 	}
@@ -499,7 +571,8 @@ func (acc *cellAcc) add(v, pv, z float64) {
 	if se == 0 {
 		acc.ZeroSE++
 	}
-	switch lo, hi := v-z*se, v+z*se; {
+	lo, hi := v-q*se, v+q*se
+	switch {
 	case hi < acc.truth:
 		acc.MissBelow++
 	case lo > acc.truth:
@@ -507,6 +580,10 @@ func (acc *cellAcc) add(v, pv, z float64) {
 	default:
 		acc.Covered++
 	}
+	if acc.hasNull && (hi < acc.null || lo > acc.null) {
+		acc.Rejected++
+	}
+	acc.widthSum += hi - lo
 	if len(acc.vals) == cap(acc.vals) {
 		// Only when replicate is driven past a block's worth without
 		// runBlock (a benchmark): fold early rather than allocate.
@@ -545,6 +622,7 @@ func (w *worker) flush(j job) {
 		b := BlockStat{Block: j.block, N: acc.mom.N, Mean: acc.mom.Mean, M2: acc.mom.M2, M3: acc.mom.M3, M4: acc.mom.M4}
 		if acc.mom.N > 0 {
 			b.PluginVar = acc.pluginSum / float64(acc.mom.N)
+			b.Width = acc.widthSum / float64(acc.mom.N)
 		}
 		c.Blocks = append(c.Blocks, b)
 		c.mergedCache = nil

@@ -28,6 +28,7 @@ type Info struct {
 	Criteria       Criteria        `json:"criteria"`
 	Arms           []ArmInfo       `json:"arms"`
 	Transforms     []TransformInfo `json:"transforms"`
+	Interval       *Interval       `json:"interval,omitempty"` // nil: normal quantile, no correction
 }
 
 // ArmInfo describes one arm of the model as run.
@@ -44,8 +45,10 @@ type ArmInfo struct {
 
 // TransformInfo names one transform as run.
 type TransformInfo struct {
-	Name string `json:"name"`
-	Expr string `json:"expr"`
+	Name string   `json:"name"`
+	Expr string   `json:"expr"`
+	SE   string   `json:"se,omitempty"`   // the analyst's standard error; empty: the plug-in delta SE
+	Null *float64 `json:"null,omitempty"` // H0's value; nil: no test
 }
 
 // Overridden reports whether a flag overrode the named value ("seed",
@@ -60,6 +63,7 @@ func (s *Study) Info() Info {
 		Replicates: s.Replicates, Level: s.Level,
 		SampleSizes: append([]int(nil), s.SampleSizes...), Criteria: s.Criteria,
 		FileSeed: s.FileSeed, FileReplicates: s.FileReplicates,
+		Interval: s.Interval,
 	}
 	if s.Seed != s.FileSeed {
 		info.Overrides = append(info.Overrides, "seed")
@@ -76,7 +80,7 @@ func (s *Study) Info() Info {
 		info.Arms = append(info.Arms, ai)
 	}
 	for _, t := range s.Transforms {
-		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr})
+		info.Transforms = append(info.Transforms, TransformInfo{Name: t.Name, Expr: t.Expr, SE: t.SE, Null: t.Null})
 	}
 	return info
 }

@@ -34,6 +34,7 @@ const (
 	defaultLevel   = 0.95
 	defaultRepl    = 10000
 	defaultStdBias = 0.1
+	defaultPower   = 0.8
 	// DefaultConfidence is the family-wise confidence of an answer when
 	// [criteria] confidence is not given.
 	DefaultConfidence = 0.95
@@ -62,6 +63,10 @@ type Study struct {
 	Transforms     []Transform
 	Criteria       Criteria
 	Plan           *PlanSpec // nil unless the file has a [plan] table
+	// Interval is the [interval] table; nil when the file has none (a
+	// normal quantile, no zero-cell correction).
+	Interval  *Interval
+	dfProgram *expr.Program // Interval.DF compiled against SizeNames
 }
 
 // PlanSpec is the [plan] table: the range of n to search and the budget
@@ -108,6 +113,12 @@ type Transform struct {
 	Name    string
 	Expr    string
 	Program *expr.Program
+	// SE is the analyst's standard error, an expression of the parameters
+	// and the sizes (compiled against ParamNames then SizeNames); empty:
+	// the plug-in delta-method standard error.
+	SE        string
+	SEProgram *expr.Program
+	Null      *float64 // the value H0 puts the transform at; nil: no test
 }
 
 // Criteria are the bands inside which the approximation is adequate.
@@ -119,6 +130,46 @@ type Criteria struct {
 	// answer: the probability that every decision it rests on is right.
 	// 0 (a result saved before the key existed) means the default.
 	Confidence float64 `json:"confidence,omitempty"`
+	// Decide lists the study keys of the criteria that decide the
+	// verdict; nil means DefaultDecide. The others are reported only.
+	Decide []string `json:"decide,omitempty"`
+	// PluginRatio is the band for plugin_var / emp_var and Power the
+	// target rejection rate; zero means the default (see PluginBand,
+	// PowerTarget), so results saved without them read the same.
+	PluginRatio [2]float64 `json:"plugin_ratio,omitzero"`
+	Power       float64    `json:"power,omitempty"`
+}
+
+// DefaultDecide are the criteria that decide when [criteria] decide is
+// not given.
+var DefaultDecide = []string{"coverage", "var_ratio", "std_bias"}
+
+// CriterionKeys are the keys decide accepts, in the criteria table's order.
+var CriterionKeys = []string{"coverage", "var_ratio", "std_bias", "plugin_ratio", "power"}
+
+// Decides reports whether the criterion with study key key decides.
+func (c Criteria) Decides(key string) bool {
+	if c.Decide == nil {
+		return slices.Contains(DefaultDecide, key)
+	}
+	return slices.Contains(c.Decide, key)
+}
+
+// PluginBand is the band for plugin_var / emp_var (default [0.9, 1.1]).
+func (c Criteria) PluginBand() [2]float64 {
+	if c.PluginRatio == [2]float64{} {
+		return [2]float64{0.9, 1.1}
+	}
+	return c.PluginRatio
+}
+
+// PowerTarget is the rejection rate the power criterion asks for
+// (default 0.8).
+func (c Criteria) PowerTarget() float64 {
+	if c.Power == 0 {
+		return defaultPower
+	}
+	return c.Power
 }
 
 // DefaultCriteria returns Bradley's (1978) liberal band for the coverage
@@ -237,7 +288,7 @@ func (d *decoder) fail(path, format string, args ...any) {
 	d.errs = append(d.errs, &StudyError{File: d.file, Line: d.lines.line(path), Msg: fmt.Sprintf(format, args...)})
 }
 
-var topKeys = []string{"title", "description", "seed", "replicates", "sample_sizes", "level", "model", "arm", "transform", "criteria", "plan"}
+var topKeys = []string{"title", "description", "seed", "replicates", "sample_sizes", "level", "model", "arm", "transform", "criteria", "plan", "interval"}
 
 func (d *decoder) study(raw map[string]any, s *Study) {
 	d.unknownKeys("", raw, topKeys)
@@ -267,8 +318,16 @@ func (d *decoder) study(raw map[string]any, s *Study) {
 		s.SampleSizes = d.grid(raw)
 	}
 	d.arms(raw, s)
+	d.interval(raw, s)
 	d.transforms(raw, s)
 	s.Criteria = d.criteria(raw, s.Level)
+	if s.Criteria.Decides("power") {
+		for i, t := range s.Transforms {
+			if t.Null == nil {
+				d.fail(fmt.Sprintf("transform[%d]", i), "transform %q has no null, but [criteria] decide includes \"power\": give null = ..., the value the test's H0 puts the transform at", t.Name)
+			}
+		}
+	}
 }
 
 // unknownKeys reports every key of m that is not accepted, saying where
@@ -718,7 +777,7 @@ func (d *decoder) transforms(raw map[string]any, s *Study) {
 	}
 	for i, m := range list {
 		table := fmt.Sprintf("transform[%d]", i)
-		d.unknownKeys(table, m, []string{"name", "expr"})
+		d.unknownKeys(table, m, []string{"name", "expr", "se", "null"})
 		name := d.str(m, table, "name", "")
 		src := d.str(m, table, "expr", "")
 		if name == "" {
@@ -741,6 +800,10 @@ func (d *decoder) transforms(raw map[string]any, s *Study) {
 		if !haveModel {
 			continue
 		}
+		if err := sizeInExpr(s, src); err != nil {
+			d.fail(join(table, "expr"), "transform %q: %v", name, err)
+			continue
+		}
 		prog, err := expr.Compile(src, names)
 		if err != nil {
 			d.fail(join(table, "expr"), "transform %q: %v", name, err)
@@ -749,6 +812,9 @@ func (d *decoder) transforms(raw map[string]any, s *Study) {
 		t := Transform{Name: name, Expr: src, Program: prog}
 		if err := checkAtTruth(s, t); err != nil {
 			d.fail(join(table, "expr"), "transform %q: %v", name, err)
+			continue
+		}
+		if !d.transformTest(table, m, s, &t) {
 			continue
 		}
 		s.Transforms = append(s.Transforms, t)
@@ -819,7 +885,22 @@ func (d *decoder) criteria(raw map[string]any, level float64) Criteria {
 		d.fail("criteria", "criteria must be a table ([criteria]), got %s", typeName(v))
 		return c
 	}
-	d.unknownKeys("criteria", m, []string{"coverage", "var_ratio", "std_bias", "confidence"})
+	d.unknownKeys("criteria", m, []string{"coverage", "var_ratio", "std_bias", "confidence", "decide", "plugin_ratio", "power"})
+	d.decide(m, &c)
+	if band, ok := d.band(m, "plugin_ratio"); ok {
+		if !(band[0] > 0 && band[0] < 1 && band[1] > 1) {
+			d.fail("criteria.plugin_ratio", "plugin_ratio band [%v, %v] must satisfy 0 < low < 1 < high, e.g. [0.9, 1.1]", band[0], band[1])
+		} else {
+			c.PluginRatio = band
+		}
+	}
+	if v, ok := d.number(m, "criteria", "power"); ok {
+		if !(v > 0 && v < 1) {
+			d.fail("criteria.power", "power = %v is out of range: the target rejection rate must lie strictly between 0 and 1, e.g. 0.8", v)
+		} else {
+			c.Power = v
+		}
+	}
 	if band, ok := d.band(m, "coverage"); ok {
 		switch {
 		case !(band[0] >= 0 && band[1] <= 1):
@@ -852,6 +933,43 @@ func (d *decoder) criteria(raw map[string]any, level float64) Criteria {
 		}
 	}
 	return c
+}
+
+// decide reads [criteria] decide, a non-empty list of distinct criterion keys.
+func (d *decoder) decide(m map[string]any, c *Criteria) {
+	v, ok := m["decide"]
+	if !ok {
+		return
+	}
+	list, ok := v.([]any)
+	if !ok || len(list) == 0 {
+		d.fail("criteria.decide", "decide must be a non-empty array of criterion names, e.g. [\"coverage\", \"power\"]; accepted: %s", strings.Join(CriterionKeys, ", "))
+		return
+	}
+	var keys []string
+	for _, e := range list {
+		k, isStr := e.(string)
+		switch {
+		case !isStr:
+			d.fail("criteria.decide", "decide lists %s; give criterion names in quotes: %s", typeName(e), strings.Join(CriterionKeys, ", "))
+			return
+		case !slices.Contains(CriterionKeys, k):
+			d.fail("criteria.decide", "decide lists %q, which is no criterion%s", k, didYouMean(k, CriterionKeys))
+			return
+		case slices.Contains(keys, k):
+			d.fail("criteria.decide", "decide lists %q twice: name each criterion once", k)
+			return
+		}
+		keys = append(keys, k)
+	}
+	// Kept in the table's order, so the same set reads the same.
+	var ordered []string
+	for _, k := range CriterionKeys {
+		if slices.Contains(keys, k) {
+			ordered = append(ordered, k)
+		}
+	}
+	c.Decide = ordered
 }
 
 func (d *decoder) band(m map[string]any, key string) ([2]float64, bool) {
