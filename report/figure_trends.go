@@ -39,6 +39,9 @@ type trendAxes struct {
 	criteria study.Criteria
 	level    float64
 	xlabel   string
+	// pluginLabel names the plug-in series of the variance panel; empty
+	// means "mean plug-in / simulated".
+	pluginLabel string
 }
 
 func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
@@ -208,7 +211,11 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 		}
 		return r.Get(measure.PluginRatio) * end / r.Get(measure.VarRatio)
 	}
-	plugin := series{label: "mean plug-in / simulated", x: xs(rows, a.dodge), style: 1,
+	label := a.pluginLabel
+	if label == "" {
+		label = "mean plug-in / simulated"
+	}
+	plugin := series{label: label, x: xs(rows, a.dodge), style: 1,
 		y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.PluginRatio) }),
 		lo: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).Low) }),
 		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).High) }),
@@ -331,6 +338,9 @@ func trendsSubtitle(r *runner.Result, t int, v measure.TransformVerdict) string 
 	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
 		sub += " " + note
 	}
+	if short := fitShort(r.Study, t); short != "" {
+		sub += " " + short
+	}
 	if note := censoringNote(r.Study); note != "" {
 		sub += " " + note
 	}
@@ -366,6 +376,7 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 // trendsFigure draws the trends figure of transform t with enc.
 func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
+	a.pluginLabel = pluginLabel(r.Study, t)
 	var panels []panel
 	makers := []func() (panel, error){
 		func() (panel, error) { return a.variancePanel(rows) },
@@ -389,6 +400,9 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	title := figureTitle(info, "")
 	sub := trendsSubtitle(r, t, v)
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
+	if readsMisfit(r.Study, t) {
+		key = append(key, "The fit differs from the data model: truth is the transform at θ*, the pseudo-true parameter, and the delta method uses the sandwich variance at θ*.")
+	}
 	// A subtitle too long for one line wraps, and the figure grows by
 	// the lines it adds, in whole pixels, so the panels keep their room.
 	head := wrappedHeading(title, sub)

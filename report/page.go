@@ -186,9 +186,12 @@ func newStudyPage(st study.Info, tool string, build runner.Build, replicates boo
 	}
 	p.Glance = []keyValue{{"Model", describeModel(st.Arms)}}
 	if c := censoringText(st); c != "" {
-		p.Glance = append(p.Glance, keyValue{"Censoring", c + ". The fit is the MLE under non-informative censoring, its variance the inverse observed information; the predictions use the expected information under this censoring."})
+		p.Glance = append(p.Glance, keyValue{"Censoring", c + ". The fit is the MLE under non-informative censoring, its variance the inverse observed information (the sandwich where variance = \"robust\"); the predictions use the expected information under this censoring."})
 	}
 	p.Glance = append(p.Glance, glance...)
+	if note := fitNote(st); note != "" {
+		p.Glance = append(p.Glance, keyValue{"Fit", note})
+	}
 	p.Glance = append(p.Glance, keyValue{"Intervals", intervalGlance(st)})
 	p.AllCriteria = decidingWords(len(measure.Deciding(st.Criteria)))
 	p.AsRun = []keyValue{{"Seed", seedText(st)}}
@@ -379,6 +382,12 @@ func describeModel(arms []study.ArmInfo) string {
 			vals[i] = k + " = " + strconv.FormatFloat(a.Values[k], 'g', -1, 64)
 		}
 		s := a.Family + " (" + strings.Join(vals, ", ") + ")"
+		if a.Fit != "" && a.Fit != a.Family {
+			s += ", fitted as " + a.Fit
+		}
+		if a.Robust() {
+			s += ", robust variance"
+		}
 		if a.Name != "" {
 			s = a.Name + ": " + s
 			if a.Allocation != 1 {

@@ -37,6 +37,9 @@ func VerdictTable(w io.Writer, r *runner.Result) {
 	if note := armSizesNote(r.Study, exampleN(r.Study, firstSmallest(vs))); note != "" {
 		wrap(w, "", note)
 	}
+	if note := fitNote(r.Study); note != "" {
+		wrap(w, "", note)
+	}
 	wrap(w, "", fmt.Sprintf("smallest_n: where the smallest adequate n of the grid lies, one n where the replicates decided it, a range where they did not. %s: the same for that criterion alone. Level %v, %d replicates per n; %s. A study checks the approximation only under the model it states.",
 		strings.Join(columns, ", "), r.Study.Level, r.Study.Replicates, measure.GridDecisions(r.Study).Method()))
 	if customRecipe(r.Study) {
@@ -189,6 +192,12 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	}
 	wrap(w, "", "width_delta: the width 2·q·delta_sd the delta method predicts for the interval, q "+quantileWords(st)+"."+
 		map[bool]string{true: " reject_delta: the rate at which that interval excludes the null when the transform is at its truth, Φ(−q − δ) + 1 − Φ(q − δ) with δ = (truth − null)/delta_sd.", false: ""}[tested])
+	if note := fitNote(st); note != "" {
+		wrap(w, "", note)
+	}
+	if biasNotAvailable(r) {
+		wrap(w, "", "bias_2nd empty: not available, the O(1/n) bias of an estimate the transform reads is not derived for this fit.")
+	}
 	if note := censoringNote(st); note != "" {
 		wrap(w, "", note+" delta_var uses the expected information under this censoring.")
 	}
@@ -201,4 +210,17 @@ func quantileWords(st study.Info) string {
 		return fmt.Sprintf("the %v quantile of Student's t with %s degrees of freedom", 1-(1-st.Level)/2, st.Interval.DF)
 	}
 	return fmt.Sprintf("the normal quantile %s", formatFloat(st.Quantile(0)))
+}
+
+// biasNotAvailable reports whether any prediction's second-order bias is
+// not available (NaN).
+func biasNotAvailable(r *runner.Result) bool {
+	for _, ps := range r.Predictions {
+		for _, p := range ps {
+			if math.IsNaN(p.Bias2nd) {
+				return true
+			}
+		}
+	}
+	return false
 }

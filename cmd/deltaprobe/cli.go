@@ -53,7 +53,7 @@ usage:
                                     (DIR/result.json) or a plan folder (DIR/plan.json)
 
 -figures writes each figure as PNG (the default), SVG and/or PDF, e.g. -figures png,pdf.
-  deltaprobe families               the data-generating families and their estimators
+  deltaprobe families               the families: parameters, estimators, which data each fit accepts
   deltaprobe version
 
 Run "deltaprobe COMMAND -h" for a command's flags.
@@ -529,10 +529,21 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 	for _, f := range family.All() {
 		fmt.Fprintf(stdout, "%s — %s\n", f.Name, f.Summary)
 		for _, p := range f.Params {
-			fmt.Fprintf(stdout, "    %-8s %s\n", p.Name, p.Accepts)
+			fmt.Fprintf(stdout, "    %-10s %s\n", p.Name, p.Accepts)
+		}
+		fmt.Fprintf(stdout, "    data:      %s\n", f.Support)
+		if !f.Fittable() {
+			fmt.Fprintf(stdout, "    fit:       data only, cannot be fitted; fit it with %s\n\n", strings.Join(f.FitsFor(), " or "))
+			continue
 		}
 		fmt.Fprintf(stdout, "    estimates: %s\n", strings.Join(f.Estimates, ", "))
 		fmt.Fprintf(stdout, "    estimator: %s\n", f.Estimator)
+		fmt.Fprintf(stdout, "    fits data: %s\n", strings.Join(f.FitsData(), ", "))
+		variances := "model (inverse observed information)"
+		if f.Robust() {
+			variances += ", robust (sandwich)"
+		}
+		fmt.Fprintf(stdout, "    variance:  %s\n", variances)
 		if f.Censor != nil {
 			fmt.Fprintf(stdout, "    censoring: [model.censoring] or [arm.censoring]: entry (uniform entry over [0, entry]),\n")
 			fmt.Fprintf(stdout, "               end (calendar end of study), dropout_rate (exponential loss to follow-up)\n")
@@ -540,6 +551,7 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 		}
 		fmt.Fprintln(stdout)
 	}
+	fmt.Fprintln(stdout, "A study draws from family and fits fit (default: the same family); θ holds the fitted family's estimates.")
 	return exitOK
 }
 

@@ -12,6 +12,10 @@ func init() {
 			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
 		},
 		Estimates: []string{"p"},
+		Support:   Counts,
+		law: func(v map[string]float64) (law, error) {
+			return &bernoulliLaw{v["p"]}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			m := &bernoulliModel{p: v["p"]}
 			return Model{Truth: []float64{m.p}, Sampler: m, Estimator: m, Asymptotics: m}, nil

@@ -17,6 +17,14 @@ func init() {
 			{Name: "p", Accepts: "a number strictly between 0 and 1", Check: openUnit},
 		},
 		Estimates: []string{"p"},
+		Support:   Counts,
+		law: func(v map[string]float64) (law, error) {
+			m, err := newBinomialModel(v["size"], v["p"])
+			if err != nil {
+				return nil, err
+			}
+			return &binomialLaw{m}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			m, err := newBinomialModel(v["size"], v["p"])
 			if err != nil {

@@ -17,6 +17,7 @@ func init() {
 			{Name: "sd_y", Accepts: "a number > 0", Check: positive},
 			{Name: "rho", Accepts: "a number strictly between −1 and 1", Check: openSigned},
 		},
+		Support:   Pairs,
 		Estimates: []string{"mean_x", "mean_y", "sd_x", "sd_y", "rho"},
 		New: func(v map[string]float64) (Model, error) {
 			rho := v["rho"]

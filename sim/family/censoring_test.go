@@ -105,7 +105,7 @@ func TestCensoredExponentialEventsQuadrature(t *testing.T) {
 func TestCensoredExponentialBiasRatioExpansion(t *testing.T) {
 	for _, lambda := range []float64{0.5, 2} {
 		for _, c := range censoringLaws {
-			m, err := newCensoredExponential(map[string]float64{"rate": lambda}, c)
+			m, err := newCensoredExponential(map[string]float64{"rate": lambda}, c, ModelVariance)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -136,7 +136,7 @@ func TestCensoredExponentialBiasRatioExpansion(t *testing.T) {
 func TestCensoredExponentialObservedInformation(t *testing.T) {
 	rng := testRand(1515)
 	for _, c := range censoringLaws {
-		m, err := newCensoredExponential(map[string]float64{"rate": 0.7}, c)
+		m, err := newCensoredExponential(map[string]float64{"rate": 0.7}, c, ModelVariance)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -164,7 +164,7 @@ func TestCensoredExponentialObservedInformation(t *testing.T) {
 
 // A sample with no events has no estimate; its events are reported.
 func TestCensoredExponentialNoEvents(t *testing.T) {
-	m, err := newCensoredExponential(map[string]float64{"rate": 0.01}, Censoring{End: 1})
+	m, err := newCensoredExponential(map[string]float64{"rate": 0.01}, Censoring{End: 1}, ModelVariance)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -190,7 +190,7 @@ func TestCensoredExponentialNoEvents(t *testing.T) {
 func TestCensoredExponentialDraw(t *testing.T) {
 	const lambda, n, reps = 0.4, 50, 4000
 	for i, c := range censoringLaws {
-		m, err := newCensoredExponential(map[string]float64{"rate": lambda}, c)
+		m, err := newCensoredExponential(map[string]float64{"rate": lambda}, c, ModelVariance)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -216,7 +216,7 @@ func TestCensoredExponentialDraw(t *testing.T) {
 
 func TestCensoredExponentialAllocatesNothing(t *testing.T) {
 	for _, c := range censoringLaws[:4] {
-		m, _ := newCensoredExponential(map[string]float64{"rate": 1}, c)
+		m, _ := newCensoredExponential(map[string]float64{"rate": 1}, c, ModelVariance)
 		tr := newTrial(m, 100)
 		rng := testRand(3)
 		theta := []float64{0}
@@ -255,7 +255,7 @@ func BenchmarkCensoredExponential(b *testing.B) {
 			if c := laws[name]; c == nil {
 				m = mustModel(b, "exponential", map[string]float64{"rate": 0.5})
 			} else {
-				m, _ = newCensoredExponential(map[string]float64{"rate": 0.5}, *c)
+				m, _ = newCensoredExponential(map[string]float64{"rate": 0.5}, *c, ModelVariance)
 			}
 			tr := newTrial(m, 100)
 			rng := testRand(1)

@@ -11,6 +11,12 @@ func init() {
 			{Name: "rate", Accepts: "a number > 0", Check: positive},
 		},
 		Estimates: []string{"rate"},
+		Support:   Positive,
+		fitsData:  supportIn(Positive),
+		fitLaw:    momentFitLaw(exponentialFit),
+		law: func(v map[string]float64) (law, error) {
+			return &exponentialLaw{v["rate"]}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			m := &exponentialModel{rate: v["rate"]}
 			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m, EventShare: 1}, nil

@@ -8,7 +8,10 @@ import (
 
 // newCensoredExponential is the exponential family's Censor: lifetimes of
 // the given rate under the censoring law c, fitted by the censored MLE.
-func newCensoredExponential(v map[string]float64, c Censoring) (Model, error) {
+func newCensoredExponential(v map[string]float64, c Censoring, variance Variance) (Model, error) {
+	if variance == RobustVariance {
+		return Model{}, fmt.Errorf(`variance = "robust" is not offered for censored lifetimes yet`)
+	}
 	m := &censoredExponential{rate: v["rate"], c: c}
 	m.share, _ = c.exponentialEvents(m.rate)
 	if !(m.share > 0) {

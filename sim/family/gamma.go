@@ -15,6 +15,10 @@ func init() {
 			{Name: "rate", Accepts: "a number > 0", Check: positive},
 		},
 		Estimates: []string{"shape", "rate"},
+		Support:   Positive,
+		law: func(v map[string]float64) (law, error) {
+			return &gammaLaw{shape: v["shape"], rate: v["rate"], gen: newGammaGen(v["shape"])}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			m := &gammaModel{shape: v["shape"], rate: v["rate"], gen: newGammaGen(v["shape"])}
 			return Model{Truth: []float64{m.shape, m.rate}, Sampler: m, Estimator: m, Asymptotics: m}, nil

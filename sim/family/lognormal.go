@@ -17,6 +17,20 @@ func init() {
 			{Name: "sdlog", Accepts: "a number > 0", Check: positive},
 		},
 		Estimates: []string{"meanlog", "sdlog"},
+		Support:   Positive,
+		// The lognormal fit is the normal fit of log y, so its θ* matches
+		// E log y and Var log y, and its sandwich needs the central
+		// moments of log y up to the fourth: offered for the laws that
+		// give them in closed form.
+		fitsData: func(d *Family) bool {
+			return d.Name == "lognormal" || d.Name == "weibull" || d.Name == "exponential"
+		},
+		fitLaw: func(_ *Family, _ map[string]float64, l law, v Variance) (Model, error) {
+			return newMomentFit(logOf{l.(logLaw)}, normalFit, v == RobustVariance).model(), nil
+		},
+		law: func(v map[string]float64) (law, error) {
+			return &lognormalLaw{v["meanlog"], v["sdlog"]}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			return newNormalModel(v["meanlog"], v["sdlog"]), nil
 		},

@@ -15,6 +15,12 @@ func init() {
 			{Name: "sd", Accepts: "a number > 0", Check: positive},
 		},
 		Estimates: []string{"mean", "sd"},
+		Support:   Reals,
+		fitsData:  supportIn(Reals, Positive, Counts),
+		fitLaw:    momentFitLaw(normalFit),
+		law: func(v map[string]float64) (law, error) {
+			return &normalLaw{v["mean"], v["sd"]}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			return newNormalModel(v["mean"], v["sd"]), nil
 		},

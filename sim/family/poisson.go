@@ -16,6 +16,16 @@ func init() {
 			{Name: "mean", Accepts: "a number > 0", Check: positive},
 		},
 		Estimates: []string{"mean"},
+		Support:   Counts,
+		fitsData:  supportIn(Counts),
+		fitLaw:    momentFitLaw(poissonFit),
+		law: func(v map[string]float64) (law, error) {
+			m, err := newPoissonModel(v["mean"])
+			if err != nil {
+				return nil, err
+			}
+			return &poissonLaw{m}, nil
+		},
 		New: func(v map[string]float64) (Model, error) {
 			m, err := newPoissonModel(v["mean"])
 			if err != nil {

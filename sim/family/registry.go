@@ -1,8 +1,10 @@
 package family
 
 import (
+	"fmt"
 	"math/rand/v2"
 	"sort"
+	"strings"
 )
 
 // Sample is one replicate's data as a Sampler leaves it for a Fitter: the
@@ -55,8 +57,10 @@ type Fitter interface {
 	// Fit writes the estimate θ̂ into theta and the plug-in estimate of
 	// the per-observation covariance of θ̂ into cov (row-major,
 	// len(theta)² entries). The plug-in may use the sample as well as θ̂
-	// (observed information, a sandwich); the estimators here write their
-	// Asymptotics.Cov at θ̂. Fit reports false when the estimator has no
+	// (observed information, a sandwich): the model-based variance is the
+	// inverse observed information at θ̂ (for the full exponential
+	// families, their Asymptotics.Cov at θ̂), the robust one the sandwich
+	// from the sample. Fit reports false when the estimator has no
 	// value for this sample (for example a numerical MLE that did not
 	// converge); the replicate is then undefined, and neither theta nor
 	// cov is read. Fit allocates nothing.
@@ -69,12 +73,15 @@ type Fitter interface {
 type Asymptotics interface {
 	// Cov writes Σ(θ), the per-observation asymptotic covariance of θ̂
 	// (for a maximum-likelihood fit of the data's own family, the inverse
-	// of the expected Fisher information of one observation), row-major,
-	// len(theta)² entries.
+	// of the expected Fisher information of one observation; for a fit of
+	// another family's data, the sandwich A⁻¹BA⁻¹ at the pseudo-true θ*
+	// with expectations under the data law, defined at θ* only, which is
+	// where the study evaluates it), row-major, len(theta)² entries.
 	Cov(theta, cov []float64)
 	// Bias writes b(θ), the estimator's first-order bias per
 	// observation: E θ̂ − θ = b(θ)/n + o(1/n). Zero where the estimator
-	// is unbiased.
+	// is unbiased; NaN (not available) where it is not derived, so that
+	// no transform reading that parameter is given a second-order bias.
 	Bias(theta, bias []float64)
 }
 
@@ -84,7 +91,9 @@ type Asymptotics interface {
 // model and fit another. All of it is shared by every worker.
 type Model struct {
 	// Truth is θ0, the value the estimator targets, one entry per name
-	// in the family's Estimates. It must not be changed.
+	// in the fitted family's Estimates: the true parameter when the fit is
+	// the data's family, the pseudo-true θ* otherwise. It must not be
+	// changed.
 	Truth       []float64
 	Sampler     Sampler
 	Estimator   Estimator
@@ -127,15 +136,160 @@ type Family struct {
 	// and known (binomial size).
 	Estimates []string
 	// New builds the model from validated parameter values, keyed by
-	// ParamSpec.Name.
+	// ParamSpec.Name: the family's data fitted by its own estimator with
+	// the model-based variance. Nil for a data-only family.
 	New func(values map[string]float64) (Model, error)
 	// Censor builds the model of right-censored lifetimes under c, fitted
-	// by the MLE under non-informative censoring; nil for a family that
+	// by the MLE under non-informative censoring with variance v; nil for a family that
 	// is not a lifetime family.
-	Censor func(values map[string]float64, c Censoring) (Model, error)
+	Censor func(values map[string]float64, c Censoring, v Variance) (Model, error)
 	// CensoredEstimator is one line on the censored fit, for families
 	// with Censor.
 	CensoredEstimator string
+	// Support is the set of values one observation takes.
+	Support Support
+	// DataOnly says the family can be drawn from but not fitted (its
+	// Estimates are empty): a study names another family as its fit.
+	DataOnly bool
+
+	// law builds the family's data law at validated values, for fits of
+	// other families; nil when no other family can be fitted to it.
+	law func(values map[string]float64) (law, error)
+	// fitsData reports whether this family, as the fit, accepts data
+	// drawn from d through d's law (d itself included, for the robust
+	// variance); nil: only its own data, model variance only.
+	fitsData func(d *Family) bool
+	// fitLaw builds the model that draws from l, the law of family d at
+	// values, and fits this family with variance v.
+	fitLaw func(d *Family, values map[string]float64, l law, v Variance) (Model, error)
+}
+
+// Variance is the plug-in variance an analysis reports with its fit.
+type Variance int
+
+const (
+	// ModelVariance is the inverse observed information at θ̂ (for the
+	// full exponential families the inverse expected information there).
+	ModelVariance Variance = iota
+	// RobustVariance is the sandwich A⁻¹BA⁻¹ from the sample (Huber 1967;
+	// White 1982): A the mean negative Hessian, B the mean outer product
+	// of the per-observation scores, both at θ̂.
+	RobustVariance
+)
+
+// String is the study-file word for the variance.
+func (v Variance) String() string {
+	if v == RobustVariance {
+		return "robust"
+	}
+	return "model"
+}
+
+// Fittable reports whether the family can be fitted at all.
+func (f *Family) Fittable() bool { return !f.DataOnly }
+
+// FitsData names the data families this family, as the fit, accepts,
+// sorted: its own (when it can be fitted) and those whose support suits
+// its density and whose pseudo-true parameter deltaprobe derives.
+func (f *Family) FitsData() []string {
+	var names []string
+	for _, d := range All() {
+		if (d == f && f.Fittable()) || (d != f && f.accepts(d)) {
+			names = append(names, d.Name)
+		}
+	}
+	return names
+}
+
+// accepts reports whether f can be fitted to data drawn from d through
+// d's law.
+func (f *Family) accepts(d *Family) bool {
+	return f.Fittable() && f.fitsData != nil && f.fitLaw != nil && d.law != nil && f.fitsData(d)
+}
+
+// Robust reports whether the fit offers variance = "robust".
+func (f *Family) Robust() bool { return f.Fittable() && f.accepts(f) }
+
+// Build returns the model that draws from family data at values (already
+// checked against data's ParamSpecs) and fits family fit (nil: data
+// itself) with variance v. A fit of the data's own family with the model
+// variance is the family's own New, so today's studies draw and fit
+// exactly as before.
+func Build(data *Family, values map[string]float64, fit *Family, v Variance) (Model, error) {
+	if fit == nil {
+		fit = data
+	}
+	if !fit.Fittable() {
+		if fit == data {
+			return Model{}, fmt.Errorf("%s is a data family only: it cannot be fitted; add fit = %s", data.Name, quotedOr(fitsFor(data)))
+		}
+		return Model{}, fmt.Errorf("fit = %q: %s is a data family only and cannot be fitted; fittable families: %s", fit.Name, fit.Name, strings.Join(fittableNames(), ", "))
+	}
+	if fit == data && v == ModelVariance {
+		return data.New(values)
+	}
+	if !fit.accepts(data) {
+		if fit == data {
+			return Model{}, fmt.Errorf(`variance = "robust" is not available for the %s fit; it is for fits of %s`, fit.Name, strings.Join(robustNames(), ", "))
+		}
+		why := fmt.Sprintf("the %s fit is not offered for %s data", fit.Name, data.Name)
+		if fit.Support != data.Support && !(fit.Support == Reals && data.Support != Pairs) {
+			why = fmt.Sprintf("the %s fit needs %s, and %s data are %s", fit.Name, fit.Support, data.Name, data.Support)
+		}
+		return Model{}, fmt.Errorf("fit = %q: %s; the %s fit accepts data from %s", fit.Name, why, fit.Name, strings.Join(fit.FitsData(), ", "))
+	}
+	l, err := data.law(values)
+	if err != nil {
+		return Model{}, err
+	}
+	return fit.fitLaw(data, values, l, v)
+}
+
+// FitsFor names the families that can be fitted to data of family d,
+// sorted.
+func (d *Family) FitsFor() []string { return fitsFor(d) }
+
+// fitsFor names the families that can be fitted to data of family d.
+func fitsFor(d *Family) []string {
+	var names []string
+	for _, f := range All() {
+		if f.accepts(d) || (f == d && f.Fittable()) {
+			names = append(names, f.Name)
+		}
+	}
+	return names
+}
+
+// quotedOr lists names as "a", "b" or "c".
+func quotedOr(names []string) string {
+	q := make([]string, len(names))
+	for i, n := range names {
+		q[i] = `"` + n + `"`
+	}
+	if len(q) < 2 {
+		return strings.Join(q, "")
+	}
+	return strings.Join(q[:len(q)-1], ", ") + " or " + q[len(q)-1]
+}
+
+func fittableNames() []string {
+	var names []string
+	for _, f := range All() {
+		if f.Fittable() {
+			names = append(names, f.Name)
+		}
+	}
+	return names
+}
+
+func robustNames() []string {
+	var names []string
+	for _, f := range All() {
+		if f.Robust() {
+			names = append(names, f.Name)
+		}
+	}
+	return names
 }
 
 var families = map[string]*Family{}

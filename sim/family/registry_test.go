@@ -2,9 +2,11 @@ package family
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"sync"
 	"testing"
 )
@@ -28,8 +30,50 @@ var familyContract = []contractCase{
 	{"exponential", []string{"rate"}, []string{"rate"}, map[string]float64{"rate": 2}},
 	{"gamma", []string{"shape", "rate"}, []string{"shape", "rate"}, map[string]float64{"shape": 2, "rate": 3}},
 	{"lognormal", []string{"meanlog", "sdlog"}, []string{"meanlog", "sdlog"}, map[string]float64{"meanlog": 1, "sdlog": 2}},
+	{"negative_binomial", []string{"mean", "dispersion"}, []string{"mean", "dispersion"}, map[string]float64{"mean": 4, "dispersion": 0.5}},
 	{"normal", []string{"mean", "sd"}, []string{"mean", "sd"}, map[string]float64{"mean": 1, "sd": 2}},
 	{"poisson", []string{"mean"}, []string{"mean"}, map[string]float64{"mean": 4}},
+	{"student_t", []string{"location", "scale", "df"}, []string{}, map[string]float64{"location": 1, "scale": 2, "df": 5}},
+	{"weibull", []string{"shape", "scale"}, []string{"shape", "scale"}, map[string]float64{"shape": 1.5, "scale": 2}},
+	{"zero_inflated_poisson", []string{"mean", "zero_share"}, []string{}, map[string]float64{"mean": 3, "zero_share": 0.2}},
+}
+
+// namedModel is a model to put through the checks every model must pass.
+type namedModel struct {
+	name string
+	m    Model
+}
+
+// everyModel builds each fittable family's own model, the poisson's PTRS
+// path at mean, and a model of every fit with the robust variance and of
+// every fit of another family's data that deltaprobe offers.
+func everyModel(t testing.TB, ptrsMean float64) []namedModel {
+	t.Helper()
+	var out []namedModel
+	values := map[string]map[string]float64{}
+	for _, c := range familyContract {
+		values[c.name] = c.values
+		if f, _ := Lookup(c.name); f.Fittable() {
+			out = append(out, namedModel{c.name, mustModel(t, c.name, c.values)})
+		}
+	}
+	out = append(out, namedModel{"poisson ptrs", mustModel(t, "poisson", map[string]float64{"mean": ptrsMean})})
+	for _, fit := range All() {
+		for _, data := range fit.FitsData() {
+			d, _ := Lookup(data)
+			for _, v := range []Variance{ModelVariance, RobustVariance} {
+				if d == fit && (v == ModelVariance || !fit.Robust()) {
+					continue
+				}
+				m, err := Build(d, values[data], fit, v)
+				if err != nil {
+					t.Fatalf("%s data, %s fit, %s variance: %v", data, fit.Name, v, err)
+				}
+				out = append(out, namedModel{fmt.Sprintf("%s data, %s fit, %s variance", data, fit.Name, v), m})
+			}
+		}
+	}
+	return out
 }
 
 func TestFamilyRegistry(t *testing.T) {
@@ -60,6 +104,12 @@ func TestFamilyRegistry(t *testing.T) {
 		}
 		if !slices.Equal(f.Estimates, c.estimated) {
 			t.Errorf("%s: Estimates = %v, want %v", c.name, f.Estimates, c.estimated)
+		}
+		if f.DataOnly {
+			if len(f.Estimates) != 0 || f.New != nil || f.law == nil {
+				t.Errorf("%s: a data-only family needs a law, and no estimates or New", c.name)
+			}
+			continue
 		}
 		m := mustModel(t, c.name, c.values)
 		if m.Sampler == nil || m.Estimator == nil || m.Asymptotics == nil {
@@ -140,18 +190,17 @@ func TestFamilyNewErrors(t *testing.T) {
 // TestFamilyFitAllocs checks that Draw, Fit, Cov and Bias allocate
 // nothing, for every family and for the PTRS path of the poisson.
 func TestFamilyFitAllocs(t *testing.T) {
-	ptrs := contractCase{"poisson", nil, []string{"mean"}, map[string]float64{"mean": 1e7}}
-	for _, c := range append(slices.Clone(familyContract), ptrs) {
-		m := mustModel(t, c.name, c.values)
-		p := len(c.estimated)
+	for _, c := range everyModel(t, 1e7) {
+		m := c.m
+		p := len(m.Truth)
 		theta, cov, bias := make([]float64, p), make([]float64, p*p), make([]float64, p)
 		tr := newTrial(m, 50)
 		rng := testRand(1)
 		if a := testing.AllocsPerRun(100, func() { tr.fit(rng, 50, theta) }); a != 0 {
-			t.Errorf("%s %v: Draw and Fit allocate %v per call", c.name, c.values, a)
+			t.Errorf("%s: Draw and Fit allocate %v per call", c.name, a)
 		}
 		if a := testing.AllocsPerRun(100, func() { m.Asymptotics.Cov(theta, cov); m.Asymptotics.Bias(theta, bias) }); a != 0 {
-			t.Errorf("%s %v: Cov and Bias allocate %v per call", c.name, c.values, a)
+			t.Errorf("%s: Cov and Bias allocate %v per call", c.name, a)
 		}
 	}
 }
@@ -162,10 +211,9 @@ func TestFamilyFitAllocs(t *testing.T) {
 // same seed gets (run it with -race too).
 func TestFamilyFitConcurrent(t *testing.T) {
 	const workers, reps, n = 4, 200, 30
-	ptrs := contractCase{"poisson", nil, []string{"mean"}, map[string]float64{"mean": 5e6}}
-	for _, c := range append(slices.Clone(familyContract), ptrs) {
-		m := mustModel(t, c.name, c.values)
-		p := len(c.estimated)
+	for _, c := range everyModel(t, 5e6) {
+		m := c.m
+		p := len(m.Truth)
 		run := func(seed uint64, out []float64) {
 			rng := rand.New(rand.NewPCG(seed, 7))
 			tr := newTrial(m, n)
@@ -211,8 +259,8 @@ func BenchmarkSample(b *testing.B) {
 			tr.fit(rng, 50, theta)
 		}
 	}
-	for _, c := range familyContract {
-		b.Run(c.name, func(b *testing.B) { bench(b, mustModel(b, c.name, c.values)) })
+	for _, c := range everyModel(b, 1e7) {
+		b.Run(strings.ReplaceAll(c.name, " ", "_"), func(b *testing.B) { bench(b, c.m) })
 	}
 	// Larger means and shapes take the other code paths.
 	for _, c := range []struct {
@@ -220,7 +268,6 @@ func BenchmarkSample(b *testing.B) {
 		family string
 		values map[string]float64
 	}{
-		{"poisson_ptrs", "poisson", map[string]float64{"mean": 1e7}},
 		{"gamma_boost", "gamma", map[string]float64{"shape": 0.3, "rate": 1}},
 		{"binomial_wide", "binomial", map[string]float64{"size": 1e6, "p": 0.4}},
 	} {

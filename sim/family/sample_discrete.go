@@ -45,6 +45,15 @@ type cdfTable struct {
 // relative to f(mode) = 1 and normalising at the end avoids the absolute
 // rounding of log-gamma for large arguments.
 func newUnimodalTable(mode, kmin, kmax int, up, down func(k int) float64) (*cdfTable, error) {
+	return newTableUpBound(mode, kmin, kmax, up, down, 0)
+}
+
+// newTableUpBound is newUnimodalTable for a pmf whose up-ratios above the
+// mode need not shrink but never exceed upBound < 1 (0: they shrink, as
+// log-concavity makes them): the tail beyond an entry f is then at most
+// f·upBound/(1−upBound). The negative binomial with size below 1 is such
+// a pmf: its ratios (k+size)/(k+1)·q rise towards q.
+func newTableUpBound(mode, kmin, kmax int, up, down func(k int) float64, upBound float64) (*cdfTable, error) {
 	total := 1.0
 	var upper, lower []float64
 	for k, w := mode, 1.0; k < kmax; k++ {
@@ -52,7 +61,11 @@ func newUnimodalTable(mode, kmin, kmax int, up, down func(k int) float64) (*cdfT
 		w *= r
 		upper = append(upper, w)
 		total += w
-		if r < 1 && w*r/(1-r) <= tableTail*total {
+		if upBound > 0 {
+			if w*upBound/(1-upBound) <= tableTail*total {
+				break
+			}
+		} else if r < 1 && w*r/(1-r) <= tableTail*total {
 			break
 		}
 		if len(upper) > maxTableLen {

@@ -29,7 +29,7 @@ func Warnings(r *runner.Result, rows []Row) []string {
 		}
 		kinds := []*kind{
 			{what: "undefined replicates (estimate or standard error not finite; counted as not covering, left out of the moments)"},
-			{what: "fits that did not converge (counted as undefined)"},
+			{what: "fits with no estimate: no finite MLE for the sample, or the search did not converge (counted as undefined)"},
 			{what: "plug-in standard error of 0 (a degenerate interval)"},
 			{what: "replicates in which an arm's censored lifetimes had no event (no estimate; counted as undefined)"},
 			{what: "heavy tails, excess kurtosis above 20 (the variance may not exist; its MCSE is then unreliable)"},

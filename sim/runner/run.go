@@ -302,7 +302,6 @@ type worker struct {
 	fitters []family.Fitter       // per arm: this worker's own, with any buffers its fit keeps
 	counter []family.EventCounter // per arm: nil unless it draws lifetimes
 	events  []int                 // per arm: the latest draw's events
-	fitted  []bool                // per arm: whether the latest fit has a value
 	dims    []int                 // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
@@ -311,6 +310,7 @@ type worker struct {
 	addHalf bool                   // [interval] zero_cells = "add_half"
 	accs    []cellAcc
 	useArm  [][]bool // [transform][arm]: whether the transform reads the arm
+	failed  []bool   // per arm: its fit failed in this replicate
 	rep     int      // replicate within the block, for panic reports
 	stage   int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
 	_       [pad]byte
@@ -376,7 +376,7 @@ func newWorker(s *study.Study, res *Result) *worker {
 	}
 	w.samples = padded[family.Sample](len(s.Arms))
 	w.events = padded[int](len(s.Arms))
-	w.fitted = padded[bool](len(s.Arms))
+	w.failed = padded[bool](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
 		buf = buf[l:]
@@ -462,8 +462,9 @@ func (w *worker) runBlock(j job) {
 // replicate draws every arm, fits it, and scores every transform.
 func (w *worker) replicate() {
 	s := w.s
+	anyFailed := false
 	if w.addHalf {
-		w.drawAndFitHalf()
+		anyFailed = w.drawAndFitHalf()
 	} else {
 		// Arms by pointer: an Arm is several words, and this runs per replicate.
 		for a := range s.Arms {
@@ -472,7 +473,8 @@ func (w *worker) replicate() {
 			sample := &w.samples[a]
 			arm.Model.Sampler.Draw(&w.rng, w.sizes[a], sample)
 			off := arm.Offset
-			w.fitted[a] = w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
+			w.failed[a] = !w.fitters[a].Fit(sample, w.theta[off:off+w.dims[a]], w.covs[a])
+			anyFailed = anyFailed || w.failed[a]
 		}
 	}
 	for a := range s.Arms {
@@ -484,25 +486,17 @@ func (w *worker) replicate() {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
 		use := w.useArm[t]
-		// Undefined when an arm the transform reads has no estimate; the
-		// reason is the lack of events when that arm had none.
-		fitted, noEvents := true, false
 		for a := range s.Arms {
-			if !use[a] {
-				continue
-			}
-			if w.counter[a] != nil {
+			if use[a] && w.counter[a] != nil {
 				acc.Events += int64(w.events[a])
 				acc.Lifetimes += int64(w.sizes[a])
 			}
-			if !w.fitted[a] {
-				fitted = false
-				noEvents = noEvents || w.counter[a] != nil && w.events[a] == 0
-			}
 		}
-		if !fitted {
+		if anyFailed && w.readsFailed(use) {
+			// A transform is undefined when an arm it reads has no fit;
+			// arms it does not read leave it alone.
 			acc.Undefined++
-			if noEvents {
+			if w.noEvents(use) {
 				acc.NoEvents++
 			} else {
 				acc.FitFailures++
@@ -533,9 +527,9 @@ func (w *worker) replicate() {
 
 // drawAndFitHalf draws every arm, then fits each, correcting every
 // correctable arm by adding ½ to its cells when any of them is at its
-// boundary (family.HalfCorrector); fitted records whether each fit has a
-// value.
-func (w *worker) drawAndFitHalf() {
+// boundary (family.HalfCorrector); it marks each arm whose fit has no
+// value in w.failed and reports whether any has none.
+func (w *worker) drawAndFitHalf() (anyFailed bool) {
 	s := w.s
 	boundary := false
 	for a := range s.Arms {
@@ -549,14 +543,38 @@ func (w *worker) drawAndFitHalf() {
 		w.stage = a
 		off := s.Arms[a].Offset
 		theta := w.theta[off : off+w.dims[a]]
+		w.failed[a] = false
 		if h := w.halves[a]; boundary && h != nil {
 			w.armN[a] = h.FitAddHalf(&w.samples[a], theta, w.covs[a])
-			w.fitted[a] = true
 			continue
 		}
 		w.armN[a] = float64(w.sizes[a])
-		w.fitted[a] = w.fitters[a].Fit(&w.samples[a], theta, w.covs[a])
+		w.failed[a] = !w.fitters[a].Fit(&w.samples[a], theta, w.covs[a])
+		anyFailed = anyFailed || w.failed[a]
 	}
+	return anyFailed
+}
+
+// noEvents reports whether an arm in use whose fit failed had no event:
+// the reason the replicate is undefined.
+func (w *worker) noEvents(use []bool) bool {
+	for a, f := range w.failed {
+		if f && use[a] && w.counter[a] != nil && w.events[a] == 0 {
+			return true
+		}
+	}
+	return false
+}
+
+// readsFailed reports whether a transform reading the arms in use reads
+// one whose fit failed in this replicate.
+func (w *worker) readsFailed(use []bool) bool {
+	for a, f := range w.failed {
+		if f && use[a] {
+			return true
+		}
+	}
+	return false
 }
 
 // add scores one replicate's estimate v and the variance pv its interval

@@ -257,3 +257,74 @@ func BenchmarkReplicate(b *testing.B) {
 		w.replicate()
 	}
 }
+
+// misfitStudy draws from the new families and fits others and their own,
+// with both variances, so every new fitter is on the worker's hot path.
+const misfitStudy = `seed = 3
+replicates = 1000
+sample_sizes = [40]
+[[arm]]
+name = "nbp"
+family = "negative_binomial"
+mean = 4.0
+dispersion = 0.5
+fit = "poisson"
+variance = "robust"
+[[arm]]
+name = "nb"
+family = "negative_binomial"
+mean = 4.0
+dispersion = 0.5
+variance = "robust"
+[[arm]]
+name = "wb"
+family = "weibull"
+shape = 1.5
+scale = 2.0
+[[arm]]
+name = "we"
+family = "weibull"
+shape = 1.5
+scale = 2.0
+fit = "exponential"
+[[arm]]
+name = "tn"
+family = "student_t"
+location = 0.0
+scale = 1.0
+df = 5.0
+fit = "normal"
+variance = "robust"
+[[arm]]
+name = "zp"
+family = "zero_inflated_poisson"
+mean = 3.0
+zero_share = 0.2
+fit = "poisson"
+[[transform]]
+name = "all"
+expr = "log(nbp.mean) + nb.dispersion + wb.shape + we.rate + tn.sd + zp.mean"
+`
+
+// A replicate of fits of other families' data, numerical MLEs and
+// sandwiches included, allocates nothing either.
+func TestMisfitReplicateAllocatesNothing(t *testing.T) {
+	s := studytest.Parse(t, misfitStudy)
+	w := newWorker(s, NewResult(s))
+	w.runBlock(job{ni: 0, block: 0, count: 10})
+	if allocs := testing.AllocsPerRun(200, w.replicate); allocs != 0 {
+		t.Errorf("a replicate allocates %v times, want 0", allocs)
+	}
+}
+
+// BenchmarkMisfitReplicate times one replicate of misfitStudy (six arms of
+// 40 observations each); run it with -benchmem to see 0 allocs/op.
+func BenchmarkMisfitReplicate(b *testing.B) {
+	s := studytest.Parse(b, misfitStudy)
+	w := newWorker(s, NewResult(s))
+	w.runBlock(job{ni: 0, block: 0, count: 10})
+	b.ReportAllocs()
+	for b.Loop() {
+		w.replicate()
+	}
+}

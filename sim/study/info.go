@@ -37,10 +37,39 @@ type ArmInfo struct {
 	Family     string             `json:"family"`
 	Values     map[string]float64 `json:"values"`
 	Allocation float64            `json:"allocation"`
+	// Fit is the fitted family when it is not Family; Variance is
+	// "robust" when the file asks for it. Both are left out otherwise, so
+	// a study without them records what it did before the keys existed.
+	Fit      string `json:"fit,omitempty"`
+	Variance string `json:"variance,omitempty"`
+	// PseudoTrue is θ*, the fitted family's parameters closest to the
+	// data law, by name; only when Fit differs from Family.
+	PseudoTrue map[string]float64 `json:"pseudo_true,omitempty"`
 	// Censoring and EventShare (the expected share of events at the
 	// truth) are set for an arm with censored lifetimes.
 	Censoring  *family.Censoring `json:"censoring,omitempty"`
 	EventShare float64           `json:"event_share,omitempty"`
+}
+
+// FitFamily is the family the arm fits.
+func (a ArmInfo) FitFamily() string {
+	if a.Fit == "" {
+		return a.Family
+	}
+	return a.Fit
+}
+
+// Robust reports whether the arm's plug-in variance is the sandwich.
+func (a ArmInfo) Robust() bool { return a.Variance == "robust" }
+
+// Misspecified reports whether any arm fits another family than its data's.
+func (i Info) Misspecified() bool {
+	for _, a := range i.Arms {
+		if a.Fit != "" && a.Fit != a.Family {
+			return true
+		}
+	}
+	return false
 }
 
 // TransformInfo names one transform as run.
@@ -72,7 +101,16 @@ func (s *Study) Info() Info {
 		info.Overrides = append(info.Overrides, "replicates")
 	}
 	for _, a := range s.Arms {
-		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation}
+		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation, Fit: a.Fit}
+		if a.Variance == family.RobustVariance {
+			ai.Variance = "robust"
+		}
+		if a.Misspecified() {
+			ai.PseudoTrue = map[string]float64{}
+			for i, name := range a.Estimates() {
+				ai.PseudoTrue[name] = a.Model.Truth[i]
+			}
+		}
 		if a.Censoring != nil {
 			c := *a.Censoring
 			ai.Censoring, ai.EventShare = &c, a.Model.EventShare

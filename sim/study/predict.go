@@ -1,13 +1,46 @@
 package study
 
-import "math"
+import (
+	"encoding/json"
+	"math"
+)
 
 // Prediction is what the delta method forecasts for one transform at one
 // sample size, evaluated at the true parameters.
 type Prediction struct {
 	Truth    float64 `json:"truth"`     // τ0 = τ(θ0)
 	DeltaVar float64 `json:"delta_var"` // gᵀ Σ(θ0) g with Σ stacked over arms, each Σ_arm/n_arm
-	Bias2nd  float64 `json:"bias_2nd"`  // ½ tr(H Σ) + gᵀ b, the second-order bias
+	Bias2nd  float64 `json:"bias_2nd"`  // ½ tr(H Σ) + gᵀ b, the second-order bias; NaN where not available
+}
+
+// predictionJSON is a Prediction as saved: a bias that is not available
+// (NaN, which JSON cannot hold) is null.
+type predictionJSON struct {
+	Truth    float64  `json:"truth"`
+	DeltaVar float64  `json:"delta_var"`
+	Bias2nd  *float64 `json:"bias_2nd"`
+}
+
+// MarshalJSON writes a NaN second-order bias as null.
+func (p Prediction) MarshalJSON() ([]byte, error) {
+	j := predictionJSON{Truth: p.Truth, DeltaVar: p.DeltaVar}
+	if !math.IsNaN(p.Bias2nd) {
+		j.Bias2nd = &p.Bias2nd
+	}
+	return json.Marshal(j)
+}
+
+// UnmarshalJSON reads null as a second-order bias that is not available.
+func (p *Prediction) UnmarshalJSON(b []byte) error {
+	var j predictionJSON
+	if err := json.Unmarshal(b, &j); err != nil {
+		return err
+	}
+	*p = Prediction{Truth: j.Truth, DeltaVar: j.DeltaVar, Bias2nd: math.NaN()}
+	if j.Bias2nd != nil {
+		p.Bias2nd = *j.Bias2nd
+	}
+	return nil
 }
 
 // Truth returns θ0, the true parameters stacked over arms.
@@ -50,6 +83,11 @@ func (s *Study) Predict(t, n int) Prediction {
 				h := hess[(a.Offset+i)*d+a.Offset+j] * cov[j*k+i]
 				trace += h
 				size += 0.5 * math.Abs(h)
+			}
+			if grad[a.Offset+i] == 0 {
+				// A parameter the transform does not read adds nothing,
+				// even where its bias is not available (NaN).
+				continue
 			}
 			g := grad[a.Offset+i] * bias[i]
 			gb += g

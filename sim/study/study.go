@@ -97,10 +97,14 @@ func (p *PlanSpec) Looks() int { return (p.MaxReplicates + p.Batch - 1) / p.Batc
 // Arm is one independent sample of the study; a study with a [model]
 // table has one arm with an empty name.
 type Arm struct {
-	Name       string
-	Family     string
-	Values     map[string]float64 // the family's parameters, as given
-	Allocation float64            // arm size = ceil(n × Allocation)
+	Name   string
+	Family string
+	Values map[string]float64 // the family's parameters, as given
+	// Fit is the family the analysis fits; Family itself unless the file
+	// gives fit = "...". θ holds its parameters.
+	Fit        string
+	Variance   family.Variance // the plug-in variance: model-based unless variance = "robust"
+	Allocation float64         // arm size = ceil(n × Allocation)
 	// Censoring is the arm's [model.censoring] or [arm.censoring] table;
 	// nil when lifetimes are seen whole.
 	Censoring *family.Censoring
@@ -202,14 +206,27 @@ func (s *Study) ParamNames() []string {
 }
 
 // Estimates names the arm's estimated parameters, in the order of its
-// part of θ: its family's Estimates.
+// part of θ: its fitted family's Estimates.
 func (a *Arm) Estimates() []string {
-	f, ok := family.Lookup(a.Family)
+	f, ok := family.Lookup(a.FitFamily())
 	if !ok {
-		panic("study: an arm of the unregistered family " + a.Family)
+		panic("study: an arm fitting the unregistered family " + a.FitFamily())
 	}
 	return f.Estimates
 }
+
+// FitFamily is the name of the family the arm fits: Fit, or Family when
+// Fit is empty.
+func (a *Arm) FitFamily() string {
+	if a.Fit == "" {
+		return a.Family
+	}
+	return a.Fit
+}
+
+// Misspecified reports whether the arm fits another family than the one
+// its data are drawn from.
+func (a *Arm) Misspecified() bool { return a.FitFamily() != a.Family }
 
 // Dim is the length of θ.
 func (s *Study) Dim() int {
@@ -609,7 +626,9 @@ func (d *decoder) arm(table string, m map[string]any, named bool, smallest int) 
 		return a, false
 	}
 	a.Family = famName
-	accepted := []string{"family"}
+	fit, variance, fitOK := d.fitKeys(table, m, fam)
+	ok = ok && fitOK
+	accepted := []string{"family", "fit", "variance"}
 	if named {
 		accepted = append(accepted, "name", "allocation")
 	}
@@ -652,15 +671,29 @@ func (d *decoder) arm(table string, m map[string]any, named bool, smallest int) 
 	if !ok {
 		return a, false
 	}
+	if fit != fam {
+		a.Fit = fit.Name
+	}
+	a.Variance = variance
 	var model family.Model
 	var err error
-	if a.Censoring != nil {
-		model, err = fam.Censor(a.Values, *a.Censoring)
-	} else {
-		model, err = fam.New(a.Values)
+	switch {
+	case a.Censoring != nil && fit != fam:
+		d.fail(join(table, "fit"), "%s: fit = %q with censoring is not offered: censored lifetimes are fitted by their own family's censored likelihood; leave fit out (or give fit = %q)", label, fit.Name, fam.Name)
+		return a, false
+	case a.Censoring != nil:
+		model, err = fam.Censor(a.Values, *a.Censoring, variance)
+	default:
+		model, err = family.Build(fam, a.Values, fit, variance)
 	}
 	if err != nil {
-		d.fail(table, "%s: %s", label, strings.TrimPrefix(err.Error(), "sim: "))
+		path := table
+		if _, given := m["fit"]; given {
+			path = join(table, "fit")
+		} else if _, given := m["variance"]; given {
+			path = join(table, "variance")
+		}
+		d.fail(path, "%s: %s", label, strings.TrimPrefix(err.Error(), "sim: "))
 		return a, false
 	}
 	a.Model = model
@@ -752,6 +785,47 @@ var censoringAccepts = map[string]string{
 	"entry":        "the length of the entry period must be > 0 (leave it out when every unit enters at time 0)",
 	"end":          "the calendar time the study ends must be > 0",
 	"dropout_rate": "the rate of loss to follow-up must be > 0 (leave it out for none)",
+}
+
+// variantText shows a value given for a word key: quoted when it is a
+// string, by its type otherwise.
+func variantText(v any) string {
+	if str, ok := v.(string); ok {
+		return fmt.Sprintf("%q", str)
+	}
+	return typeName(v)
+}
+
+// fitKeys reads an arm's fit and variance keys: the fitted family (the
+// data family when fit is not given) and the variance ("model" unless
+// given).
+func (d *decoder) fitKeys(table string, m map[string]any, data *family.Family) (*family.Family, family.Variance, bool) {
+	fit, variance, ok := data, family.ModelVariance, true
+	if raw, given := m["fit"]; given {
+		name, isStr := raw.(string)
+		f, known := family.Lookup(name)
+		switch {
+		case !isStr:
+			d.fail(join(table, "fit"), "fit must be a string naming the fitted family, got %s; accepted: %s", typeName(raw), strings.Join(data.FitsFor(), ", "))
+			ok = false
+		case !known:
+			d.fail(join(table, "fit"), "unknown fit family %q for %s data%s", name, data.Name, didYouMean(name, data.FitsFor()))
+			ok = false
+		default:
+			fit = f
+		}
+	}
+	if raw, given := m["variance"]; given {
+		switch raw {
+		case "model":
+		case "robust":
+			variance = family.RobustVariance
+		default:
+			d.fail(join(table, "variance"), "variance must be \"model\" (inverse observed information at the estimate) or \"robust\" (the sandwich from the sample), got %s", variantText(raw))
+			ok = false
+		}
+	}
+	return fit, variance, ok
 }
 
 func (d *decoder) transforms(raw map[string]any, s *Study) {
