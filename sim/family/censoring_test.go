@@ -267,3 +267,54 @@ func BenchmarkCensoredExponential(b *testing.B) {
 		})
 	}
 }
+
+// The sandwich's sampler keeps Σdᵢxᵢ and Σxᵢ², whose means match the
+// quadrature of the observation's definition (unitMoments) within 4 MCSE
+// (common practice), and its draws are those of the model sampler (D and
+// T the same law: compared in mean).
+func TestCensoredExponentialSandwichSums(t *testing.T) {
+	const lambda, n, reps = 0.4, 50, 4000
+	for i, c := range censoringLaws {
+		m, err := newCensoredExponential(map[string]float64{"rate": lambda}, c, RobustVariance)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rng := testRand(uint64(500 + i))
+		s := Sample{Data: make([]float64, 4)}
+		var sums, sq [4]float64
+		for range reps {
+			m.Sampler.Draw(rng, n, &s)
+			for j := range 4 {
+				sums[j] += s.Data[j] / n
+				sq[j] += (s.Data[j] / n) * (s.Data[j] / n)
+			}
+		}
+		ed, ex, ex2, edx := unitMoments(lambda, c)
+		for j, want := range []float64{ed, ex, edx, ex2} {
+			mean := sums[j] / reps
+			sd := math.Sqrt(sq[j]/reps - mean*mean)
+			if z := (mean - want) / (sd / math.Sqrt(reps)); math.Abs(z) > 4 {
+				t.Errorf("%+v: sum %d per unit %.6g, quadrature %.6g: %+.1f MCSE", c, j, mean, want, z)
+			}
+		}
+	}
+}
+
+// The sandwich from the sums against the per-unit scores written out:
+// units x = (1, 2, 3) with d = (1, 0, 1) give λ̂ = 2/6, scores
+// dᵢ/λ̂ − xᵢ = (2, −2, 0), B' = 8, A' = D/λ̂² = 18, and n·B'/A'² = 24/324
+// (derived by hand).
+func TestCensoredExponentialSandwichByHand(t *testing.T) {
+	m, err := newCensoredExponential(map[string]float64{"rate": 1}, Censoring{End: 3}, RobustVariance)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := Sample{N: 3, Data: []float64{2, 6, 1 + 3, 1 + 4 + 9}}
+	theta, cov := []float64{0}, []float64{0}
+	if !m.Estimator.NewFitter(3).Fit(&s, theta, cov) {
+		t.Fatal("no fit")
+	}
+	if math.Abs(theta[0]-1.0/3) > 1e-15 || math.Abs(cov[0]-24.0/324) > 1e-15 {
+		t.Errorf("λ̂ = %v, sandwich %v; want 1/3 and 24/324 = %v", theta[0], cov[0], 24.0/324)
+	}
+}

@@ -22,7 +22,7 @@ func init() {
 			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m, EventShare: 1}, nil
 		},
 		Censor:            newCensoredExponential,
-		CensoredEstimator: "censored MLE: events / total time at risk, variance 1/observed information; undefined without events",
+		CensoredEstimator: "censored MLE: events / total time at risk, variance 1/observed information or the sandwich; undefined without events",
 	})
 }
 
@@ -44,6 +44,9 @@ func (*exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
 
 // Events: every lifetime is seen.
 func (*exponentialModel) Events(s *Sample) int { return s.N }
+
+// MinEvents: one event gives the rate a value.
+func (*exponentialModel) MinEvents() int { return 1 }
 
 func (m *exponentialModel) NewFitter(int) Fitter { return m }
 

@@ -9,10 +9,7 @@ import (
 // newCensoredExponential is the exponential family's Censor: lifetimes of
 // the given rate under the censoring law c, fitted by the censored MLE.
 func newCensoredExponential(v map[string]float64, c Censoring, variance Variance) (Model, error) {
-	if variance == RobustVariance {
-		return Model{}, fmt.Errorf(`variance = "robust" is not offered for censored lifetimes yet`)
-	}
-	m := &censoredExponential{rate: v["rate"], c: c}
+	m := &censoredExponential{rate: v["rate"], c: c, robust: variance == RobustVariance}
 	m.share, _ = c.exponentialEvents(m.rate)
 	if !(m.share > 0) {
 		return Model{}, fmt.Errorf("under this censoring no event is expected at rate %v (P(event) = %v)", m.rate, m.share)
@@ -26,14 +23,21 @@ func newCensoredExponential(v map[string]float64, c Censoring, variance Variance
 // total time at risk (Lawless 2003, Statistical Models and Methods for
 // Lifetime Data, 2nd ed., ch. 2, from memory). θ = (rate).
 type censoredExponential struct {
-	rate  float64
-	c     Censoring
-	share float64 // P(event) at the truth
+	rate   float64
+	c      Censoring
+	share  float64 // P(event) at the truth
+	robust bool    // plug-in variance: the sandwich, not the observed information
 }
 
 // SampleLen is 2: a censored exponential sample is (D, T), the number of
-// events and the total time at risk, which are sufficient for λ.
-func (*censoredExponential) SampleLen(int) int { return 2 }
+// events and the total time at risk, which are sufficient for λ; 4 for
+// the sandwich, which also needs Σ dᵢxᵢ (the events' times) and Σ xᵢ².
+func (m *censoredExponential) SampleLen(int) int {
+	if m.robust {
+		return 4
+	}
+	return 2
+}
 
 // Draw draws n units one by one (never the sufficient statistics
 // directly: D and T are dependent, and their joint law under entry and
@@ -45,6 +49,11 @@ func (*censoredExponential) SampleLen(int) int { return 2 }
 // the kind of ending).
 func (m *censoredExponential) Draw(rng *rand.Rand, n int, s *Sample) {
 	mu := m.rate + m.c.DropoutRate
+	if m.robust {
+		drawCensoredSums(rng, n, mu, m.c, m.rate/mu, s.Data[:4])
+		s.N = n
+		return
+	}
 	var events, time float64
 	switch {
 	case m.c.Entry == 0 && m.c.DropoutRate == 0:
@@ -111,8 +120,40 @@ func drawEntryDropout(rng *rand.Rand, n int, mu, end, entry, pLife float64) (eve
 	return float64(count), sum / mu
 }
 
+// drawCensoredSums draws as drawEntryDropout does and keeps the four
+// sums the sandwich needs: D, T = Σxᵢ, Σdᵢxᵢ and Σxᵢ².
+//
+//go:noinline
+func drawCensoredSums(rng *rand.Rand, n int, mu float64, c Censoring, pLife float64, sums []float64) {
+	end := c.End
+	if end == 0 {
+		end = math.Inf(1)
+	}
+	var d, t, dt, tt float64
+	for range n {
+		y := rng.ExpFloat64() / mu
+		u := rng.Uint64()
+		limit := end - c.Entry*float64(u>>32)*0x1p-32
+		if y > limit {
+			t += limit
+			tt += limit * limit
+			continue
+		}
+		t += y
+		tt += y * y
+		if float64(u&0xffffffff)*0x1p-32 < pLife {
+			d++
+			dt += y
+		}
+	}
+	sums[0], sums[1], sums[2], sums[3] = d, t, dt, tt
+}
+
 // Events is the number of events in the sample.
 func (*censoredExponential) Events(s *Sample) int { return int(s.Data[0]) }
+
+// MinEvents: one event gives the rate a value.
+func (*censoredExponential) MinEvents() int { return 1 }
 
 func (m *censoredExponential) NewFitter(int) Fitter { return m }
 
@@ -128,6 +169,16 @@ func (m *censoredExponential) Fit(s *Sample, theta, cov []float64) bool {
 	}
 	r := d / s.Data[1]
 	theta[0] = r
+	if m.robust {
+		// Per observation, A = D/(nλ̂²) (the mean negative Hessian) and
+		// B = Σ(dᵢ/λ̂ − xᵢ)²/n (the mean squared score; dᵢ² = dᵢ), so the
+		// sandwich A⁻¹BA⁻¹ (Huber 1967; White 1982) is n·B'/A'² with the
+		// sums A' = D/λ̂², B' = D/λ̂² − 2Σdᵢxᵢ/λ̂ + Σxᵢ².
+		a := d / (r * r)
+		b := a - 2*s.Data[2]/r + s.Data[3]
+		cov[0] = float64(s.N) * b / (a * a)
+		return true
+	}
 	cov[0] = r * r * float64(s.N) / d
 	return true
 }

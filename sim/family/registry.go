@@ -110,6 +110,9 @@ type Model struct {
 // replicate with no events as the reason it is undefined.
 type EventCounter interface {
 	Events(s *Sample) int
+	// MinEvents is the fewest events with which the fit can have a
+	// value; fewer is the reason a replicate is undefined.
+	MinEvents() int
 }
 
 // ParamSpec describes one parameter a family takes in the study file.

@@ -31,7 +31,7 @@ func Warnings(r *runner.Result, rows []Row) []string {
 			{what: "undefined replicates (estimate or standard error not finite; counted as not covering, left out of the moments)"},
 			{what: "fits with no estimate: no finite MLE for the sample, or the search did not converge (counted as undefined)"},
 			{what: "plug-in standard error of 0 (a degenerate interval)"},
-			{what: "replicates in which an arm's censored lifetimes had no event (no estimate; counted as undefined)"},
+			{what: "replicates in which an arm's censored lifetimes had too few events for an estimate (none; for the Weibull, under two) (counted as undefined)"},
 			{what: "heavy tails, excess kurtosis above 20 (the variance may not exist; its MCSE is then unreliable)"},
 		}
 		for _, row := range rows[start:end] {

@@ -50,7 +50,7 @@ type Counts struct {
 	Replicates  int64 `json:"replicates"`
 	Undefined   int64 `json:"undefined"`           // τ̂ or its standard error not finite, or no fit
 	FitFailures int64 `json:"fit_failures"`        // of which: the estimator had no value
-	NoEvents    int64 `json:"no_events,omitempty"` // of which: an arm's censored lifetimes had no event
+	NoEvents    int64 `json:"no_events,omitempty"` // of which: an arm's lifetimes had too few events
 	// Events and Lifetimes count, over the replicates and the lifetime
 	// arms the transform reads, the observations that were events and
 	// all observations: summary.csv's events is their ratio.

@@ -555,11 +555,11 @@ func (w *worker) drawAndFitHalf() (anyFailed bool) {
 	return anyFailed
 }
 
-// noEvents reports whether an arm in use whose fit failed had no event:
-// the reason the replicate is undefined.
+// noEvents reports whether an arm in use whose fit failed had fewer
+// events than its fit needs: the reason the replicate is undefined.
 func (w *worker) noEvents(use []bool) bool {
 	for a, f := range w.failed {
-		if f && use[a] && w.counter[a] != nil && w.events[a] == 0 {
+		if f && use[a] && w.counter[a] != nil && w.events[a] < w.counter[a].MinEvents() {
 			return true
 		}
 	}

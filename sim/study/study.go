@@ -699,13 +699,17 @@ func (d *decoder) arm(table string, m map[string]any, named bool, smallest int) 
 	a.Model = model
 	if a.Censoring != nil && smallest > 0 {
 		size := armSize(a.Allocation, smallest)
-		if expected := float64(size) * model.EventShare; expected < 1 {
+		need := 1
+		if c, ok := model.Sampler.(family.EventCounter); ok {
+			need = c.MinEvents()
+		}
+		if expected := float64(size) * model.EventShare; expected < float64(need) {
 			who := "the sample"
 			if a.Name != "" {
 				who = "arm " + a.Name
 			}
-			d.fail(join(table, "censoring"), "[%s.censoring]: at the smallest n, %d, %s draws %d observations and expects %d × %.3g = %.3g events (%.3g the probability of an event at the truth, with %s); an estimate needs at least one: give a later end, less dropout or larger sample sizes",
-				strings.Trim(label, "[]"), smallest, who, size, size, model.EventShare, expected, model.EventShare, a.Censoring.Words())
+			d.fail(join(table, "censoring"), "[%s.censoring]: at the smallest n, %d, %s draws %d observations and expects %d × %.3g = %.3g events (%.3g the probability of an event at the truth, with %s); an estimate needs at least %s: give a later end, less dropout or larger sample sizes",
+				strings.Trim(label, "[]"), smallest, who, size, size, model.EventShare, expected, model.EventShare, a.Censoring.Words(), map[bool]string{true: "one", false: "two"}[need == 1])
 			return a, false
 		}
 	}
