@@ -269,6 +269,26 @@ expr = "rate"
 		exactCheckValue(t, label+" bias", row.Get(measure.Bias), row.Get(measure.Bias2nd), row.Get(measure.BiasMCSE), row.Get(measure.BiasMCSE),
 			"second order: Cox–Snell bias, derived")
 	}
+	// The sandwich (variance = "robust") estimates the same variance:
+	// the same draws, its mean plug-in against the simulated variance.
+	robust := exactRun(t, fmt.Sprintf(`seed = 31337
+replicates = 40000
+sample_sizes = [400]
+[model]
+family = "exponential"
+rate = %v
+variance = "robust"
+[model.censoring]
+entry = %v
+end = %v
+dropout_rate = %v
+[[transform]]
+name = "rate"
+expr = "rate"
+`, lambda, entry, end, dropout))
+	row := exactRow(t, robust, "rate", 400)
+	exactCheckValue(t, "entry+dropout robust plugin_var", row.Get(measure.PluginVar), row.Get(measure.EmpVar), row.Get(measure.EmpVarMCSE), row.Get(measure.EmpVarMCSE),
+		"first order: the sandwich estimates the variance")
 }
 
 // Censored Weibull lifetimes (entry, end and dropout): at n = 400 the
