@@ -28,13 +28,19 @@ fuzz:
 # studies/bench_reference.toml in one process (cmd/deltabench), memory at
 # 10^4 and 10^6 replicates per n (runner.Run alone and `deltaprobe run`), then
 # the parts (sampling, transforms, accumulators, one replicate) with
-# -benchmem. All of it goes to bench.txt. The machine may be shared: read
-# the medians, and the share of CPU other processes took, which it prints.
+# -benchmem, then scripts/scale-bench.sh: peak memory, time and result.json
+# size of run, -resume, merge and report at 10^4, 10^6 and 10^8 replicates
+# per n on studies/fuel.toml (several minutes). All of it goes to
+# bench.txt. The machine may be shared: read the medians, and the share of
+# CPU other processes took, which it prints.
 bench: build
 	$(GO) run ./cmd/deltabench -cli ./deltaprobe -o bench.txt
 	$(GO) test ./sim/... -run='^$$' -bench=. -benchmem -count=1 > bench.txt.tmp
 	@cat bench.txt.tmp
 	@{ echo; echo "# parts: go test ./sim/... -run='^$$' -bench=. -benchmem"; cat bench.txt.tmp; } >> bench.txt
+	@rm -f bench.txt.tmp
+	bash scripts/scale-bench.sh ./deltaprobe studies/fuel.toml | tee bench.txt.tmp
+	@{ echo; cat bench.txt.tmp; } >> bench.txt
 	@rm -f bench.txt.tmp
 
 clean:

@@ -4,10 +4,8 @@ import (
 	"fmt"
 	"image/color"
 	"math"
-	"runtime"
 	"strconv"
 	"strings"
-	"sync"
 
 	"deltaprobe/sim/measure"
 	"deltaprobe/sim/runner"
@@ -41,6 +39,16 @@ func (fig Figure) Data(f Format) []byte {
 		}
 	}
 	return nil
+}
+
+// has reports whether the figure was rendered in format f.
+func (fig Figure) has(f Format) bool {
+	for _, ff := range fig.Files {
+		if ff.Format == f {
+			return true
+		}
+	}
+	return false
 }
 
 // Figure kinds, as they end the file names.
@@ -130,55 +138,65 @@ func newPanel() *plot.Plot {
 }
 
 // Figures renders every figure of r in each of formats (none: the
-// DefaultFormats): for each transform, its trends and its shapes. Figures
-// are independent, so they render in parallel; each is a pure function
-// of r and comes out byte for byte the same every time.
+// DefaultFormats): for each transform, its trends and its shapes. They
+// render one at a time, so the memory of drawing does not grow with the
+// number of figures; each is a pure function of r and comes out byte for
+// byte the same every time.
 func Figures(r *runner.Result, formats ...Format) ([]Figure, error) {
-	formats, err := checkFormats(formats)
-	if err != nil {
-		return nil, err
-	}
-	rows := measure.Summarize(r)
-	verdicts := measure.Verdicts(rows)
-	stems := transformStems(r.Study.Transforms)
-	figs := make([]Figure, 0, 2*len(stems))
-	for t := range stems {
-		figs = append(figs,
-			Figure{File: stems[t] + "-" + KindTrends, Transform: t, Kind: KindTrends},
-			Figure{File: stems[t] + "-" + KindShapes, Transform: t, Kind: KindShapes})
-	}
-	nn := len(r.Study.SampleSizes)
-	err = renderEach(len(figs), func(i int) error {
-		f := &figs[i]
-		t := f.Transform
-		var v measure.TransformVerdict
-		if t < len(verdicts) {
-			v = verdicts[t]
-		}
-		stem := f.File
-		var err error
-		switch f.Kind {
-		case KindTrends:
-			f.Files, f.Width, f.Height, err = renderFormats(stem, formats, func(enc encodeFunc) ([]byte, int, int, error) {
-				return trendsFigure(r, t, rows[t*nn:(t+1)*nn], v, enc)
-			})
-			f.Alt = trendsAlt(r, t, v)
-		case KindShapes:
-			f.Files, f.Width, f.Height, err = renderFormats(stem, formats, func(enc encodeFunc) ([]byte, int, int, error) {
-				return shapesFigure(r, t, rows[t*nn:(t+1)*nn], v, enc)
-			})
-			f.Alt = shapesAlt(r, t)
-		}
-		if err != nil {
-			return fmt.Errorf("drawing %s: %w", stem, err)
-		}
-		f.File = shownFile(f.Files)
+	var figs []Figure
+	err := eachFigure(r, formats, func(f Figure) error {
+		figs = append(figs, f)
 		return nil
 	})
 	if err != nil {
 		return nil, err
 	}
 	return figs, nil
+}
+
+// eachFigure renders the figures of Figures one at a time, in order, and
+// hands each to emit before drawing the next, so a caller that writes
+// and drops each one holds one figure's bytes at a time.
+func eachFigure(r *runner.Result, formats []Format, emit func(Figure) error) error {
+	formats, err := checkFormats(formats)
+	if err != nil {
+		return err
+	}
+	rows := measure.Summarize(r)
+	verdicts := measure.Verdicts(rows)
+	stems := transformStems(r.Study.Transforms)
+	nn := len(r.Study.SampleSizes)
+	for t := range stems {
+		var v measure.TransformVerdict
+		if t < len(verdicts) {
+			v = verdicts[t]
+		}
+		for _, kind := range []string{KindTrends, KindShapes} {
+			stem := stems[t] + "-" + kind
+			f := Figure{File: stem, Transform: t, Kind: kind}
+			var err error
+			switch kind {
+			case KindTrends:
+				f.Files, f.Width, f.Height, err = renderFormats(stem, formats, func(enc encodeFunc) ([]byte, int, int, error) {
+					return trendsFigure(r, t, rows[t*nn:(t+1)*nn], v, enc)
+				})
+				f.Alt = trendsAlt(r, t, v)
+			case KindShapes:
+				f.Files, f.Width, f.Height, err = renderFormats(stem, formats, func(enc encodeFunc) ([]byte, int, int, error) {
+					return shapesFigure(r, t, rows[t*nn:(t+1)*nn], v, enc)
+				})
+				f.Alt = shapesAlt(r, t)
+			}
+			if err != nil {
+				return fmt.Errorf("drawing %s: %w", stem, err)
+			}
+			f.File = shownFile(f.Files)
+			if err := emit(f); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
 }
 
 // transformStems are the file-name stems of the transforms, from
@@ -223,29 +241,6 @@ func SafeNames(names []string) []string {
 		out[i] = cand
 	}
 	return out
-}
-
-// renderEach calls draw(i) for i in [0, n), as many at once as there are
-// processors, and returns the first error in index order.
-func renderEach(n int, draw func(i int) error) error {
-	errs := make([]error, n)
-	var wg sync.WaitGroup
-	sem := make(chan struct{}, runtime.GOMAXPROCS(0))
-	for i := range n {
-		wg.Add(1)
-		sem <- struct{}{}
-		go func() {
-			defer func() { <-sem; wg.Done() }()
-			errs[i] = draw(i)
-		}()
-	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			return err
-		}
-	}
-	return nil
 }
 
 // figureTitle names the transform and its expression, clipped so that a

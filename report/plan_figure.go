@@ -136,17 +136,30 @@ func (v planView) zoomRange() (lo, hi int, ok bool) {
 }
 
 // PlanFigures renders the plan's figure of every transform in each of
-// formats (none: the DefaultFormats), in study order, in parallel; each
+// formats (none: the DefaultFormats), in study order, one at a time; each
 // is a pure function of the saved plan p and comes out byte for byte the
 // same every time.
 func PlanFigures(p *plan.Result, formats ...Format) ([]Figure, error) {
-	formats, err := checkFormats(formats)
+	var figs []Figure
+	err := eachPlanFigure(p, formats, func(f Figure) error {
+		figs = append(figs, f)
+		return nil
+	})
 	if err != nil {
 		return nil, err
 	}
+	return figs, nil
+}
+
+// eachPlanFigure renders the figures of PlanFigures one at a time and
+// hands each to emit before drawing the next (see eachFigure).
+func eachPlanFigure(p *plan.Result, formats []Format, emit func(Figure) error) error {
+	formats, err := checkFormats(formats)
+	if err != nil {
+		return err
+	}
 	stems := transformStems(p.Study.Transforms)
-	figs := make([]Figure, len(stems))
-	err = renderEach(len(stems), func(t int) error {
+	for t := range stems {
 		v := newPlanView(p, t)
 		stem := stems[t] + "-" + KindPlan
 		f := Figure{Transform: t, Kind: KindPlan, Alt: planAlt(v)}
@@ -158,13 +171,11 @@ func PlanFigures(p *plan.Result, formats ...Format) ([]Figure, error) {
 			return fmt.Errorf("drawing %s: %w", stem, err)
 		}
 		f.File = shownFile(f.Files)
-		figs[t] = f
-		return nil
-	})
-	if err != nil {
-		return nil, err
+		if err := emit(f); err != nil {
+			return err
+		}
 	}
-	return figs, nil
+	return nil
 }
 
 // planAxis is one column's n axis: the whole search on a log scale, or

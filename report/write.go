@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 
 	"deltaprobe/sim/measure"
@@ -22,7 +23,7 @@ func Write(dir string, r *runner.Result, formats ...Format) error {
 		{"verdicts.csv", VerdictsCSV(measure.Verdicts(rows))},
 	}
 	return writeFolder(dir, tables,
-		func() ([]Figure, error) { return Figures(r, formats...) },
+		func(emit func(Figure) error) error { return eachFigure(r, formats, emit) },
 		func(figs []Figure) ([]byte, error) { return Page(r, figs) })
 }
 
@@ -35,7 +36,7 @@ func WritePlan(dir string, p *plan.Result, formats ...Format) error {
 		{"verdicts.csv", VerdictsCSV(p.Verdicts)},
 	}
 	return writeFolder(dir, tables,
-		func() ([]Figure, error) { return PlanFigures(p, formats...) },
+		func(emit func(Figure) error) error { return eachPlanFigure(p, formats, emit) },
 		func(figs []Figure) ([]byte, error) { return PlanPage(p, figs) })
 }
 
@@ -50,7 +51,7 @@ type table struct {
 // on disk never points at a figure that is not there yet. A figure's
 // files in formats not rendered this time, left by an earlier writing of
 // the folder, are removed, so the folder holds the formats asked for.
-func writeFolder(dir string, tables []table, figures func() ([]Figure, error), page func([]Figure) ([]byte, error)) error {
+func writeFolder(dir string, tables []table, figures func(emit func(Figure) error) error, page func([]Figure) ([]byte, error)) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("creating output folder: %w", err)
 	}
@@ -59,11 +60,11 @@ func writeFolder(dir string, tables []table, figures func() ([]Figure, error), p
 			return err
 		}
 	}
-	figs, err := figures()
-	if err != nil {
-		return err
-	}
-	for _, fig := range figs {
+	// Each figure is written as soon as it is drawn and its bytes are
+	// dropped: the page needs only its names and sizes, so memory holds
+	// one figure at a time however many transforms there are.
+	var figs []Figure
+	err := figures(func(fig Figure) error {
 		for _, f := range fig.Files {
 			if err := runner.WriteFileAtomic(filepath.Join(dir, f.Name), f.Data); err != nil {
 				return err
@@ -72,6 +73,15 @@ func writeFolder(dir string, tables []table, figures func() ([]Figure, error), p
 		if err := removeOtherFormats(dir, fig); err != nil {
 			return err
 		}
+		fig.Files = slices.Clone(fig.Files)
+		for i := range fig.Files {
+			fig.Files[i].Data = nil
+		}
+		figs = append(figs, fig)
+		return nil
+	})
+	if err != nil {
+		return err
 	}
 	html, err := page(figs)
 	if err != nil {
@@ -89,7 +99,7 @@ func removeOtherFormats(dir string, fig Figure) error {
 	first := fig.Files[0]
 	stem := strings.TrimSuffix(first.Name, "."+string(first.Format))
 	for _, f := range Formats {
-		if fig.Data(f) != nil {
+		if fig.has(f) {
 			continue
 		}
 		err := os.Remove(filepath.Join(dir, stem+"."+string(f)))

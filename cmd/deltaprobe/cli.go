@@ -215,6 +215,10 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 				fmt.Fprintf(stderr, "deltaprobe run: %v\n", err)
 				return exitUsage
 			}
+			if most := runner.MaxShards(s.Replicates); sh.Count > most {
+				fmt.Fprintf(stderr, "deltaprobe run: -shard %s: %d replicates per n make %d blocks of %d, and a shard owns whole blocks; use at most %d shards\n", sh, s.Replicates, most, runner.BlockSize, most)
+				return exitUsage
+			}
 			res.Shard = &sh
 		}
 	}

@@ -130,7 +130,7 @@ func TestReportRefuses(t *testing.T) {
 	}{
 		{"neither result.json nor plan.json", nil, []string{"holds neither result.json", "nor plan.json"}},
 		{"study text edited", edit("seed = 2027", "seed = 2028"), []string{"plan.json has been edited", "does not match its SHA-256"}},
-		{"another layout", edit(`"layout": 1,`, `"layout": 7,`), []string{"plan.json has plan layout 7", "reads layout 1"}},
+		{"another layout", edit(`"layout": 2,`, `"layout": 1,`), []string{"plan.json has plan layout 1", "reads layout 2 only"}},
 		{"cut short", saved[:len(saved)/2], []string{"plan.json is not a valid plan file"}},
 	}
 	for _, tc := range tests {

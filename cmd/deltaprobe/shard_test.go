@@ -112,7 +112,7 @@ func TestMergeRefusesBadSets(t *testing.T) {
 	}
 	r1, _ := runner.LoadResult(filepath.Join(b, "result.json"))
 	r2, _ := runner.LoadResult(filepath.Join(again, "result.json"))
-	if fmt.Sprint(r1.Cells[0][2].Blocks) != fmt.Sprint(r2.Cells[0][2].Blocks) {
+	if fmt.Sprint(r1.Cells[0][2].Nodes) != fmt.Sprint(r2.Cells[0][2].Nodes) {
 		t.Errorf("a re-run shard differs from the first run")
 	}
 }

@@ -9,5 +9,8 @@
 // a Sample (sufficient statistics only, or the observations), and a
 // Fitter, each worker's own, computes θ̂ and its plug-in covariance from
 // it. Samplers are exact (no normal approximation to a count); neither
-// step allocates per replicate.
+// step allocates per replicate. Where a sample's statistics have a known
+// exact joint law, the sampler can also draw them directly in O(1)
+// (StatisticsSampler; sample_statistics.go), which the study uses unless
+// it asks for draws = "each".
 package family

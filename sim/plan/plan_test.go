@@ -67,7 +67,7 @@ func TestPlanExponentialAgainstExactTheory(t *testing.T) {
 	s, p := runPlan(t, fmt.Sprintf(`seed = 101
 [plan]
 n_min = 6
-n_max = 160
+n_max = 400
 max_replicates = %d
 window = 5
 [model]
@@ -119,12 +119,12 @@ expr = "rate"
 			math.Abs(e.stdBias()) <= crit.StdBias
 	}
 	exact := 0
-	for n := 160; n >= 6 && inside(n); n-- {
+	for n := 400; n >= 6 && inside(n); n-- {
 		exact = n
 	}
 	t.Logf("plan: %s in [%d, %d]; exact answer %d; %d evaluations, %d replicates", v.Status, v.Low, v.High, exact, len(p.Steps), p.Total)
 	if exact == 0 {
-		t.Fatal("no exact answer in [6, 160]: the study no longer tests anything")
+		t.Fatal("no exact answer in [6, 400]: the study no longer tests anything")
 	}
 	if exact < v.Low || exact > v.High {
 		t.Errorf("exact answer %d outside the plan's bracket [%d, %d]", exact, v.Low, v.High)

@@ -8,8 +8,10 @@ import (
 	"deltaprobe/sim/study"
 )
 
-// Layout is the layout version of plan.json.
-const Layout = 1
+// Layout is the layout version of plan.json. Layout 2: the cached
+// one-point results are of runner.ResultVersion 2, and the random numbers
+// of exact sufficient-statistic draws.
+const Layout = 2
 
 // File is the name of a plan's saved state in its output folder.
 const File = "plan.json"
@@ -21,11 +23,8 @@ func Save(path string, r *Result) error { return runner.SaveState(path, "plan", 
 // edited, one of another layout, and one whose parts do not fit together.
 func Load(path string) (*Result, error) {
 	var r Result
-	if err := runner.LoadState(path, "plan", &r, func() study.Info { return r.Study }); err != nil {
+	if err := runner.LoadStateLayout(path, "plan", Layout, &r, func() study.Info { return r.Study }); err != nil {
 		return nil, err
-	}
-	if r.Layout != Layout {
-		return nil, fmt.Errorf("%s has plan layout %d; this deltaprobe reads layout %d", path, r.Layout, Layout)
 	}
 	nt := len(r.Study.Transforms)
 	if r.Incomplete {

@@ -331,3 +331,25 @@ expr = "exp(-(2 / scale)^shape)"
 		}
 	}
 }
+
+// An uncensored exponential arm counts every observation as an event
+// whichever way it is drawn: draws = "statistics" (the exact Gamma(n, 1)
+// draw of the sum) keeps the sampler's event count.
+func TestUncensoredEventsEitherDraw(t *testing.T) {
+	for _, draws := range []string{"statistics", "each"} {
+		rows := exactRun(t, fmt.Sprintf(`seed = 3
+replicates = 1000
+sample_sizes = [10]
+[model]
+family = "exponential"
+rate = 2
+draws = %q
+[[transform]]
+name = "rate"
+expr = "rate"
+`, draws))
+		if e := exactRow(t, rows, "rate", 10).Get(measure.Events); e != 1 {
+			t.Errorf("draws = %q: events = %v, want 1 (no censoring)", draws, e)
+		}
+	}
+}

@@ -4,6 +4,8 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"sync"
+	"sync/atomic"
 	"time"
 
 	"deltaprobe/sim/study"
@@ -22,7 +24,8 @@ type Estimate struct {
 // res does not hold yet (res nil: the whole study; a shard's result:
 // its own blocks), and times a short calibration run (about calibrate
 // long) so the estimate includes fitting and scoring as well as drawing.
-// The memory is the whole result's, which holds every block in the end.
+// The memory is the simulation's state, which does not grow with the
+// replicates (see reduce.go).
 func EstimateWork(s *study.Study, res *Result, workers int, calibrate time.Duration) Estimate {
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
@@ -40,11 +43,15 @@ func EstimateWork(s *study.Study, res *Result, workers int, calibrate time.Durat
 		e.Draws += left[ni] * int64(s.DrawsPerReplicate(n))
 		e.Replicates += left[ni]
 	}
-	// Per worker: two pivot histograms per transform; per result: the same
-	// per cell plus a few words per block.
+	// Per worker: two pivot histograms per transform and a block's
+	// estimates; per result: two histograms per cell, its few nodes, and
+	// a copy of it all while a checkpoint is encoded; per block of the
+	// grid, one byte marking it pending. None of it grows with the
+	// replicates but the last, 10⁵ bytes per n at 10⁸ replicates.
 	cells := int64(len(s.Transforms) * len(s.SampleSizes))
 	hist := int64(2 * PivotBins * 8)
-	e.MemoryBytes = int64(workers)*int64(len(s.Transforms))*hist + cells*(hist+int64(Blocks(s.Replicates))*64)
+	e.MemoryBytes = int64(workers)*int64(len(s.Transforms))*(hist+BlockSize*8) +
+		2*cells*(hist+maxNodes*64) + int64(len(s.SampleSizes))*int64(Blocks(s.Replicates))
 
 	if e.Replicates == 0 {
 		return e
@@ -54,10 +61,10 @@ func EstimateWork(s *study.Study, res *Result, workers int, calibrate time.Durat
 	// separates the two, so a grid of small n is not underestimated.
 	small, large := s.SampleSizes[0], s.SampleSizes[len(s.SampleSizes)-1]
 	dSmall, dLarge := float64(s.DrawsPerReplicate(small)), float64(s.DrawsPerReplicate(large))
-	tLarge := calibrateReplicate(s, large, calibrate/2)
+	tLarge := calibrateReplicate(s, large, workers, calibrate/2)
 	perDraw, fixed := tLarge/dLarge, 0.0
 	if dLarge > dSmall {
-		tSmall := calibrateReplicate(s, small, calibrate/2)
+		tSmall := calibrateReplicate(s, small, workers, calibrate/2)
 		perDraw = max((tLarge-tSmall)/(dLarge-dSmall), 0)
 		fixed = max(tSmall-perDraw*dSmall, 0)
 	}
@@ -65,33 +72,69 @@ func EstimateWork(s *study.Study, res *Result, workers int, calibrate time.Durat
 	for ni, n := range s.SampleSizes {
 		ns += float64(left[ni]) * (fixed + perDraw*float64(s.DrawsPerReplicate(n)))
 	}
-	e.PerDrawNS = ns / float64(e.Draws)
-	e.Time = time.Duration(ns / float64(workers))
+	// The calibration ran the workers side by side, so ns is wall time
+	// already: what the cores, their shared caches and the machine's
+	// other load give all workers at once, not one worker times workers.
+	// A block adds its flush (two histograms a transform merged under the
+	// lock, one worker at a time) to what its replicates cost.
+	e.PerDrawNS = ns * float64(workers) / float64(e.Draws)
+	e.Time = time.Duration(ns + float64(countBlocks(pending))*flushNS(s))
 	return e
 }
 
-// calibrateReplicate times replicates at n for about d and returns the
-// nanoseconds one takes.
-func calibrateReplicate(s *study.Study, n int, d time.Duration) float64 {
+// countBlocks counts the pending blocks.
+func countBlocks(pending [][]bool) int {
+	c := 0
+	for _, row := range pending {
+		for _, p := range row {
+			if p {
+				c++
+			}
+		}
+	}
+	return c
+}
+
+// flushNS is the rough cost of merging one block into the result: two
+// histograms of PivotBins counts per transform, at about a nanosecond a
+// count (it runs one worker at a time, under the lock).
+func flushNS(s *study.Study) float64 {
+	return float64(len(s.Transforms) * 2 * PivotBins)
+}
+
+// calibrateReplicate times replicates at n on workers goroutines side by
+// side for about d and returns the wall nanoseconds a replicate takes
+// with all of them at work (its cost divided by the workers, where they
+// scale).
+func calibrateReplicate(s *study.Study, n, workers int, d time.Duration) float64 {
 	one := *s
 	one.SampleSizes = []int{n}
-	w := newWorker(&one, NewResult(&one))
-	// The calibration's numbers are thrown away; any stream will do.
-	w.pcg.Seed(rand.Uint64(), rand.Uint64())
-	for a := range s.Arms {
-		w.sizes[a] = s.ArmSize(a, n)
-	}
-	for t := range w.accs {
-		p := w.res.Predictions[t][0]
-		w.accs[t].truth, w.accs[t].sdDelta = p.Truth, math.Sqrt(p.DeltaVar)
-	}
+	res := NewResult(&one)
+	var wg sync.WaitGroup
+	var reps atomic.Int64
 	start := time.Now()
-	reps := 0
-	for time.Since(start) < d || reps == 0 {
-		for i := 0; i < 16; i++ {
-			w.replicate()
+	for range workers {
+		w := newWorker(&one, res)
+		// The calibration's numbers are thrown away; any stream will do.
+		w.pcg.Seed(rand.Uint64(), rand.Uint64())
+		for a := range s.Arms {
+			w.sizes[a] = s.ArmSize(a, n)
 		}
-		reps += 16
+		for t := range w.accs {
+			p := w.res.Predictions[t][0]
+			w.accs[t].truth, w.accs[t].sdDelta = p.Truth, math.Sqrt(p.DeltaVar)
+		}
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for first := true; first || time.Since(start) < d; first = false {
+				for i := 0; i < 16; i++ {
+					w.replicate()
+				}
+				reps.Add(16)
+			}
+		}()
 	}
-	return float64(time.Since(start).Nanoseconds()) / float64(reps)
+	wg.Wait()
+	return float64(time.Since(start).Nanoseconds()) / float64(reps.Load())
 }

@@ -24,8 +24,8 @@ func TestEstimateCountsWhatIsLeft(t *testing.T) {
 		t.Fatal(err)
 	}
 	d := func(n int) int64 { return int64(s.DrawsPerReplicate(n)) }
-	// Shard 0 of 2 holds blocks 0 and 2 of n = 20 and block 1 of n = 60;
-	// shard 1 the rest.
+	// Shard 0 of 2 owns block 0 of each n (blocks [⌊0·3/2⌋, ⌊1·3/2⌋));
+	// shard 1 blocks 1 and 2, 1500 replicates of each n.
 	cases := []struct {
 		name        string
 		res         *Result
@@ -35,8 +35,8 @@ func TestEstimateCountsWhatIsLeft(t *testing.T) {
 	}{
 		{"a new run", nil, 5000, 2500*d(20) + 2500*d(60), false},
 		{"a new run's empty result", NewResult(s), 5000, 2500*d(20) + 2500*d(60), false},
-		{"a run holding half the blocks", half, 2500, 1000*d(20) + 1500*d(60), false},
-		{"a shard's run", shard1, 2500, 1000*d(20) + 1500*d(60), false},
+		{"a run holding shard 0's blocks", half, 3000, 1500*d(20) + 1500*d(60), false},
+		{"a shard's run", shard1, 3000, 1500*d(20) + 1500*d(60), false},
 		{"a complete run", done, 0, 0, true},
 	}
 	for _, c := range cases {

@@ -2,7 +2,6 @@ package runner
 
 import (
 	"encoding/json"
-	"math"
 	"testing"
 
 	"deltaprobe/sim/study/studytest"
@@ -66,24 +65,27 @@ func BenchmarkReplicateInterval(b *testing.B) {
 	}
 }
 
-// A block record keeps its mean width as an eighth field; a 7-field
-// record, written before the width was kept, reads with an unknown (NaN)
-// width rather than a false 0, and the rest as before.
-func TestBlockRecordWidth(t *testing.T) {
-	b := BlockStat{Block: 3, N: 1000, Mean: 1.5, M2: 2, M3: 0.1, M4: 9, PluginVar: 0.25, Width: 0.75}
-	raw, err := json.Marshal(b)
+// A tree node keeps its mean width as its ninth field, round-trips it,
+// and joins it weighted by the defined replicates like the plug-in
+// variance; a record without it is refused.
+func TestNodeRecordWidth(t *testing.T) {
+	nd := Node{Lo: 4, Level: 2, N: 1000, Mean: 1.5, M2: 2, M3: 0.1, M4: 9, PluginVar: 0.25, Width: 0.75}
+	raw, err := json.Marshal(nd)
 	if err != nil {
 		t.Fatal(err)
 	}
-	var back BlockStat
-	if err := json.Unmarshal(raw, &back); err != nil || back != b {
+	var back Node
+	if err := json.Unmarshal(raw, &back); err != nil || back != nd {
 		t.Errorf("round trip of %s: %+v, %v", raw, back, err)
 	}
-	var old BlockStat
-	if err := json.Unmarshal([]byte(`[3,1000,1.5,2,0.1,9,0.25]`), &old); err != nil {
-		t.Fatal(err)
+	var old Node
+	if err := json.Unmarshal([]byte(`[4,2,1000,1.5,2,0.1,9,0.25]`), &old); err == nil {
+		t.Errorf("an 8-field record (no width) was accepted as %+v", old)
 	}
-	if !math.IsNaN(old.Width) || old.PluginVar != 0.25 || old.N != 1000 {
-		t.Errorf("7-field record read as %+v", old)
+	left := Node{Lo: 0, Level: 0, N: 300, Mean: 1, M2: 1, Width: 1}
+	right := Node{Lo: 1, Level: 0, N: 100, Mean: 1, M2: 1, Width: 3}
+	// (300·1 + 100·3)/400 = 1.5, exactly representable.
+	if got := joinNodes(left, right).Width; got != 1.5 {
+		t.Errorf("joined width %v, want 1.5", got)
 	}
 }

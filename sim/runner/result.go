@@ -3,21 +3,24 @@ package runner
 import (
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"strconv"
+	"strings"
 
 	"deltaprobe/sim/study"
 )
 
 // ResultVersion is the layout version of result.json.
-const ResultVersion = 1
+//
+// Layout 2 keeps the moments in the nodes of the reduction tree instead
+// of block by block, and writes histograms densely as one string.
+const ResultVersion = 2
 
 // Result is the full mergeable state of a study run: integer counts and
-// histograms summed over blocks, the floating-point moments kept block by
-// block so that any set of blocks folds in block order to the same bits.
+// histograms summed over blocks, the floating-point moments kept as the
+// few nodes of a fixed reduction tree over the blocks (reduce.go), so that
+// any way of running the same blocks folds to the same bits.
 type Result struct {
 	Layout      int                  `json:"layout"`
 	Tool        string               `json:"tool"`
@@ -38,10 +41,10 @@ type Result struct {
 type Cell struct {
 	N int `json:"n"`
 	Counts
-	Blocks      []BlockStat `json:"blocks"` // in block order
-	Delta       Histogram   `json:"delta_pivot"`
-	Wald        Histogram   `json:"wald_pivot"`
-	mergedCache *Merged     `json:"-"`
+	Nodes       []Node    `json:"nodes"` // maximal complete nodes of the reduction tree, by first block
+	Delta       Histogram `json:"delta_pivot"`
+	Wald        Histogram `json:"wald_pivot"`
+	mergedCache *Merged   `json:"-"`
 }
 
 // Counts are the integer tallies of a cell (or of one block of it); they
@@ -77,72 +80,88 @@ func (c *Counts) add(o Counts) {
 	c.Rejected += o.Rejected
 }
 
-// BlockStat is the floating-point part of one block's state.
-type BlockStat struct {
-	Block     int     `json:"block"`
-	N         int64   `json:"n"`
-	Mean      float64 `json:"mean"`
-	M2        float64 `json:"m2"`
-	M3        float64 `json:"m3"`
-	M4        float64 `json:"m4"`
-	PluginVar float64 `json:"plugin_var"` // mean plug-in variance over the block's defined replicates
-	Width     float64 `json:"width"`      // mean interval width over the block's defined replicates
-}
-
-// Merged is a cell's floating-point state folded over its blocks.
+// Merged is a cell's floating-point state folded over its nodes.
 type Merged struct {
 	Moments   Moments // of the defined estimates
 	PluginVar float64 // mean plug-in variance over the defined replicates
 	Width     float64 // mean interval width over the defined replicates
 }
 
-// Merged folds the blocks in block order, so any set of blocks gives the
-// same bits; the fold is cached until a block is added.
+// Merged folds the cell's nodes left to right (see the canonical
+// reduction in reduce.go), so any way of arriving at the same blocks
+// gives the same bits; the fold is cached until a block is added.
 func (c *Cell) Merged() Merged {
 	if c.mergedCache != nil {
 		return *c.mergedCache
 	}
 	var cm Merged
-	blocks := slices.Clone(c.Blocks)
-	slices.SortFunc(blocks, func(a, b BlockStat) int { return a.Block - b.Block })
-	for _, b := range blocks {
-		if b.N == 0 {
+	for i, nd := range c.Nodes {
+		if i == 0 {
+			cm = Merged{Moments: nd.moments(), PluginVar: nd.PluginVar, Width: nd.Width}
+			continue
+		}
+		if nd.N == 0 {
 			continue
 		}
 		before := float64(cm.Moments.N)
-		cm.Moments.Merge(Moments{N: b.N, Mean: b.Mean, M2: b.M2, M3: b.M3, M4: b.M4})
-		cm.PluginVar += (b.PluginVar - cm.PluginVar) * float64(b.N) / (before + float64(b.N))
-		cm.Width += (b.Width - cm.Width) * float64(b.N) / (before + float64(b.N))
+		cm.Moments.Merge(nd.moments())
+		cm.PluginVar += (nd.PluginVar - cm.PluginVar) * float64(nd.N) / (before + float64(nd.N))
+		cm.Width += (nd.Width - cm.Width) * float64(nd.N) / (before + float64(nd.N))
 	}
 	c.mergedCache = &cm
 	return cm
 }
 
-// sparseHistogram is a histogram's JSON form: its layout, its outside
-// counts, and [bin, count] pairs for the non-empty bins.
-type sparseHistogram struct {
-	Bins   int        `json:"bins"`
-	Range  float64    `json:"range"`
-	Below  int64      `json:"below"`
-	Above  int64      `json:"above"`
-	NaN    int64      `json:"nan"`
-	Counts [][2]int64 `json:"counts"`
+// addNode adds a node (a block's, or a part's in a merge) to the cell.
+func (c *Cell) addNode(nd Node) error {
+	nodes, err := insertNode(c.Nodes, nd)
+	c.Nodes = nodes
+	c.mergedCache = nil
+	return err
 }
 
-// MarshalJSON writes the histogram sparsely.
+// denseHistogram is a histogram's JSON form: its layout, its outside
+// counts, and the counts of bins First onwards up to the last non-empty
+// one, as decimal numbers separated by spaces in one string (a string,
+// so that indenting the file does not put each count on a line of its
+// own: at 10⁸ replicates every bin is in use).
+type denseHistogram struct {
+	Bins   int     `json:"bins"`
+	Range  float64 `json:"range"`
+	Below  int64   `json:"below"`
+	Above  int64   `json:"above"`
+	NaN    int64   `json:"nan"`
+	First  int     `json:"first"`
+	Counts string  `json:"counts"`
+}
+
+// MarshalJSON writes the histogram densely from its first to its last
+// non-empty bin.
 func (h Histogram) MarshalJSON() ([]byte, error) {
-	s := sparseHistogram{Bins: len(h.Counts), Range: PivotRange, Below: h.Below, Above: h.Above, NaN: h.NaN, Counts: [][2]int64{}}
+	s := denseHistogram{Bins: len(h.Counts), Range: PivotRange, Below: h.Below, Above: h.Above, NaN: h.NaN}
+	first, last := len(h.Counts), -1
 	for i, c := range h.Counts {
 		if c != 0 {
-			s.Counts = append(s.Counts, [2]int64{int64(i), c})
+			first, last = min(first, i), i
 		}
+	}
+	if last >= 0 {
+		s.First = first
+		buf := make([]byte, 0, 8*(last-first+1))
+		for i := first; i <= last; i++ {
+			if i > first {
+				buf = append(buf, ' ')
+			}
+			buf = strconv.AppendInt(buf, h.Counts[i], 10)
+		}
+		s.Counts = string(buf)
 	}
 	return json.Marshal(s)
 }
 
-// UnmarshalJSON reads the sparse form written by MarshalJSON.
+// UnmarshalJSON reads the form written by MarshalJSON.
 func (h *Histogram) UnmarshalJSON(b []byte) error {
-	var s sparseHistogram
+	var s denseHistogram
 	if err := json.Unmarshal(b, &s); err != nil {
 		return err
 	}
@@ -151,68 +170,17 @@ func (h *Histogram) UnmarshalJSON(b []byte) error {
 	}
 	*h = newHistogram()
 	h.Below, h.Above, h.NaN = s.Below, s.Above, s.NaN
-	for _, p := range s.Counts {
-		if p[0] < 0 || p[0] >= int64(PivotBins) || p[1] < 0 {
-			return fmt.Errorf("histogram bin %d count %d out of range", p[0], p[1])
+	if s.Counts == "" {
+		return nil
+	}
+	i := s.First
+	for _, f := range strings.Fields(s.Counts) {
+		c, err := strconv.ParseInt(f, 10, 64)
+		if err != nil || c < 0 || i < 0 || i >= PivotBins {
+			return fmt.Errorf("histogram bin %d count %q out of range", i, f)
 		}
-		h.Counts[p[0]] = p[1]
-	}
-	return nil
-}
-
-// MarshalJSON writes a block as a compact array [block, n, mean, m2, m3,
-// m4, plugin_var, width]; a non-finite value (a heavy tail can overflow m4) is
-// written as a string, since JSON has no NaN or infinity.
-func (b BlockStat) MarshalJSON() ([]byte, error) {
-	buf := []byte("[" + strconv.Itoa(b.Block) + "," + strconv.FormatInt(b.N, 10))
-	for _, x := range []float64{b.Mean, b.M2, b.M3, b.M4, b.PluginVar, b.Width} {
-		buf = append(buf, ',')
-		if math.IsNaN(x) || math.IsInf(x, 0) {
-			buf = strconv.AppendQuote(buf, strconv.FormatFloat(x, 'g', -1, 64))
-		} else {
-			buf = strconv.AppendFloat(buf, x, 'g', -1, 64)
-		}
-	}
-	return append(buf, ']'), nil
-}
-
-// UnmarshalJSON reads the form written by MarshalJSON, and the 7-field
-// form written before the width was kept, whose width is unknown (NaN,
-// an empty width column).
-func (b *BlockStat) UnmarshalJSON(data []byte) error {
-	var parts []json.RawMessage
-	if err := json.Unmarshal(data, &parts); err != nil {
-		return err
-	}
-	if len(parts) != 7 && len(parts) != 8 {
-		return fmt.Errorf("block record has %d fields, want 8", len(parts))
-	}
-	if len(parts) == 7 {
-		b.Width = math.NaN()
-	}
-	if err := json.Unmarshal(parts[0], &b.Block); err != nil {
-		return fmt.Errorf("block index: %w", err)
-	}
-	if err := json.Unmarshal(parts[1], &b.N); err != nil {
-		return fmt.Errorf("block count: %w", err)
-	}
-	for i, dst := range []*float64{&b.Mean, &b.M2, &b.M3, &b.M4, &b.PluginVar, &b.Width}[:len(parts)-2] {
-		raw := parts[i+2]
-		if len(raw) > 0 && raw[0] == '"' {
-			var s string
-			if err := json.Unmarshal(raw, &s); err != nil {
-				return err
-			}
-			x, err := strconv.ParseFloat(s, 64)
-			if err != nil {
-				return fmt.Errorf("block value %q: %w", s, err)
-			}
-			*dst = x
-			continue
-		}
-		if err := json.Unmarshal(raw, dst); err != nil {
-			return fmt.Errorf("block value: %w", err)
-		}
+		h.Counts[i] = c
+		i++
 	}
 	return nil
 }
@@ -222,13 +190,12 @@ func (b *BlockStat) UnmarshalJSON(data []byte) error {
 func SaveResult(path string, r *Result) error { return SaveState(path, "result", r) }
 
 // LoadResult reads a result file written by SaveResult.
+// A file of another layout is refused before it is decoded, so that
+// neither resume nor merge mixes layouts.
 func LoadResult(path string) (*Result, error) {
 	var r Result
-	if err := LoadState(path, "result", &r, func() study.Info { return r.Study }); err != nil {
+	if err := LoadStateLayout(path, "result", ResultVersion, &r, func() study.Info { return r.Study }); err != nil {
 		return nil, err
-	}
-	if r.Layout != ResultVersion {
-		return nil, fmt.Errorf("%s has result layout %d; this deltaprobe reads layout %d", path, r.Layout, ResultVersion)
 	}
 	if len(r.Cells) != len(r.Study.Transforms) || len(r.Predictions) != len(r.Study.Transforms) {
 		return nil, fmt.Errorf("%s is inconsistent: %d transforms but %d cell rows", path, len(r.Study.Transforms), len(r.Cells))
@@ -259,6 +226,31 @@ func LoadState(path, what string, v any, info func() study.Info) error {
 	if err != nil {
 		return fmt.Errorf("reading %s: %w", what, err)
 	}
+	return decodeState(path, what, b, v, info)
+}
+
+// LoadStateLayout is LoadState for a state with a "layout" field: a file
+// of another layout than layout is refused, before it is decoded, with a
+// message that says it cannot be resumed or merged.
+func LoadStateLayout(path, what string, layout int, v any, info func() study.Info) error {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return fmt.Errorf("reading %s: %w", what, err)
+	}
+	var head struct {
+		Layout int `json:"layout"`
+	}
+	if err := json.Unmarshal(b, &head); err != nil {
+		return fmt.Errorf("%s is not a valid %s file: %w", path, what, err)
+	}
+	if head.Layout != layout {
+		return fmt.Errorf("%s has %s layout %d; this deltaprobe reads layout %d only, and cannot report, resume or merge it: run the study again with this deltaprobe", path, what, head.Layout, layout)
+	}
+	return decodeState(path, what, b, v, info)
+}
+
+// decodeState is LoadState on the file's bytes b.
+func decodeState(path, what string, b []byte, v any, info func() study.Info) error {
 	if err := json.Unmarshal(b, v); err != nil {
 		return fmt.Errorf("%s is not a valid %s file: %w", path, what, err)
 	}

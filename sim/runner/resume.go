@@ -34,6 +34,8 @@ func (r *Result) Fits(s *study.Study) error {
 		return fmt.Errorf("the result was run with %d replicates per n, not %d", r.Study.Replicates, s.Replicates)
 	case r.BlockSize != BlockSize:
 		return fmt.Errorf("the result uses blocks of %d replicates; this deltaprobe uses %d", r.BlockSize, BlockSize)
+	case r.Shard != nil && !(r.Shard.Count >= 1 && r.Shard.Index >= 0 && r.Shard.Index < r.Shard.Count):
+		return fmt.Errorf("the result names shard %s, which no split has", r.Shard)
 	case len(r.Cells) != len(s.Transforms):
 		return fmt.Errorf("the result has %d transforms; the study has %d", len(r.Cells), len(s.Transforms))
 	}
@@ -45,12 +47,20 @@ func (r *Result) Fits(s *study.Study) error {
 			if c.N != s.SampleSizes[ni] {
 				return fmt.Errorf("the result's sample size %d is %d; the study's is %d", ni+1, c.N, s.SampleSizes[ni])
 			}
-			seen := map[int]bool{}
-			for _, b := range c.Blocks {
-				if b.Block < 0 || b.Block >= Blocks(s.Replicates) || seen[b.Block] {
-					return fmt.Errorf("the result holds block %d of n=%d twice or out of range", b.Block, c.N)
+			// The nodes must be the reduction's own: aligned, in range,
+			// disjoint and maximal; re-inserting them checks all four.
+			var again []Node
+			for _, nd := range c.Nodes {
+				var err error
+				if nd.Hi() > Blocks(s.Replicates) {
+					return fmt.Errorf("the result holds blocks %d–%d of n=%d, beyond its %d blocks", nd.Lo, nd.Hi()-1, c.N, Blocks(s.Replicates))
 				}
-				seen[b.Block] = true
+				if again, err = insertNode(again, nd); err != nil {
+					return fmt.Errorf("the result's n=%d: %w", c.N, err)
+				}
+			}
+			if len(again) != len(c.Nodes) {
+				return fmt.Errorf("the result's n=%d holds nodes a reduction would have joined", c.N)
 			}
 		}
 	}

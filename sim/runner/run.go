@@ -8,7 +8,6 @@ import (
 	"runtime"
 	"runtime/debug"
 	"slices"
-	"sort"
 	"sync"
 	"sync/atomic"
 	"time"
@@ -32,9 +31,13 @@ type Options struct {
 	// Progress, if set, is called after each block with the draws done
 	// and the draws in all; calls come from worker goroutines, one at a time.
 	Progress func(done, total int64)
-	// Checkpoint, if set, is called with the result's lock held after a
-	// block is merged, at most once per CheckpointEvery, so the caller can
-	// save the state a hard kill would otherwise lose.
+	// Checkpoint, if set, is called after a block is merged, at most once
+	// per CheckpointEvery, with a copy of the result taken under the
+	// runner's lock, so the caller can save the state a hard kill would
+	// otherwise lose. The copy is of a fixed size (the result keeps a few
+	// nodes per cell, whatever the replicates), and it is encoded outside
+	// the lock: the other workers go on merging meanwhile. Calls come one
+	// at a time.
 	Checkpoint      func(*Result) error
 	CheckpointEvery time.Duration
 }
@@ -134,6 +137,7 @@ func RunBlocks(ctx context.Context, s *study.Study, res *Result, want func(ni, b
 		next     atomic.Int64
 		done     atomic.Int64
 		mu       sync.Mutex // guards res.Cells and the progress callback
+		saving   sync.Mutex // held by the one worker saving a checkpoint
 		wg       sync.WaitGroup
 		firstErr error
 		errOnce  sync.Once
@@ -162,27 +166,35 @@ func RunBlocks(ctx context.Context, s *study.Study, res *Result, want func(ni, b
 					return
 				}
 				mu.Lock()
-				wk.flush(j)
+				if err := wk.flush(j); err != nil {
+					mu.Unlock()
+					fail(err)
+					next.Store(int64(slots))
+					return
+				}
 				d := done.Add(int64(j.count) * int64(s.DrawsPerReplicate(s.SampleSizes[j.ni])))
 				if opt.Progress != nil {
 					opt.Progress(d, total)
 				}
-				if opt.Checkpoint != nil && time.Since(lastCheckpoint) >= opt.CheckpointEvery {
+				var snapshot *Result
+				if opt.Checkpoint != nil && time.Since(lastCheckpoint) >= opt.CheckpointEvery && saving.TryLock() {
 					lastCheckpoint = time.Now()
-					sortBlocks(res)
-					if err := opt.Checkpoint(res); err != nil {
+					snapshot = res.clone()
+				}
+				mu.Unlock()
+				if snapshot != nil {
+					if err := opt.Checkpoint(snapshot); err != nil {
 						fail(fmt.Errorf("saving the state: %w", err))
 						next.Store(int64(slots))
 					}
+					saving.Unlock()
 				}
-				mu.Unlock()
 			}
 		}()
 	}
 	wg.Wait()
 	res.Elapsed += time.Since(start).Seconds()
 	res.Finished = time.Now().UTC().Format(time.RFC3339)
-	sortBlocks(res)
 	if res.Shard != nil {
 		res.Complete = res.shardComplete(s)
 	} else {
@@ -196,14 +208,11 @@ func RunBlocks(ctx context.Context, s *study.Study, res *Result, want func(ni, b
 
 // shardComplete reports whether res holds every block of its shard.
 func (res *Result) shardComplete(s *study.Study) bool {
-	want := res.Shard.Want(s)
+	per := Blocks(s.Replicates)
 	for ni := range s.SampleSizes {
-		have := map[int]bool{}
-		for _, b := range res.Cells[0][ni].Blocks {
-			have[b.Block] = true
-		}
-		for b := 0; b < Blocks(s.Replicates); b++ {
-			if want(ni, b) && !have[b] {
+		lo, hi := res.Shard.Range(per)
+		for b := lo; b < hi; b++ {
+			if !holds(res.Cells[0][ni].Nodes, b) {
 				return false
 			}
 		}
@@ -211,12 +220,22 @@ func (res *Result) shardComplete(s *study.Study) bool {
 	return true
 }
 
-func sortBlocks(res *Result) {
-	for t := range res.Cells {
-		for _, c := range res.Cells[t] {
-			sort.Slice(c.Blocks, func(i, j int) bool { return c.Blocks[i].Block < c.Blocks[j].Block })
+// clone copies the result's state, for a checkpoint encoded outside the
+// runner's lock: the cells (counts, nodes, histograms) are copied, the
+// rest is shared, as nothing changes it during a run.
+func (res *Result) clone() *Result {
+	c := *res
+	c.Cells = make([][]*Cell, len(res.Cells))
+	for t, row := range res.Cells {
+		c.Cells[t] = make([]*Cell, len(row))
+		for ni, cell := range row {
+			cc := &Cell{N: cell.N, Counts: cell.Counts, Nodes: slices.Clone(cell.Nodes)}
+			cc.Delta = Histogram{Counts: slices.Clone(cell.Delta.Counts), Below: cell.Delta.Below, Above: cell.Delta.Above, NaN: cell.Delta.NaN}
+			cc.Wald = Histogram{Counts: slices.Clone(cell.Wald.Counts), Below: cell.Wald.Below, Above: cell.Wald.Above, NaN: cell.Wald.NaN}
+			c.Cells[t][ni] = cc
 		}
 	}
+	return &c
 }
 
 // missingBlocks counts the blocks of r replicates per sample size that
@@ -227,7 +246,7 @@ func (res *Result) missingBlocks(r int) int {
 	}
 	missing := 0
 	for _, c := range res.Cells[0] {
-		missing += Blocks(r) - len(c.Blocks)
+		missing += Blocks(r) - heldBlocks(c.Nodes)
 	}
 	return missing
 }
@@ -249,9 +268,9 @@ func pendingBlocks(s *study.Study, res *Result, want func(ni, b int) bool) [][]b
 			pending[ni][b] = want == nil || want(ni, b)
 		}
 		if res != nil && len(res.Cells) > 0 {
-			for _, b := range res.Cells[0][ni].Blocks {
-				if b.Block < per {
-					pending[ni][b.Block] = false
+			for _, nd := range res.Cells[0][ni].Nodes {
+				for b := nd.Lo; b < min(nd.Hi(), per); b++ {
+					pending[ni][b] = false
 				}
 			}
 		}
@@ -622,27 +641,22 @@ func (acc *cellAcc) reduce() {
 
 // flush merges the worker's block into the result; the caller holds the
 // result's lock.
-func (w *worker) flush(j job) {
+func (w *worker) flush(j job) error {
 	for t := range w.accs {
 		acc := &w.accs[t]
 		c := w.res.Cells[t][j.ni]
-		if len(c.Blocks) == cap(c.Blocks) && w.res.Shard == nil {
-			// Room for every block still to come, once, instead of
-			// append's doubling, whose discarded arrays would make peak
-			// memory grow faster than the blocks themselves. A shard
-			// holds only some blocks, so it keeps append's growth.
-			c.Blocks = slices.Grow(c.Blocks, max(Blocks(w.s.Replicates)-len(c.Blocks), 1))
-		}
 		acc.Replicates = int64(j.count)
 		c.add(acc.Counts)
 		c.Delta.Merge(&acc.delta)
 		c.Wald.Merge(&acc.wald)
-		b := BlockStat{Block: j.block, N: acc.mom.N, Mean: acc.mom.Mean, M2: acc.mom.M2, M3: acc.mom.M3, M4: acc.mom.M4}
+		nd := Node{Lo: j.block, N: acc.mom.N, Mean: acc.mom.Mean, M2: acc.mom.M2, M3: acc.mom.M3, M4: acc.mom.M4}
 		if acc.mom.N > 0 {
-			b.PluginVar = acc.pluginSum / float64(acc.mom.N)
-			b.Width = acc.widthSum / float64(acc.mom.N)
+			nd.PluginVar = acc.pluginSum / float64(acc.mom.N)
+			nd.Width = acc.widthSum / float64(acc.mom.N)
 		}
-		c.Blocks = append(c.Blocks, b)
-		c.mergedCache = nil
+		if err := c.addNode(nd); err != nil {
+			return fmt.Errorf("n=%d: %w", c.N, err)
+		}
 	}
+	return nil
 }

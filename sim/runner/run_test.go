@@ -1,7 +1,9 @@
 package runner
 
 import (
+	"bytes"
 	"context"
+	"encoding/json"
 	"errors"
 	"math"
 	"math/rand/v2"
@@ -117,7 +119,10 @@ func keepObservations(s *study.Study) (made, maxN []*atomic.Int64) {
 // sufficient statistics to rounding (the same draws, summed in other
 // units).
 func TestWorkerKeepsObservationsAndFitBuffers(t *testing.T) {
-	sums, obs := studytest.Parse(t, twoArmStudy), studytest.Parse(t, twoArmStudy)
+	// Both draw every observation: by default the normal family draws its
+	// sums from their exact law instead, which are other numbers.
+	eachDraw := strings.ReplaceAll(twoArmStudy, `family = "normal"`, "family = \"normal\"\ndraws = \"each\"")
+	sums, obs := studytest.Parse(t, eachDraw), studytest.Parse(t, eachDraw)
 	made, maxN := keepObservations(obs)
 	ws, wo := newWorker(sums, NewResult(sums)), newWorker(obs, NewResult(obs))
 	for a := range obs.Arms {
@@ -181,8 +186,9 @@ func TestRunCountsEveryReplicate(t *testing.T) {
 			if c.Replicates != 2500 || c.Covered+c.MissBelow+c.MissAbove+c.Undefined != 2500 {
 				t.Errorf("n=%d: replicates %d, covered+missed+undefined %d", c.N, c.Replicates, c.Covered+c.MissBelow+c.MissAbove+c.Undefined)
 			}
-			if len(c.Blocks) != Blocks(2500) {
-				t.Errorf("n=%d: %d blocks, want %d", c.N, len(c.Blocks), Blocks(2500))
+			// 3 blocks: the nodes [0, 2) and [2, 3), one per set bit of 3.
+			if heldBlocks(c.Nodes) != Blocks(2500) || len(c.Nodes) != 2 {
+				t.Errorf("n=%d: %d nodes holding %d blocks, want 2 holding %d", c.N, len(c.Nodes), heldBlocks(c.Nodes), Blocks(2500))
 			}
 			if c.Delta.Total() != c.Replicates-c.Undefined {
 				t.Errorf("n=%d: histogram holds %d, want %d", c.N, c.Delta.Total(), c.Replicates-c.Undefined)
@@ -326,5 +332,56 @@ func BenchmarkMisfitReplicate(b *testing.B) {
 	b.ReportAllocs()
 	for b.Loop() {
 		w.replicate()
+	}
+}
+
+// Checkpoints get a copy of the result, taken under the lock and encoded
+// outside it while the workers go on (run with -race): every copy saved
+// loads back, holds no more blocks than the next, and the copies do not
+// change once handed over. The last run's result is the same bits as a
+// run without checkpoints.
+func TestCheckpointsAreCopies(t *testing.T) {
+	s := studytest.Parse(t, strings.Replace(twoArmStudy, "replicates = 2500", "replicates = 9000", 1))
+	var saved []*Result
+	var encoded [][]byte
+	opt := Options{Workers: 2, CheckpointEvery: 0, Checkpoint: func(r *Result) error {
+		b, err := json.Marshal(r)
+		if err != nil {
+			return err
+		}
+		saved, encoded = append(saved, r), append(encoded, b)
+		return nil
+	}}
+	res, err := Run(context.Background(), s, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(saved) < 2 {
+		t.Fatalf("%d checkpoints for %d blocks", len(saved), 2*Blocks(9000))
+	}
+	held := -1
+	for i, r := range saved {
+		if again, _ := json.Marshal(r); !bytes.Equal(again, encoded[i]) {
+			t.Fatalf("checkpoint %d changed after it was handed over", i)
+		}
+		h := heldBlocks(r.Cells[0][0].Nodes) + heldBlocks(r.Cells[0][1].Nodes)
+		if h < held {
+			t.Errorf("checkpoint %d holds %d blocks, fewer than the one before (%d)", i, h, held)
+		}
+		held = h
+		if r == res {
+			t.Fatal("a checkpoint was handed the live result")
+		}
+	}
+	plain, err := Run(context.Background(), s, Options{Workers: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for tr := range res.Cells {
+		for ni := range res.Cells[tr] {
+			if res.Cells[tr][ni].Merged() != plain.Cells[tr][ni].Merged() {
+				t.Errorf("transform %d, n index %d: checkpointed run differs from a plain one", tr, ni)
+			}
+		}
 	}
 }

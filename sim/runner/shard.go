@@ -9,6 +9,8 @@ import (
 )
 
 // Shard names one part of a study split across the tasks of a job array.
+// Whatever the count, the merged shards' summary is the bits of one
+// unsharded run (see Range and reduce.go).
 type Shard struct {
 	Index int `json:"index"` // 0-based
 	Count int `json:"count"`
@@ -16,19 +18,39 @@ type Shard struct {
 
 func (sh Shard) String() string { return fmt.Sprintf("%d/%d", sh.Index, sh.Count) }
 
-// ShardOf assigns block b of sample size index ni to a shard: blocks are
-// numbered globally, sample size by sample size (g = ni·blocks + b), and
-// block g goes to shard g mod count. Every shard gets the same number of
-// blocks of each sample size, give or take one, so the work balances
-// whatever the spread of n.
-func ShardOf(ni, b, blocksPerN, count int) int {
-	return (ni*blocksPerN + b) % count
+// Range is the blocks [lo, hi) the shard owns at every sample size, of
+// per blocks: each shard owns one contiguous run of blocks per n, run k
+// starting at ⌊k·per/count⌋, so every shard gets the same number of
+// blocks of each sample size, give or take one, whatever the spread of n.
+// A contiguous run is what keeps a shard's state small: it reduces to at
+// most two nodes per level of the reduction tree (reduce.go), whereas
+// interleaved blocks would all have to be kept until the merge. The
+// limit this puts on shards: a count above per leaves some shards with
+// no blocks (MaxShards).
+func (sh Shard) Range(per int) (lo, hi int) {
+	return sh.Index * per / sh.Count, (sh.Index + 1) * per / sh.Count
 }
+
+// ShardOf is the shard, of count, that owns block b of per.
+func ShardOf(b, per, count int) int {
+	k := b * count / per
+	for k+1 < count && (k+1)*per/count <= b {
+		k++
+	}
+	for k > 0 && k*per/count > b {
+		k--
+	}
+	return k
+}
+
+// MaxShards is the largest useful number of shards for r replicates per
+// n: one block each.
+func MaxShards(r int) int { return Blocks(r) }
 
 // Want returns the block filter of a shard, for RunBlocks.
 func (sh Shard) Want(s *study.Study) func(ni, b int) bool {
-	per := Blocks(s.Replicates)
-	return func(ni, b int) bool { return ShardOf(ni, b, per, sh.Count) == sh.Index }
+	lo, hi := sh.Range(Blocks(s.Replicates))
+	return func(ni, b int) bool { return lo <= b && b < hi }
 }
 
 // Missing lists the blocks of s that res does not hold, as "n=N blocks
@@ -40,17 +62,13 @@ func (r *Result) Missing(replicates, count int) (blocks []string, shards []int) 
 	}
 	per := Blocks(replicates)
 	shardSet := map[int]bool{}
-	for ni, c := range r.Cells[0] {
-		have := map[int]bool{}
-		for _, b := range c.Blocks {
-			have[b.Block] = true
-		}
+	for _, c := range r.Cells[0] {
 		var missing []int
 		for b := 0; b < per; b++ {
-			if !have[b] {
+			if !holds(c.Nodes, b) {
 				missing = append(missing, b)
 				if count > 0 {
-					shardSet[ShardOf(ni, b, per, count)] = true
+					shardSet[ShardOf(b, per, count)] = true
 				}
 			}
 		}
@@ -90,7 +108,8 @@ type Part struct {
 
 // Merge combines results of the same study (shards, or resumed pieces)
 // into one. It refuses parts from another study file, seed, block size,
-// replicate count or tool version, and any block present twice. Missing
+// replicate count or tool version, and any block present twice (parts of
+// another result layout are refused when they are loaded). Missing
 // blocks are allowed only when partial is true; the merged result says
 // whether it is complete.
 func Merge(parts []Part, partial bool) (*Result, error) {
@@ -124,7 +143,13 @@ func Merge(parts []Part, partial bool) (*Result, error) {
 	}
 	merged := NewResult(s)
 	merged.Build = ref.Build.Known()
-	owner := map[[3]int]string{}
+	// owned[ni] lists the parts' node ranges at n, to name both parts
+	// of a block held twice.
+	type owned struct {
+		lo, hi int
+		name   string
+	}
+	owners := make([][]owned, len(s.SampleSizes))
 	count := 0
 	for _, p := range parts {
 		if err := p.Result.Fits(s); err != nil {
@@ -139,13 +164,18 @@ func Merge(parts []Part, partial bool) (*Result, error) {
 		for t := range p.Result.Cells {
 			for ni, c := range p.Result.Cells[t] {
 				m := merged.Cells[t][ni]
-				for _, b := range c.Blocks {
-					key := [3]int{t, ni, b.Block}
-					if prev, dup := owner[key]; dup {
-						return nil, fmt.Errorf("cannot merge: block %d of n=%d is in both %s and %s", b.Block, c.N, prev, p.Name)
+				for _, nd := range c.Nodes {
+					if t == 0 {
+						for _, o := range owners[ni] {
+							if o.lo < nd.Hi() && nd.Lo < o.hi {
+								return nil, fmt.Errorf("cannot merge: block %d of n=%d is in both %s and %s", max(o.lo, nd.Lo), c.N, o.name, p.Name)
+							}
+						}
+						owners[ni] = append(owners[ni], owned{nd.Lo, nd.Hi(), p.Name})
 					}
-					owner[key] = p.Name
-					m.Blocks = append(m.Blocks, b)
+					if err := m.addNode(nd); err != nil {
+						return nil, fmt.Errorf("cannot merge %s: n=%d: %w", p.Name, c.N, err)
+					}
 				}
 				m.add(c.Counts)
 				m.Delta.Merge(&c.Delta)
@@ -153,7 +183,6 @@ func Merge(parts []Part, partial bool) (*Result, error) {
 			}
 		}
 	}
-	sortBlocks(merged)
 	merged.Complete = merged.missingBlocks(s.Replicates) == 0
 	if !merged.Complete {
 		blocks, shards := merged.Missing(s.Replicates, count)

@@ -123,11 +123,17 @@ func (s *Study) Info() Info {
 	return info
 }
 
-// DrawsPerReplicate is the number of observations one replicate at n
-// draws over all arms.
+// DrawsPerReplicate is the number of draws one replicate at n makes over
+// all arms, the unit of the work estimate and the progress line: an arm
+// that draws every observation makes its size's worth, one that draws
+// its sufficient statistics from their exact law makes one, whatever n.
 func (s *Study) DrawsPerReplicate(n int) int {
 	d := 0
 	for a := range s.Arms {
+		if family.DrawsStatistics(s.Arms[a].Model.Sampler) {
+			d++
+			continue
+		}
 		d += s.ArmSize(a, n)
 	}
 	return d

@@ -110,7 +110,17 @@ type Arm struct {
 	Censoring *family.Censoring
 	Model     family.Model // the family at Values with its estimator
 	Offset    int          // index of the arm's first parameter in θ
+	// Draws is how a replicate's sample is drawn: DrawsStatistics (the
+	// default) draws the sufficient statistics from their exact joint
+	// law where the family can, DrawsEach every observation.
+	Draws string
 }
+
+// The values of the draws key of [model] or an [[arm]].
+const (
+	DrawsStatistics = "statistics"
+	DrawsEach       = "each"
+)
 
 // Transform is one function of θ whose delta-method interval is checked.
 type Transform struct {
@@ -628,7 +638,12 @@ func (d *decoder) arm(table string, m map[string]any, named bool, smallest int) 
 	a.Family = famName
 	fit, variance, fitOK := d.fitKeys(table, m, fam)
 	ok = ok && fitOK
-	accepted := []string{"family", "fit", "variance"}
+	accepted := []string{"family", "fit", "variance", "draws"}
+	a.Draws = d.str(m, table, "draws", DrawsStatistics)
+	if a.Draws != DrawsStatistics && a.Draws != DrawsEach {
+		d.fail(join(table, "draws"), "draws = %q is not accepted: use \"statistics\" (draw the sufficient statistics from their exact law, the default) or \"each\" (draw every observation)", a.Draws)
+		ok = false
+	}
 	if named {
 		accepted = append(accepted, "name", "allocation")
 	}
@@ -695,6 +710,9 @@ func (d *decoder) arm(table string, m map[string]any, named bool, smallest int) 
 		}
 		d.fail(path, "%s: %s", label, strings.TrimPrefix(err.Error(), "sim: "))
 		return a, false
+	}
+	if a.Draws == DrawsStatistics {
+		model.Sampler = family.Statistics(model.Sampler)
 	}
 	a.Model = model
 	if a.Censoring != nil && smallest > 0 {
