@@ -385,3 +385,44 @@ func TestCheckpointsAreCopies(t *testing.T) {
 		}
 	}
 }
+
+// A replicate of censored arms (exponential and Weibull, model and
+// robust variances, entry, end and dropout) allocates nothing either.
+func TestCensoredReplicateAllocatesNothing(t *testing.T) {
+	s := studytest.Parse(t, `seed = 1
+replicates = 1000
+sample_sizes = [50]
+[[arm]]
+name = "a"
+family = "exponential"
+rate = 0.3
+[arm.censoring]
+entry = 2
+end = 5
+dropout_rate = 0.05
+[[arm]]
+name = "b"
+family = "exponential"
+rate = 0.3
+variance = "robust"
+[arm.censoring]
+end = 4
+[[arm]]
+name = "c"
+family = "weibull"
+shape = 1.5
+scale = 4
+variance = "robust"
+[arm.censoring]
+entry = 2
+end = 6
+[[transform]]
+name = "t"
+expr = "log(a.rate / b.rate) + c.shape"
+`)
+	w := newWorker(s, NewResult(s))
+	w.runBlock(job{ni: 0, block: 0, count: 10})
+	if allocs := testing.AllocsPerRun(200, w.replicate); allocs != 0 {
+		t.Errorf("a replicate allocates %v times, want 0", allocs)
+	}
+}
