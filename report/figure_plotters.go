@@ -185,7 +185,7 @@ type series struct {
 	label  string
 	x, y   []float64
 	lo, hi []float64 // nil: no bars
-	style  int       // 0: first series of a panel, 1: second
+	style  int       // 0: first series of a panel, 1: second, 2: third
 }
 
 // add puts the series on p (bars first, so markers sit on top) and
@@ -206,8 +206,11 @@ func (s series) add(p *plot.Plot) ([]plot.Thumbnailer, error) {
 		return nil, nil
 	}
 	col, glyph, dash := colSeries1, draw.GlyphDrawer(draw.CircleGlyph{}), []vg.Length(nil)
-	if s.style == 1 {
+	switch s.style {
+	case 1:
 		col, glyph, dash = colSeries2, draw.TriangleGlyph{}, dashed
+	case 2:
+		col, glyph, dash = colSeries3, draw.SquareGlyph{}, dotted
 	}
 	var thumbs []plot.Thumbnailer
 	if bx != nil {

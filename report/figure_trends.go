@@ -42,6 +42,9 @@ type trendAxes struct {
 	// pluginLabel names the plug-in series of the variance panel; empty
 	// means "mean plug-in / simulated".
 	pluginLabel string
+	// otherLabel names the series of the plug-in variance the intervals do
+	// not use; empty when the run kept none.
+	otherLabel string
 }
 
 func newTrendAxes(r *runner.Result, v measure.TransformVerdict) trendAxes {
@@ -211,6 +214,12 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 		}
 		return r.Get(measure.PluginRatio) * end / r.Get(measure.VarRatio)
 	}
+	otherScale := func(r measure.Row, end float64) float64 {
+		if !(r.Get(measure.VarRatio) > 0) {
+			return math.NaN()
+		}
+		return r.Get(measure.PluginOtherRatio) * end / r.Get(measure.VarRatio)
+	}
 	label := a.pluginLabel
 	if label == "" {
 		label = "mean plug-in / simulated"
@@ -220,8 +229,19 @@ func (a trendAxes) variancePanel(rows []measure.Row) (panel, error) {
 		lo: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).Low) }),
 		hi: column(rows, func(r measure.Row) float64 { return scale(r, r.Check(measure.VarianceCheck).High) }),
 	}
-	useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, c[:])
-	if err := addSeries(p, &legend, delta, plugin); err != nil {
+	all := []series{delta, plugin}
+	if a.otherLabel != "" {
+		other := series{label: a.otherLabel, x: xs(rows, 1/a.dodge), style: 2,
+			y:  column(rows, func(r measure.Row) float64 { return r.Get(measure.PluginOtherRatio) }),
+			lo: column(rows, func(r measure.Row) float64 { return otherScale(r, r.Check(measure.VarianceCheck).Low) }),
+			hi: column(rows, func(r measure.Row) float64 { return otherScale(r, r.Check(measure.VarianceCheck).High) }),
+		}
+		useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, other.y, other.lo, other.hi, c[:])
+		all = append(all, other)
+	} else {
+		useLogY(p, delta.y, delta.lo, delta.hi, plugin.y, plugin.lo, plugin.hi, c[:])
+	}
+	if err := addSeries(p, &legend, all...); err != nil {
 		return panel{}, err
 	}
 	legend = append(legend, legendItem{label: "accepted " + fmtBand(c), thumbs: []plot.Thumbnailer{band}})
@@ -377,6 +397,7 @@ func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, 
 func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.TransformVerdict, enc encodeFunc) ([]byte, int, int, error) {
 	a := newTrendAxes(r, v)
 	a.pluginLabel = pluginLabel(r.Study, t)
+	a.otherLabel = otherLabel(r.Study, t, rows)
 	var panels []panel
 	makers := []func() (panel, error){
 		func() (panel, error) { return a.variancePanel(rows) },
@@ -402,6 +423,9 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
 	if readsMisfit(r.Study, t) {
 		key = append(key, "The fit differs from the data model: truth is the transform at θ*, the pseudo-true parameter, and the delta method uses the sandwich variance at θ*.")
+	}
+	if otherLabel(r.Study, t, rows) != "" {
+		key = append(key, "The dotted green line is the mean of the plug-in variance the intervals do not use, over the simulated variance: near 1 where that variance would have suited the interval.")
 	}
 	// A subtitle too long for one line wraps, and the figure grows by
 	// the lines it adds, in whole pixels, so the panels keep their room.

@@ -1,12 +1,14 @@
 package report
 
 import (
+	"math"
 	"regexp"
 	"slices"
 	"sort"
 	"strconv"
 	"strings"
 
+	"deltaprobe/sim/measure"
 	"deltaprobe/sim/study"
 )
 
@@ -160,4 +162,29 @@ func readsMisfit(st study.Info, t int) bool {
 		}
 	}
 	return false
+}
+
+// otherLabel names the series of the plug-in variance the intervals of
+// transform t do not use, when rows hold it at some n: the robust one
+// beside model-based intervals, the model-based one beside robust ones.
+func otherLabel(st study.Info, t int, rows []measure.Row) string {
+	kept := false
+	for _, r := range rows {
+		if !math.IsNaN(r.Get(measure.PluginOtherRatio)) {
+			kept = true
+		}
+	}
+	if !kept {
+		return ""
+	}
+	robust := 0
+	for a, arm := range st.Arms {
+		if readsArm(st, t, a) && arm.Robust() {
+			robust++
+		}
+	}
+	if robust > 0 {
+		return "mean model-based plug-in / simulated (not used)"
+	}
+	return "mean robust plug-in / simulated (not used)"
 }

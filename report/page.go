@@ -44,8 +44,9 @@ type studyPage struct {
 // pageData is what the run's page shows.
 type pageData struct {
 	studyPage
-	// CriterionNames head the verdict table's per-criterion columns.
-	CriterionNames []string
+	// CriterionNames head the verdict table's per-criterion columns, each
+	// allowed to break after its underscore (columnHeading).
+	CriterionNames []template.HTML
 	Verdicts       []verdictLine
 	Warnings       []string
 	Tables         []summaryTable
@@ -150,7 +151,7 @@ var pageTemplate = newPageTemplate(runPageParts)
 
 // newPageTemplate is pageLayout with the shared parts and a page's own.
 func newPageTemplate(ownParts string) *template.Template {
-	t := template.Must(template.New("page").Parse(pageLayout))
+	t := template.Must(template.New("page").Funcs(template.FuncMap{"heading": columnHeading}).Parse(pageLayout))
 	return template.Must(template.Must(t.Parse(pageParts)).Parse(ownParts))
 }
 
@@ -306,7 +307,7 @@ func buildPage(r *runner.Result, figs []Figure) pageData {
 		Incomplete: !r.Complete,
 	}
 	for _, c := range measure.Deciding(st.Criteria) {
-		d.CriterionNames = append(d.CriterionNames, c.Column())
+		d.CriterionNames = append(d.CriterionNames, columnHeading(c.Column()))
 	}
 	dec := measure.GridDecisions(st)
 	d.Criteria = criterionRules(st.Criteria, fmt.Sprintf("interval (z = %.3f)", dec.Z))
@@ -463,4 +464,10 @@ func dashIfEmpty(s string) string {
 		return "–"
 	}
 	return s
+}
+
+// columnHeading is a CSV column name as a table heading that may break
+// after each underscore, so a narrow page (print) need not cut the table.
+func columnHeading(name string) template.HTML {
+	return template.HTML(strings.ReplaceAll(template.HTMLEscapeString(name), "_", "_<wbr/>"))
 }

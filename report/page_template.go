@@ -135,7 +135,7 @@ footer { margin-top: 2.5rem; font-size: 0.85em; color: #555; }
 {{define "summary table"}}<div class="scroll">
 <table class="summary">
 <caption>{{.Caption}}</caption>
-<thead><tr>{{range .Columns}}<th scope="col">{{.}}</th>{{end}}</tr></thead>
+<thead><tr>{{range .Columns}}<th scope="col">{{heading .}}</th>{{end}}</tr></thead>
 <tbody>
 {{range .Rows}}<tr>{{range .}}<td class="{{.Class}}">{{.Text}}</td>{{end}}</tr>
 {{end}}</tbody>
@@ -163,7 +163,7 @@ const runPageParts = `{{define "page kind"}}deltaprobe report{{end}}
 {{if .Incomplete}}<p><strong>This run is incomplete: the numbers use only the blocks that finished.</strong></p>
 {{end}}<div class="scroll">
 <table class="verdicts">
-<thead><tr><th scope="col">transform</th><th scope="col">smallest_n</th><th scope="col">status</th><th scope="col">limiting</th>{{range .CriterionNames}}<th scope="col">{{.}}</th>{{end}}<th scope="col">expression</th></tr></thead>
+<thead><tr><th scope="col">transform</th><th scope="col">smallest_<wbr/>n</th><th scope="col">status</th><th scope="col">limiting</th>{{range .CriterionNames}}<th scope="col">{{.}}</th>{{end}}<th scope="col">expression</th></tr></thead>
 <tbody>
 {{range .Verdicts}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="num">{{.Bounds}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td>{{range .PerCriterion}}<td class="num">{{.}}</td>{{end}}<td class="expr">{{.Expr}}</td></tr>
 {{end}}</tbody>

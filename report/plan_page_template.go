@@ -15,7 +15,7 @@ td.list { overflow-wrap: anywhere; min-width: 5rem; }
 <h2>Smallest adequate n</h2>
 <div class="scroll">
 <table class="verdicts">
-<thead><tr><th scope="col">transform</th><th scope="col">smallest_n</th><th scope="col">status</th><th scope="col">limiting</th><th scope="col">n checked</th><th scope="col">replicates used</th><th scope="col">window</th><th scope="col">oscillations</th><th scope="col">undecided n above</th></tr></thead>
+<thead><tr><th scope="col">transform</th><th scope="col">smallest_<wbr/>n</th><th scope="col">status</th><th scope="col">limiting</th><th scope="col">n checked</th><th scope="col">replicates used</th><th scope="col">window</th><th scope="col">oscillations</th><th scope="col">undecided n above</th></tr></thead>
 <tbody>
 {{range .Answers}}<tr><td class="name"><a href="#{{.Anchor}}">{{.Name}}</a></td><td class="num">{{.Smallest}}</td><td class="status {{.StatusClass}}">{{.Status}}</td><td>{{.Limiting}}</td><td class="num">{{.Checked}}</td><td class="num">{{.Replicates}}</td><td class="num">{{.Window}}</td><td class="list">{{.Oscillations}}</td><td class="list">{{.Undecided}}</td></tr>
 {{end}}</tbody>

@@ -104,16 +104,45 @@ func (m *momentFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	s.Data[0], s.Data[1], s.Data[2], s.Data[3] = s1, s2, s3, s4
 }
 
-func (m *momentFitModel) NewFitter(int) Fitter { return m }
+// NewFitter returns a fitter of the worker's own, which keeps the other
+// variance of its latest fit (OtherVariance).
+func (m *momentFitModel) NewFitter(int) Fitter { return &momentFitter{m: m} }
 
-// Fit forms ȳ and the sample central moments m2, m3, m4 (divisor n) and
+// momentFitter fits for one worker: the model's fit, and on request the
+// other variance.
+type momentFitter struct {
+	m         *momentFitModel
+	both      bool
+	other     [4]float64
+	otherOK   bool
+	otherTail [2]float64 // θ̂ of the other fit, discarded
+}
+
+func (f *momentFitter) Fit(s *Sample, theta, cov []float64) bool {
+	if !f.m.fit(s, theta, cov, f.m.robust) {
+		return false
+	}
+	if f.both {
+		f.otherOK = f.m.fit(s, f.otherTail[:len(theta)], f.other[:len(cov)], !f.m.robust)
+	}
+	return true
+}
+
+func (f *momentFitter) EnableOther() { f.both = true }
+
+func (f *momentFitter) OtherCov(cov []float64) bool {
+	copy(cov, f.other[:len(cov)])
+	return f.both && f.otherOK
+}
+
+// fit forms ȳ and the sample central moments m2, m3, m4 (divisor n) and
 // writes the fit's MLE with the model-based variance (the inverse
 // observed information at θ̂, which for these three fits equals the
 // expected information there: poisson ȳ, exponential λ̂², normal
 // diag(σ̂², σ̂²/2)) or the sandwich with the sample's moments in place of
 // the law's (see newMomentFit). An exponential fit has no value when
 // ȳ ≤ 0 (no positive data), a normal fit none when m2 = 0.
-func (m *momentFitModel) Fit(s *Sample, theta, cov []float64) bool {
+func (m *momentFitModel) fit(s *Sample, theta, cov []float64, robust bool) bool {
 	fn := float64(s.N)
 	a1, a2 := s.Data[0]/fn, s.Data[1]/fn
 	d := a1
@@ -122,7 +151,7 @@ func (m *momentFitModel) Fit(s *Sample, theta, cov []float64) bool {
 	switch m.kind {
 	case poissonFit:
 		theta[0] = ybar
-		if m.robust {
+		if robust {
 			cov[0] = m2
 		} else {
 			cov[0] = ybar
@@ -133,7 +162,7 @@ func (m *momentFitModel) Fit(s *Sample, theta, cov []float64) bool {
 		}
 		rate := 1 / ybar
 		theta[0] = rate
-		if m.robust {
+		if robust {
 			cov[0] = rate * rate * rate * rate * m2
 		} else {
 			cov[0] = rate * rate
@@ -144,7 +173,7 @@ func (m *momentFitModel) Fit(s *Sample, theta, cov []float64) bool {
 		}
 		sd := math.Sqrt(m2)
 		theta[0], theta[1] = ybar, sd
-		if !m.robust {
+		if !robust {
 			cov[0], cov[1], cov[2], cov[3] = m2, 0, 0, m2/2
 			return true
 		}

@@ -153,6 +153,8 @@ func (m *nbFitModel) NewFitter(maxN int) Fitter {
 // values with their counts.
 type nbFitter struct {
 	robust bool
+	both   bool       // also compute the other variance (OtherVariance)
+	other  [4]float64 // the other variance of the latest fit
 	sorted []float64
 	vals   []float64
 	counts []float64
@@ -285,8 +287,9 @@ func (f *nbFitter) Fit(s *Sample, theta, cov []float64) bool {
 	if !(akk > 0) {
 		return false
 	}
-	if !f.robust {
-		cov[0], cov[1], cov[2], cov[3] = 1/amm, 0, 0, 1/akk
+	model := [4]float64{1 / amm, 0, 0, 1 / akk}
+	if !f.robust && !f.both {
+		copy(cov, model[:])
 		return true
 	}
 	// Scores per observation: s_m = y/m − (y+r)/(r+m), s_k = −r²·s_r with
@@ -303,6 +306,20 @@ func (f *nbFitter) Fit(s *Sample, theta, cov []float64) bool {
 		bkk += c * sk * sk
 	}
 	bmm, bmk, bkk = bmm/fn, bmk/fn, bkk/fn
-	cov[0], cov[1], cov[2], cov[3] = bmm/(amm*amm), bmk/(amm*akk), bmk/(amm*akk), bkk/(akk*akk)
+	sand := [4]float64{bmm / (amm * amm), bmk / (amm * akk), bmk / (amm * akk), bkk / (akk * akk)}
+	if f.robust {
+		copy(cov, sand[:])
+		f.other = model
+	} else {
+		copy(cov, model[:])
+		f.other = sand
+	}
 	return true
+}
+
+func (f *nbFitter) EnableOther() { f.both = true }
+
+func (f *nbFitter) OtherCov(cov []float64) bool {
+	copy(cov, f.other[:])
+	return f.both
 }

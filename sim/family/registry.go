@@ -67,6 +67,19 @@ type Fitter interface {
 	Fit(s *Sample, theta, cov []float64) bool
 }
 
+// OtherVariance is a Fitter that can also give the plug-in covariance
+// of the variance the study did not choose: the sandwich when the study
+// uses the model-based variance, the inverse observed information when
+// it uses the sandwich. A report sets the two beside the empirical
+// variance. After EnableOther, every Fit that reports true also computes
+// the other covariance, and OtherCov writes it (len(theta)² entries,
+// row-major); OtherCov reports false when it has no value for that
+// sample. Neither allocates.
+type OtherVariance interface {
+	EnableOther()
+	OtherCov(cov []float64) bool
+}
+
 // Asymptotics is what first-order theory says about an estimator under
 // the data-generating model; the delta-method predictions are built from
 // it at the truth. It is shared by every worker and allocates nothing.

@@ -121,6 +121,8 @@ func (m *weibullFitModel) NewFitter(maxN int) Fitter {
 // weibullFitter holds one worker's buffers: u = log(y/max y) and z = e^(k·u).
 type weibullFitter struct {
 	robust bool
+	both   bool       // also compute the other variance (OtherVariance)
+	other  [4]float64 // the other variance of the latest fit
 	u, z   []float64
 }
 
@@ -240,7 +242,7 @@ func (f *weibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 		akk += 1/(k*k) + z*v*v
 		akl += (1 - z - k*z*v) / lam
 		all += (k*(k+1)*z - k) / (lam * lam)
-		if f.robust {
+		if f.robust || f.both {
 			sk := 1/k + v - z*v
 			sl := k / lam * (z - 1)
 			bkk += sk * sk
@@ -255,8 +257,9 @@ func (f *weibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	}
 	// A⁻¹ of the 2×2.
 	ikk, ikl, ill := all/det, -akl/det, akk/det
-	if !f.robust {
-		cov[0], cov[1], cov[2], cov[3] = ikk, ikl, ikl, ill
+	model := [4]float64{ikk, ikl, ikl, ill}
+	if !f.robust && !f.both {
+		copy(cov, model[:])
 		return true
 	}
 	bkk, bkl, bll = bkk/fn, bkl/fn, bll/fn
@@ -265,11 +268,22 @@ func (f *weibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	r01 := ikk*bkl + ikl*bll
 	r10 := ikl*bkk + ill*bkl
 	r11 := ikl*bkl + ill*bll
-	cov[0] = r00*ikk + r01*ikl
-	cov[1] = r00*ikl + r01*ill
-	cov[2] = r10*ikk + r11*ikl
-	cov[3] = r10*ikl + r11*ill
+	sand := [4]float64{r00*ikk + r01*ikl, r00*ikl + r01*ill, r10*ikk + r11*ikl, r10*ikl + r11*ill}
+	if f.robust {
+		copy(cov, sand[:])
+		f.other = model
+	} else {
+		copy(cov, model[:])
+		f.other = sand
+	}
 	return true
+}
+
+func (f *weibullFitter) EnableOther() { f.both = true }
+
+func (f *weibullFitter) OtherCov(cov []float64) bool {
+	copy(cov, f.other[:])
+	return f.both
 }
 
 // log y = log scale + (log E)/shape.

@@ -46,9 +46,13 @@ type Cell struct {
 	Moments   runner.Moments // of the defined estimates
 	PluginVar float64        // mean plug-in variance over the defined replicates
 	Width     float64        // mean interval width over the defined replicates
-	SDDelta   float64        // √delta_var
-	Quantile  float64        // the interval's quantile q at n
-	Null      float64        // the transform's null; NaN when it has none
+	// PluginOther is the mean of the other plug-in variance (the sandwich
+	// where the intervals use the model-based one, and the other way
+	// round) over the defined replicates; NaN where the run kept none.
+	PluginOther float64
+	SDDelta     float64 // √delta_var
+	Quantile    float64 // the interval's quantile q at n
+	Null        float64 // the transform's null; NaN when it has none
 }
 
 // RejectRate is the probability that |Z + δ| > q for Z ~ N(0, 1):

@@ -66,7 +66,7 @@ func SummarizeCell(r *runner.Result, t, ni int, z float64) Row {
 	merged := rc.Merged()
 	c := &Cell{
 		Study: &r.Study, Cell: rc, Pred: r.Predictions[t][ni],
-		Moments: merged.Moments, PluginVar: merged.PluginVar, Width: merged.Width,
+		Moments: merged.Moments, PluginVar: merged.PluginVar, Width: merged.Width, PluginOther: merged.PluginOther,
 		Quantile: r.Study.Quantile(rc.N), Null: nan,
 	}
 	if null := r.Study.Transforms[t].Null; null != nil {

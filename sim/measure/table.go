@@ -182,6 +182,13 @@ var (
 		Value: func(c *Cell, r *Row) float64 {
 			return ifDefined(c, 2, r.Get(PluginRatio)*r.Get(EmpVarMCSE)/r.Get(EmpVar))
 		}})
+	// plugin_other_ratio: the mean of the plug-in variance the intervals
+	// do not use (robust beside model-based, or the other way round) over
+	// the empirical variance, for the figures; NaN where the run kept none
+	// (a fit of the data's own family with the model-based variance, or a
+	// transform with the analyst's own se).
+	PluginOtherRatio = define(Measure{Name: "plugin_other_ratio", Group: Internal,
+		Value: func(c *Cell, r *Row) float64 { return ifDefined(c, 2, c.PluginOther/r.Get(EmpVar)) }})
 	FitFailures = define(Measure{Name: "fit_failures", Group: Internal, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.FitFailures) }})
 	NoEvents = define(Measure{Name: "no_events", Group: Internal, Count: true,

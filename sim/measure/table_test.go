@@ -29,7 +29,7 @@ func TestTableOrder(t *testing.T) {
 	if !slices.Equal(columns, want) {
 		t.Errorf("summary measures\n%q\nwant\n%q", columns, want)
 	}
-	if want := []string{"std_bias_mcse", "plugin_ratio_mcse", "fit_failures", "no_events", "zero_se"}; !slices.Equal(internal, want) {
+	if want := []string{"std_bias_mcse", "plugin_ratio_mcse", "plugin_other_ratio", "fit_failures", "no_events", "zero_se"}; !slices.Equal(internal, want) {
 		t.Errorf("internal measures %q, want %q", internal, want)
 	}
 	var names []string

@@ -31,6 +31,10 @@ type Node struct {
 	M4        float64
 	PluginVar float64 // mean plug-in variance over the defined replicates
 	Width     float64 // mean interval width over the defined replicates
+	// PluginOther is the mean of the other plug-in variance (the sandwich
+	// where the intervals use the model-based one, and the other way
+	// round) over the defined replicates; NaN where the cell keeps none.
+	PluginOther float64
 }
 
 // Hi is one past the node's last block.
@@ -50,7 +54,21 @@ func joinNodes(left, right Node) Node {
 		p.PluginVar += (right.PluginVar - left.PluginVar) * float64(right.N) / float64(m.N)
 		p.Width += (right.Width - left.Width) * float64(right.N) / float64(m.N)
 	}
+	p.PluginOther = weighOther(left.PluginOther, left.N, right.PluginOther, right.N)
 	return p
+}
+
+// weighOther is the mean of two means of the other plug-in variance over
+// na and nb defined replicates, a mean over none counting for nothing
+// (it is NaN).
+func weighOther(a float64, na int64, b float64, nb int64) float64 {
+	switch {
+	case nb == 0:
+		return a
+	case na == 0:
+		return b
+	}
+	return a + (b-a)*float64(nb)/float64(na+nb)
 }
 
 // insertNode adds nd to nodes (sorted by Lo, maximal) and joins it with
@@ -123,11 +141,11 @@ const maxNodes = 2 * 20
 const maxNodeLevel = 40
 
 // MarshalJSON writes a node as a compact array [lo, level, n, mean, m2,
-// m3, m4, plugin_var, width]; a non-finite value (a heavy tail can overflow m4)
+// m3, m4, plugin_var, width, plugin_other]; a non-finite value (a heavy tail can overflow m4)
 // is written as a string, since JSON has no NaN or infinity.
 func (nd Node) MarshalJSON() ([]byte, error) {
 	buf := []byte("[" + strconv.Itoa(nd.Lo) + "," + strconv.Itoa(nd.Level) + "," + strconv.FormatInt(nd.N, 10))
-	for _, x := range []float64{nd.Mean, nd.M2, nd.M3, nd.M4, nd.PluginVar, nd.Width} {
+	for _, x := range []float64{nd.Mean, nd.M2, nd.M3, nd.M4, nd.PluginVar, nd.Width, nd.PluginOther} {
 		buf = append(buf, ',')
 		if math.IsNaN(x) || math.IsInf(x, 0) {
 			buf = strconv.AppendQuote(buf, strconv.FormatFloat(x, 'g', -1, 64))
@@ -144,8 +162,8 @@ func (nd *Node) UnmarshalJSON(data []byte) error {
 	if err := json.Unmarshal(data, &parts); err != nil {
 		return err
 	}
-	if len(parts) != 9 {
-		return fmt.Errorf("node record has %d fields, want 9", len(parts))
+	if len(parts) != 10 {
+		return fmt.Errorf("node record has %d fields, want 10", len(parts))
 	}
 	ints := []*int{&nd.Lo, &nd.Level}
 	for i, dst := range ints {
@@ -163,7 +181,7 @@ func (nd *Node) UnmarshalJSON(data []byte) error {
 		return fmt.Errorf("node count: %w", err)
 	}
 	nd.N = n
-	for i, dst := range []*float64{&nd.Mean, &nd.M2, &nd.M3, &nd.M4, &nd.PluginVar, &nd.Width} {
+	for i, dst := range []*float64{&nd.Mean, &nd.M2, &nd.M3, &nd.M4, &nd.PluginVar, &nd.Width, &nd.PluginOther} {
 		x, err := strconv.ParseFloat(string(parts[i+3]), 64)
 		if err != nil {
 			return fmt.Errorf("node value %q: %w", parts[i+3], err)

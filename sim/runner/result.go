@@ -85,6 +85,8 @@ type Merged struct {
 	Moments   Moments // of the defined estimates
 	PluginVar float64 // mean plug-in variance over the defined replicates
 	Width     float64 // mean interval width over the defined replicates
+	// PluginOther is the mean other plug-in variance (Node.PluginOther).
+	PluginOther float64
 }
 
 // Merged folds the cell's nodes left to right (see the canonical
@@ -97,7 +99,7 @@ func (c *Cell) Merged() Merged {
 	var cm Merged
 	for i, nd := range c.Nodes {
 		if i == 0 {
-			cm = Merged{Moments: nd.moments(), PluginVar: nd.PluginVar, Width: nd.Width}
+			cm = Merged{Moments: nd.moments(), PluginVar: nd.PluginVar, Width: nd.Width, PluginOther: nd.PluginOther}
 			continue
 		}
 		if nd.N == 0 {
@@ -107,6 +109,7 @@ func (c *Cell) Merged() Merged {
 		cm.Moments.Merge(nd.moments())
 		cm.PluginVar += (nd.PluginVar - cm.PluginVar) * float64(nd.N) / (before + float64(nd.N))
 		cm.Width += (nd.Width - cm.Width) * float64(nd.N) / (before + float64(nd.N))
+		cm.PluginOther = weighOther(cm.PluginOther, cm.Moments.N-nd.N, nd.PluginOther, nd.N)
 	}
 	c.mergedCache = &cm
 	return cm

@@ -330,9 +330,16 @@ type worker struct {
 	accs    []cellAcc
 	useArm  [][]bool // [transform][arm]: whether the transform reads the arm
 	failed  []bool   // per arm: its fit failed in this replicate
-	rep     int      // replicate within the block, for panic reports
-	stage   int      // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
-	_       [pad]byte
+	// The other plug-in variance (family.OtherVariance): per arm its
+	// fitter (nil: none), its covariance and whether it has one this
+	// replicate; per transform whether it is kept.
+	others    []family.OtherVariance
+	otherCovs [][]float64
+	otherOK   []bool
+	hasOther  []bool
+	rep       int // replicate within the block, for panic reports
+	stage     int // arm being fitted (< len(Arms)) or len(Arms)+transform being scored
+	_         [pad]byte
 }
 
 // cellAcc accumulates one transform over one block. Counters and
@@ -347,6 +354,7 @@ type cellAcc struct {
 	hasNull        bool
 	Counts         // the block's tallies; Replicates is set when it is flushed
 	pluginSum      float64
+	otherSum       float64 // of the other plug-in variance (worker.hasOther)
 	widthSum       float64
 	vals           []float64 // estimates not yet in mom
 	mom            Moments
@@ -377,7 +385,16 @@ func newWorker(s *study.Study, res *Result) *worker {
 			maxN = max(maxN, size)
 			sampleLens[ai] = max(sampleLens[ai], a.Model.Sampler.SampleLen(size))
 		}
-		w.fitters = append(w.fitters, a.Model.Estimator.NewFitter(maxN))
+		f := a.Model.Estimator.NewFitter(maxN)
+		w.fitters = append(w.fitters, f)
+		// The other variance, beside the one the intervals use, wherever
+		// the fit offers both (the fits that take variance = "robust").
+		ov, _ := f.(family.OtherVariance)
+		if ov != nil {
+			ov.EnableOther()
+		}
+		w.others = append(w.others, ov)
+		floats += k * k
 		counter, _ := a.Model.Sampler.(family.EventCounter)
 		w.counter = append(w.counter, counter)
 		hc, _ := a.Model.Estimator.(family.HalfCorrector)
@@ -393,6 +410,11 @@ func newWorker(s *study.Study, res *Result) *worker {
 		w.covs = append(w.covs, buf[:k*k:k*k])
 		buf = buf[k*k:]
 	}
+	for _, k := range w.dims {
+		w.otherCovs = append(w.otherCovs, buf[:k*k:k*k])
+		buf = buf[k*k:]
+	}
+	w.otherOK = padded[bool](len(s.Arms))
 	w.samples = padded[family.Sample](len(s.Arms))
 	w.events = padded[int](len(s.Arms))
 	w.failed = padded[bool](len(s.Arms))
@@ -418,6 +440,15 @@ func newWorker(s *study.Study, res *Result) *worker {
 			}
 		}
 		w.useArm = append(w.useArm, use)
+		// The other plug-in variance of a transform exists when every arm
+		// it reads has one and the analyst gave no standard error.
+		other := t.SEProgram == nil
+		for ai := range s.Arms {
+			if use[ai] && w.others[ai] == nil {
+				other = false
+			}
+		}
+		w.hasOther = append(w.hasOther, other)
 	}
 	return w
 }
@@ -501,6 +532,11 @@ func (w *worker) replicate() {
 			w.events[a] = w.counter[a].Events(&w.samples[a])
 		}
 	}
+	for a, ov := range w.others {
+		if ov != nil {
+			w.otherOK[a] = !w.failed[a] && ov.OtherCov(w.otherCovs[a])
+		}
+	}
 	for t := range w.accs {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
@@ -540,8 +576,28 @@ func (w *worker) replicate() {
 				pv = math.NaN()
 			}
 		}
-		acc.add(v, pv, w.q)
+		if acc.add(v, pv, w.q) && w.hasOther[t] {
+			acc.otherSum += w.otherVar(use)
+		}
 	}
+}
+
+// otherVar is the other plug-in delta variance of the transform whose
+// gradient w.grad holds and which reads the arms in use; NaN when an arm
+// has no other variance this replicate.
+func (w *worker) otherVar(use []bool) float64 {
+	var pv float64
+	for a := range w.s.Arms {
+		if !use[a] {
+			continue
+		}
+		if !w.otherOK[a] {
+			return math.NaN()
+		}
+		off, k := w.s.Arms[a].Offset, w.dims[a]
+		pv += study.QuadForm(w.grad[off:off+k], w.otherCovs[a]) / w.armN[a]
+	}
+	return pv
 }
 
 // drawAndFitHalf draws every arm, then fits each, correcting every
@@ -597,12 +653,12 @@ func (w *worker) readsFailed(use []bool) bool {
 }
 
 // add scores one replicate's estimate v and the variance pv its interval
-// uses, with quantile q.
-func (acc *cellAcc) add(v, pv, q float64) {
+// uses, with quantile q, and reports whether the replicate is defined.
+func (acc *cellAcc) add(v, pv, q float64) bool {
 	// |x| <= MaxFloat64 is false for NaN and ±Inf alike: one compare each.
 	if !(math.Abs(v) <= math.MaxFloat64 && pv >= 0 && pv <= math.MaxFloat64 && q <= math.MaxFloat64) {
 		acc.Undefined++
-		return
+		return false
 	}
 	se := math.Sqrt(pv)
 	if se == 0 {
@@ -631,6 +687,7 @@ func (acc *cellAcc) add(v, pv, q float64) {
 	dev := v - acc.truth
 	acc.delta.Add(dev / acc.sdDelta)
 	acc.wald.Add(dev / se)
+	return true
 }
 
 // reduce folds the pending estimates into the moments.
@@ -653,6 +710,10 @@ func (w *worker) flush(j job) error {
 		if acc.mom.N > 0 {
 			nd.PluginVar = acc.pluginSum / float64(acc.mom.N)
 			nd.Width = acc.widthSum / float64(acc.mom.N)
+		}
+		nd.PluginOther = math.NaN()
+		if w.hasOther[t] && acc.mom.N > 0 {
+			nd.PluginOther = acc.otherSum / float64(acc.mom.N)
 		}
 		if err := c.addNode(nd); err != nil {
 			return fmt.Errorf("n=%d: %w", c.N, err)
