@@ -146,6 +146,15 @@ func (m *censoredWeibull) NewFitter(maxN int) Fitter {
 type censoredWeibullFitter struct {
 	u      []float64
 	robust bool
+	both   bool       // also compute the other variance (OtherVariance)
+	other  [4]float64 // the other variance of the latest fit
+}
+
+func (f *censoredWeibullFitter) EnableOther() { f.both = true }
+
+func (f *censoredWeibullFitter) OtherCov(cov []float64) bool {
+	copy(cov, f.other[:])
+	return f.both
 }
 
 // profile returns h(k) = 1/k + ū_D − Σzu/Σz and its derivative
@@ -274,7 +283,7 @@ func (f *censoredWeibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 		akk += d[i]/(k*k) + z*v*v
 		akl += (d[i] - z - k*z*v) / lam
 		all += k * ((k+1)*z - d[i]) / (lam * lam)
-		if f.robust {
+		if f.robust || f.both {
 			sk := d[i]*(1/k+v) - z*v
 			sl := k / lam * (z - d[i])
 			bkk += sk * sk
@@ -289,8 +298,9 @@ func (f *censoredWeibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	fn := float64(n)
 	// A⁻¹ of the summed information.
 	ikk, ikl, ill := all/det, -akl/det, akk/det
-	if !f.robust {
-		cov[0], cov[1], cov[2], cov[3] = fn*ikk, fn*ikl, fn*ikl, fn*ill
+	model := [4]float64{fn * ikk, fn * ikl, fn * ikl, fn * ill}
+	if !f.robust && !f.both {
+		copy(cov, model[:])
 		return true
 	}
 	// The sandwich A⁻¹BA⁻¹ of the sums (Huber 1967; White 1982), times n
@@ -299,9 +309,13 @@ func (f *censoredWeibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	r01 := ikk*bkl + ikl*bll
 	r10 := ikl*bkk + ill*bkl
 	r11 := ikl*bkl + ill*bll
-	cov[0] = fn * (r00*ikk + r01*ikl)
-	cov[1] = fn * (r00*ikl + r01*ill)
-	cov[2] = fn * (r10*ikk + r11*ikl)
-	cov[3] = fn * (r10*ikl + r11*ill)
+	sand := [4]float64{fn * (r00*ikk + r01*ikl), fn * (r00*ikl + r01*ill), fn * (r10*ikk + r11*ikl), fn * (r10*ikl + r11*ill)}
+	if f.robust {
+		copy(cov, sand[:])
+		f.other = model
+	} else {
+		copy(cov, model[:])
+		f.other = sand
+	}
 	return true
 }

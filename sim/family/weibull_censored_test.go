@@ -390,3 +390,37 @@ func TestCensoredWeibullFitAlwaysConverges(t *testing.T) {
 		}
 	}
 }
+
+// With EnableOther, the model-variance fit also gives the sandwich and
+// the robust fit the inverse observed information: each the other's
+// plug-in on the same sample, to the last bits.
+func TestCensoredWeibullOtherVariance(t *testing.T) {
+	w := weibullCases[2]
+	vals := map[string]float64{"shape": w.shape, "scale": w.scale}
+	mm, _ := newCensoredWeibull(vals, w.c, ModelVariance)
+	mr, _ := newCensoredWeibull(vals, w.c, RobustVariance)
+	fm, fr := mm.Estimator.NewFitter(60), mr.Estimator.NewFitter(60)
+	fm.(OtherVariance).EnableOther()
+	fr.(OtherVariance).EnableOther()
+	s := Sample{Data: make([]float64, 120)}
+	rng := testRand(8)
+	theta := make([]float64, 2)
+	covM, covR, otherM, otherR := make([]float64, 4), make([]float64, 4), make([]float64, 4), make([]float64, 4)
+	for range 50 {
+		mm.Sampler.Draw(rng, 60, &s)
+		okM, okR := fm.Fit(&s, theta, covM), fr.Fit(&s, theta, covR)
+		if okM != okR {
+			t.Fatalf("model fit %v, robust fit %v on one sample", okM, okR)
+		}
+		if !okM {
+			continue
+		}
+		fm.(OtherVariance).OtherCov(otherM)
+		fr.(OtherVariance).OtherCov(otherR)
+		for i := range 4 {
+			if otherM[i] != covR[i] || otherR[i] != covM[i] {
+				t.Fatalf("entry %d: model %v other %v, robust %v other %v", i, covM[i], otherM[i], covR[i], otherR[i])
+			}
+		}
+	}
+}
