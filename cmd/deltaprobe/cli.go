@@ -548,7 +548,13 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 		if f.Robust() {
 			variances += ", robust (sandwich)"
 		}
-		fmt.Fprintf(stdout, "    variance:  %s\n\n", variances)
+		fmt.Fprintf(stdout, "    variance:  %s\n", variances)
+		if f.Censor != nil {
+			fmt.Fprintf(stdout, "    censoring: [model.censoring] or [arm.censoring]: entry (uniform entry over [0, entry]),\n")
+			fmt.Fprintf(stdout, "               end (calendar end of study), dropout_rate (exponential loss to follow-up)\n")
+			fmt.Fprintf(stdout, "               %s\n", f.CensoredEstimator)
+		}
+		fmt.Fprintln(stdout)
 	}
 	fmt.Fprintln(stdout, "A study draws from family and fits fit (default: the same family); θ holds the fitted family's estimates.")
 	fmt.Fprintln(stdout)

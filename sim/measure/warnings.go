@@ -32,6 +32,7 @@ func Warnings(r *runner.Result, rows []Row) []string {
 			{what: "undefined replicates (estimate or standard error not finite; counted as not covering, left out of the moments)"},
 			{what: "fits with no estimate: no finite MLE for the sample, or the search did not converge (counted as undefined)"},
 			{what: "plug-in standard error of 0 (a degenerate interval)"},
+			{what: "replicates in which an arm's censored lifetimes had too few events for an estimate (none; for the Weibull, under two) (counted as undefined)"},
 			{what: "heavy tails, excess kurtosis above 20 (the variance may not exist; its MCSE is then unreliable)"},
 		}
 		// The causes a fitter named, each with its share of the replicates.
@@ -57,8 +58,11 @@ func Warnings(r *runner.Result, rows []Row) []string {
 			if row.Count(ZeroSE) > 0 {
 				kinds[2].parts = append(kinds[2].parts, fmt.Sprintf("n=%d: %d", row.N, row.Count(ZeroSE)))
 			}
+			if row.Count(NoEvents) > 0 {
+				kinds[3].parts = append(kinds[3].parts, fmt.Sprintf("n=%d: %d", row.N, row.Count(NoEvents)))
+			}
 			if row.Get(ExKurtosis) > 20 {
-				kinds[3].parts = append(kinds[3].parts, fmt.Sprintf("n=%d: %.3g", row.N, row.Get(ExKurtosis)))
+				kinds[4].parts = append(kinds[4].parts, fmt.Sprintf("n=%d: %.3g", row.N, row.Get(ExKurtosis)))
 			}
 		}
 		kinds = append(kinds[:2], append(causes, kinds[2:]...)...)

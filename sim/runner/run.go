@@ -320,6 +320,8 @@ type worker struct {
 	samples []family.Sample          // per arm: the latest draw, read by its fitter
 	fitters []family.Fitter          // per arm: this worker's own, with any buffers its fit keeps
 	causes  []family.FailureReporter // per arm: the fitter, when it names its failures; else nil
+	counter []family.EventCounter    // per arm: nil unless it draws lifetimes
+	events  []int                    // per arm: the latest draw's events
 	dims    []int                    // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
@@ -396,6 +398,8 @@ func newWorker(s *study.Study, res *Result) *worker {
 		}
 		w.others = append(w.others, ov)
 		floats += k * k
+		counter, _ := a.Model.Sampler.(family.EventCounter)
+		w.counter = append(w.counter, counter)
 		hc, _ := a.Model.Estimator.(family.HalfCorrector)
 		w.halves = append(w.halves, hc)
 		floats += k*k + sampleLens[ai]
@@ -415,6 +419,7 @@ func newWorker(s *study.Study, res *Result) *worker {
 	}
 	w.otherOK = padded[bool](len(s.Arms))
 	w.samples = padded[family.Sample](len(s.Arms))
+	w.events = padded[int](len(s.Arms))
 	w.failed = padded[bool](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
@@ -525,6 +530,11 @@ func (w *worker) replicate() {
 			anyFailed = anyFailed || w.failed[a]
 		}
 	}
+	for a := range s.Arms {
+		if w.counter[a] != nil {
+			w.events[a] = w.counter[a].Events(&w.samples[a])
+		}
+	}
 	for a, ov := range w.others {
 		if ov != nil {
 			w.otherOK[a] = !w.failed[a] && ov.OtherCov(w.otherCovs[a])
@@ -534,10 +544,21 @@ func (w *worker) replicate() {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
 		use := w.useArm[t]
+		for a := range s.Arms {
+			if use[a] && w.counter[a] != nil {
+				acc.Events += int64(w.events[a])
+				acc.Lifetimes += int64(w.sizes[a])
+			}
+		}
 		if anyFailed && w.readsFailed(use) {
 			// A transform is undefined when an arm it reads has no fit;
 			// arms it does not read leave it alone.
-			acc.failed(w.causeOf(use))
+			if w.noEvents(use) {
+				acc.Undefined++
+				acc.NoEvents++
+			} else {
+				acc.failed(w.causeOf(use))
+			}
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
@@ -625,6 +646,17 @@ func (w *worker) causeOf(use []bool) family.Failure {
 		}
 	}
 	return family.NotConverged
+}
+
+// noEvents reports whether an arm in use whose fit failed had fewer
+// events than its fit needs: the reason the replicate is undefined.
+func (w *worker) noEvents(use []bool) bool {
+	for a, f := range w.failed {
+		if f && use[a] && w.counter[a] != nil && w.events[a] < w.counter[a].MinEvents() {
+			return true
+		}
+	}
+	return false
 }
 
 // readsFailed reports whether a transform reading the arms in use reads

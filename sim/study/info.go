@@ -48,6 +48,10 @@ type ArmInfo struct {
 	// PseudoTrue is θ*, the fitted family's parameters closest to the
 	// data law, by name; only when Fit differs from Family.
 	PseudoTrue map[string]float64 `json:"pseudo_true,omitempty"`
+	// Censoring and EventShare (the expected share of events at the
+	// truth) are set for an arm with censored lifetimes.
+	Censoring  *family.Censoring `json:"censoring,omitempty"`
+	EventShare float64           `json:"event_share,omitempty"`
 }
 
 // FitFamily is the family the arm fits.
@@ -112,6 +116,10 @@ func (s *Study) Info() Info {
 			for i, name := range a.Estimates() {
 				ai.PseudoTrue[name] = a.Model.Truth[i]
 			}
+		}
+		if a.Censoring != nil {
+			c := *a.Censoring
+			ai.Censoring, ai.EventShare = &c, a.Model.EventShare
 		}
 		info.Arms = append(info.Arms, ai)
 	}
