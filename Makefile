@@ -27,10 +27,10 @@ fuzz:
 # The performance benchmark: runner.Run against the hand-written floor loop on
 # studies/bench_reference.toml in one process (cmd/deltabench), memory at
 # 10^4 and 10^6 replicates per n (runner.Run alone and `deltaprobe run`), then
-# the parts (sampling, transforms, accumulators, one replicate) with
-# -benchmem, then scripts/scale-bench.sh: peak memory, time and result.json
-# size of run, -resume, merge and report at 10^4, 10^6 and 10^8 replicates
-# per n on studies/fuel.toml (several minutes). All of it goes to
+# the parts (sampling, transforms, accumulators, one replicate, regression
+# fits) with -benchmem, then scripts/scale-bench.sh: peak memory, time and
+# result.json size of run, -resume, merge and report at 10^4, 10^6 and 10^8
+# replicates per n on studies/fuel.toml (several minutes). All of it goes to
 # bench.txt. The machine may be shared: read the medians, and the share of
 # CPU other processes took, which it prints.
 bench: build

@@ -66,3 +66,26 @@ func armSizesGlance(st study.Info, ns []int) []keyValue {
 	return []keyValue{{"Arm sizes", "n is the base size of each arm, which draws ceil(n × allocation) observations; the total N is their sum (n_total): " +
 		strings.Join(parts, "; ") + "."}}
 }
+
+// censoringText says, for each arm with censored lifetimes, how they are
+// censored and the share of observations expected to be events at the
+// truth: "control: all enter at 0, study ends at 2, expected share of
+// events 0.632"; empty when no arm is censored.
+func censoringText(st study.Info) string {
+	var parts []string
+	for a, arm := range st.Arms {
+		if arm.Censoring == nil {
+			continue
+		}
+		parts = append(parts, fmt.Sprintf("%s: %s; expected share of events %.3g", armLabel(st, a), arm.Censoring.Words(), arm.EventShare))
+	}
+	return strings.Join(parts, ". ")
+}
+
+// censoringNote is censoringText as a sentence for notes and subtitles.
+func censoringNote(st study.Info) string {
+	if t := censoringText(st); t != "" {
+		return "Censored lifetimes, " + t + "."
+	}
+	return ""
+}

@@ -345,6 +345,28 @@ func (a trendAxes) biasPanel(rows []measure.Row) (panel, error) {
 // binned KS distance errs low by about 0.002, so the line is a guide.
 const ksNoise = 1.3581
 
+// trendsSubtitle is transform t's trends figure's subtitle: the
+// replicates, level and interval, the verdict, what n stands for and the
+// censoring.
+func trendsSubtitle(r *runner.Result, t int, v measure.TransformVerdict) string {
+	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
+		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
+	if customRecipe(r.Study) {
+		sub = fmt.Sprintf("Delta method against %d simulated replicates per n; intervals at level %s: %s. %s",
+			r.Study.Replicates, fmtG(r.Study.Level), recipeWords(r.Study, t), verdictPhrase(v))
+	}
+	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
+		sub += " " + note
+	}
+	if short := fitShort(r.Study, t); short != "" {
+		sub += " " + short
+	}
+	if note := censoringNote(r.Study); note != "" {
+		sub += " " + note
+	}
+	return sub
+}
+
 func (a trendAxes) ksPanel(r *runner.Result, t int, rows []measure.Row) (panel, error) {
 	p := a.newPanel("KS distance")
 	legend := []legendItem{}
@@ -397,18 +419,7 @@ func trendsFigure(r *runner.Result, t int, rows []measure.Row, v measure.Transfo
 	}
 	info := r.Study.Transforms[t]
 	title := figureTitle(info, "")
-	sub := fmt.Sprintf("Delta method against %d simulated replicates per n; Wald intervals at level %s. %s",
-		r.Study.Replicates, fmtG(r.Study.Level), verdictPhrase(v))
-	if customRecipe(r.Study) {
-		sub = fmt.Sprintf("Delta method against %d simulated replicates per n; intervals at level %s: %s. %s",
-			r.Study.Replicates, fmtG(r.Study.Level), recipeWords(r.Study, t), verdictPhrase(v))
-	}
-	if note := armSizesNote(r.Study, exampleN(r.Study, v.SmallestN)); note != "" {
-		sub += " " + note
-	}
-	if short := fitShort(r.Study, t); short != "" {
-		sub += " " + short
-	}
+	sub := trendsSubtitle(r, t, v)
 	key := trendsKey(rows, v, measure.GridDecisions(r.Study))
 	if readsMisfit(r.Study, t) {
 		key = append(key, "The fit differs from the data model: truth is the transform at θ*, the pseudo-true parameter, and the delta method uses the sandwich variance at θ*.")

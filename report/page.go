@@ -185,7 +185,11 @@ func newStudyPage(st study.Info, tool string, build runner.Build, replicates boo
 	if p.Title == "" {
 		p.Title = st.File
 	}
-	p.Glance = append([]keyValue{{"Model", describeModel(st.Arms)}}, glance...)
+	p.Glance = []keyValue{{"Model", describeModel(st.Arms)}}
+	if c := censoringText(st); c != "" {
+		p.Glance = append(p.Glance, keyValue{"Censoring", c + ". The fit is the MLE under non-informative censoring, its variance the inverse observed information (the sandwich where variance = \"robust\"); the predictions use the expected information under this censoring."})
+	}
+	p.Glance = append(p.Glance, glance...)
 	if note := fitNote(st); note != "" {
 		p.Glance = append(p.Glance, keyValue{"Fit", note})
 	}
@@ -379,6 +383,9 @@ func describeModel(arms []study.ArmInfo) string {
 			vals[i] = k + " = " + strconv.FormatFloat(a.Values[k], 'g', -1, 64)
 		}
 		s := a.Family + " (" + strings.Join(vals, ", ") + ")"
+		if a.Design != "" {
+			s = regressionText(a)
+		}
 		if a.Fit != "" && a.Fit != a.Family {
 			s += ", fitted as " + a.Fit
 		}

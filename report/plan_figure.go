@@ -383,7 +383,11 @@ func planFigure(p *plan.Result, v planView, enc encodeFunc) ([]byte, int, int, e
 	body := panelGrid{panels: grid, colWeights: colW, rowWeights: rowWeights,
 		gapX: vg.Points(34), gapY: vg.Points(14), titleGap: vg.Points(8)}
 
-	head := wrappedHeading(figureTitle(v.info, " — search for the smallest adequate n"), planPhrase(v, spec)+" "+planCost(v, p))
+	sub := planPhrase(v, spec) + " " + planCost(v, p)
+	if note := censoringNote(s); note != "" {
+		sub += " " + note
+	}
+	head := wrappedHeading(figureTitle(v.info, " — search for the smallest adequate n"), sub)
 	legend := planLegend(v, spec, s.Level)
 	key := planKey(v, p, spec)
 

@@ -25,10 +25,11 @@ var update = flag.Bool("update", false, "re-run the stored studies in testdata a
 
 // storedRuns are the folders in testdata holding a run's result.json.
 var storedRuns = []string{
-	"run-small",  // three transforms, three n: names that meet once made safe, undefined replicates, one adequate at no n
-	"run-heavy",  // heavy tails over more n than the shapes figure shows
-	"run-one-n",  // a single sample size
-	"run-tested", // a t interval, the analyst's se and a null, decided by coverage and power
+	"run-small",    // three transforms, three n: names that meet once made safe, undefined replicates, one adequate at no n
+	"run-heavy",    // heavy tails over more n than the shapes figure shows
+	"run-one-n",    // a single sample size
+	"run-tested",   // a t interval, the analyst's se and a null, decided by coverage and power
+	"run-censored", // two arms of censored lifetimes, one with entry and dropout
 }
 
 // storedPlans are the folders in testdata holding a plan's plan.json, and

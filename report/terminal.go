@@ -190,6 +190,11 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	if note := armSizesNote(st, exampleN(st, 0)); note != "" {
 		wrap(w, "", note+" N: the total at each n.")
 	}
+	for _, a := range st.Arms {
+		if a.Design != "" {
+			wrap(w, "", regressionText(a)+".")
+		}
+	}
 	wrap(w, "", "width_delta: the width 2·q·delta_sd the delta method predicts for the interval, q "+quantileWords(st)+"."+
 		map[bool]string{true: " reject_delta: the rate at which that interval excludes the null when the transform is at its truth, Φ(−q − δ) + 1 − Φ(q − δ) with δ = (truth − null)/delta_sd.", false: ""}[tested])
 	if note := fitNote(st); note != "" {
@@ -197,6 +202,9 @@ func PredictTable(w io.Writer, r *runner.Result) {
 	}
 	if biasNotAvailable(r) {
 		wrap(w, "", "bias_2nd empty: not available, the O(1/n) bias of an estimate the transform reads is not derived for this fit.")
+	}
+	if note := censoringNote(st); note != "" {
+		wrap(w, "", note+" delta_var uses the expected information under this censoring.")
 	}
 }
 

@@ -18,6 +18,7 @@ import (
 	"deltaprobe/report"
 	"deltaprobe/sim/family"
 	"deltaprobe/sim/plan"
+	"deltaprobe/sim/regress"
 	"deltaprobe/sim/runner"
 	"deltaprobe/sim/study"
 )
@@ -547,9 +548,32 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 		if f.Robust() {
 			variances += ", robust (sandwich)"
 		}
-		fmt.Fprintf(stdout, "    variance:  %s\n\n", variances)
+		fmt.Fprintf(stdout, "    variance:  %s\n", variances)
+		if f.Censor != nil {
+			fmt.Fprintf(stdout, "    censoring: [model.censoring] or [arm.censoring]: entry (uniform entry over [0, entry]),\n")
+			fmt.Fprintf(stdout, "               end (calendar end of study), dropout_rate (exponential loss to follow-up)\n")
+			fmt.Fprintf(stdout, "               %s\n", f.CensoredEstimator)
+		}
+		fmt.Fprintln(stdout)
 	}
 	fmt.Fprintln(stdout, "A study draws from family and fits fit (default: the same family); θ holds the fitted family's estimates.")
+	fmt.Fprintln(stdout)
+	fmt.Fprintln(stdout, "Regression families, in [model] with [[model.covariate]] tables (distribution = levels, bernoulli, normal, uniform, or expr = ... derived from covariates above), or as [[model.equation]] tables of a chain (parameters then OUTCOME.COEF); n counts rows:")
+	fmt.Fprintln(stdout)
+	for _, f := range regress.Families {
+		fmt.Fprintf(stdout, "%s — %s\n", f.Name, f.Summary)
+		fmt.Fprintf(stdout, "    %-12s %s\n", "coefficients", "a table of numbers: intercept (required) and one per covariate or earlier outcome")
+		if f.Kind == regress.Linear {
+			fmt.Fprintf(stdout, "    %-12s %s\n", "sd", "a number > 0, the error sd")
+		}
+		est := "intercept, each coefficient"
+		if f.Kind == regress.Linear {
+			est += ", sd"
+		}
+		fmt.Fprintf(stdout, "    estimates: %s\n", est)
+		fmt.Fprintf(stdout, "    estimator: %s\n", f.Estimator)
+		fmt.Fprintf(stdout, "    variance:  model (inverse information), robust (HC0 sandwich; a chain's of its stacked estimating equations)\n\n")
+	}
 	return exitOK
 }
 

@@ -54,9 +54,20 @@ func (e *Evaluator) badLength(what string, got int) {
 // Value returns τ(x) without derivatives. It allocates nothing.
 func (e *Evaluator) Value(x []float64) float64 {
 	e.checkLength("x", len(x))
-	val := e.val
-	for i := range e.prog.code {
-		in := &e.prog.code[i]
+	return e.prog.ValueWith(x, e.val)
+}
+
+// Slots is the length of the scratch ValueWith needs.
+func (p *Program) Slots() int { return p.slots }
+
+// ValueWith returns τ(x) without derivatives, using scratch (at least
+// Slots() long) in place of an Evaluator's: for callers that keep their
+// scratch inside a buffer of their own, such as a sampler's per-worker
+// sample. It reads the first Dim() entries of x. It allocates nothing.
+func (p *Program) ValueWith(x, scratch []float64) float64 {
+	val := scratch[:p.slots]
+	for i := range p.code {
+		in := &p.code[i]
 		d := int(in.dst)
 		switch in.op {
 		case opConst:

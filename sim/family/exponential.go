@@ -19,8 +19,10 @@ func init() {
 		},
 		New: func(v map[string]float64) (Model, error) {
 			m := &exponentialModel{rate: v["rate"]}
-			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m}, nil
+			return Model{Truth: []float64{m.rate}, Sampler: m, Estimator: m, Asymptotics: m, EventShare: 1}, nil
 		},
+		Censor:            newCensoredExponential,
+		CensoredEstimator: "censored MLE: events / total time at risk, variance 1/observed information or the sandwich; undefined without events",
 	})
 }
 
@@ -39,6 +41,12 @@ func (*exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	}
 	s.N, s.Data[0] = n, sum
 }
+
+// Events: every lifetime is seen.
+func (*exponentialModel) Events(s *Sample) int { return s.N }
+
+// MinEvents: one event gives the rate a value.
+func (*exponentialModel) MinEvents() int { return 1 }
 
 func (m *exponentialModel) NewFitter(int) Fitter { return m }
 

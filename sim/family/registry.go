@@ -111,6 +111,21 @@ type Model struct {
 	Sampler     Sampler
 	Estimator   Estimator
 	Asymptotics Asymptotics
+	// EventShare is, for a lifetime family, the expected share of
+	// observations that are events (not censored) at the truth: 1
+	// without censoring. 0 for a family without lifetimes.
+	EventShare float64
+}
+
+// EventCounter is implemented by the samplers of lifetime families: how
+// many of a sample's observations are events, the rest being censored.
+// The runner reports the share (summary.csv's events) and names a
+// replicate with no events as the reason it is undefined.
+type EventCounter interface {
+	Events(s *Sample) int
+	// MinEvents is the fewest events with which the fit can have a
+	// value; fewer is the reason a replicate is undefined.
+	MinEvents() int
 }
 
 // ParamSpec describes one parameter a family takes in the study file.
@@ -140,6 +155,13 @@ type Family struct {
 	// ParamSpec.Name: the family's data fitted by its own estimator with
 	// the model-based variance. Nil for a data-only family.
 	New func(values map[string]float64) (Model, error)
+	// Censor builds the model of right-censored lifetimes under c, fitted
+	// by the MLE under non-informative censoring with variance v; nil for a family that
+	// is not a lifetime family.
+	Censor func(values map[string]float64, c Censoring, v Variance) (Model, error)
+	// CensoredEstimator is one line on the censored fit, for families
+	// with Censor.
+	CensoredEstimator string
 	// Support is the set of values one observation takes.
 	Support Support
 	// DataOnly says the family can be drawn from but not fitted (its

@@ -20,6 +20,9 @@ type StatisticsSampler interface {
 // otherwise (a sampler whose fitter needs the observations).
 func Statistics(s Sampler) Sampler {
 	if ss, ok := s.(StatisticsSampler); ok {
+		if ec, counts := s.(EventCounter); counts {
+			return countedStatisticsDraws{statisticsDraws{ss}, ec}
+		}
 		return statisticsDraws{ss}
 	}
 	return s
@@ -34,8 +37,11 @@ func HasStatistics(s Sampler) bool {
 // DrawsStatistics reports whether s is a sampler made by Statistics that
 // draws statistics directly.
 func DrawsStatistics(s Sampler) bool {
-	_, ok := s.(statisticsDraws)
-	return ok
+	switch s.(type) {
+	case statisticsDraws, countedStatisticsDraws:
+		return true
+	}
+	return false
 }
 
 type statisticsDraws struct{ s StatisticsSampler }
@@ -43,6 +49,15 @@ type statisticsDraws struct{ s StatisticsSampler }
 func (d statisticsDraws) SampleLen(n int) int { return d.s.SampleLen(n) }
 
 func (d statisticsDraws) Draw(rng *rand.Rand, n int, s *Sample) { d.s.DrawStatistics(rng, n, s) }
+
+// countedStatisticsDraws keeps a lifetime sampler's EventCounter (the
+// uncensored exponential: every observation an event) when its
+// statistics are drawn directly. Censored samplers draw unit by unit and
+// have no StatisticsSampler, so they are never wrapped.
+type countedStatisticsDraws struct {
+	statisticsDraws
+	EventCounter
+}
 
 // stdGamma draws one Gamma(shape, 1) variate, shape > 0, by Marsaglia &
 // Tsang (gammaGen), its constants set up for this shape.

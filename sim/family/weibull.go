@@ -21,7 +21,9 @@ func init() {
 			l := &weibullLaw{shape: v["shape"], scale: v["scale"]}
 			return newWeibullFit(l, l.shape, l.scale, false), nil
 		},
-		law: func(v map[string]float64) (law, error) { return &weibullLaw{shape: v["shape"], scale: v["scale"]}, nil },
+		law:               func(v map[string]float64) (law, error) { return &weibullLaw{shape: v["shape"], scale: v["scale"]}, nil },
+		Censor:            newCensoredWeibull,
+		CensoredEstimator: "censored MLE: safeguarded Newton on the shape's profile score, variance 1/observed information or the sandwich; bias not derived; undefined with fewer than two distinct event times",
 		fitsData: func(d *Family) bool {
 			switch d.Name {
 			case "weibull", "exponential", "gamma", "lognormal":

@@ -166,6 +166,16 @@ var (
 			}
 			return RejectRate(c.Quantile, (c.Pred.Truth-c.Null)/c.SDDelta)
 		}})
+	// events is the mean share of observations that were events (not
+	// censored), over the replicates and the lifetime arms the transform
+	// reads; empty when it reads none.
+	Events = define(Measure{Name: "events", Group: Counts,
+		Value: func(c *Cell, _ *Row) float64 {
+			if c.Cell.Lifetimes == 0 {
+				return nan
+			}
+			return float64(c.Cell.Events) / float64(c.Cell.Lifetimes)
+		}})
 	// The plug-in ratio's MCSE takes plugin_var as known: its own Monte
 	// Carlo error is smaller than emp_var's by about √n (common practice).
 	PluginRatioMCSE = define(Measure{Name: "plugin_ratio_mcse", Group: Internal,
@@ -181,6 +191,8 @@ var (
 		Value: func(c *Cell, r *Row) float64 { return ifDefined(c, 2, c.PluginOther/r.Get(EmpVar)) }})
 	FitFailures = define(Measure{Name: "fit_failures", Group: Internal, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.FitFailures) }})
+	NoEvents = define(Measure{Name: "no_events", Group: Internal, Count: true,
+		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.NoEvents) }})
 	ZeroSE = define(Measure{Name: "zero_se", Group: Internal, Count: true,
 		Value: func(c *Cell, _ *Row) float64 { return float64(c.Cell.ZeroSE) }})
 )

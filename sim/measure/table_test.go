@@ -25,11 +25,11 @@ func TestTableOrder(t *testing.T) {
 		"var_ratio", "var_ratio_mcse", "plugin_var", "plugin_ratio", "coverage",
 		"coverage_mcse", "miss_below", "miss_above", "iqr_sd", "skewness",
 		"ex_kurtosis", "ks_pivot", "coverage_defined", "width", "width_delta",
-		"null", "reject", "reject_mcse", "reject_delta"}
+		"null", "reject", "reject_mcse", "reject_delta", "events"}
 	if !slices.Equal(columns, want) {
 		t.Errorf("summary measures\n%q\nwant\n%q", columns, want)
 	}
-	if want := []string{"std_bias_mcse", "plugin_ratio_mcse", "plugin_other_ratio", "fit_failures", "zero_se"}; !slices.Equal(internal, want) {
+	if want := []string{"std_bias_mcse", "plugin_ratio_mcse", "plugin_other_ratio", "fit_failures", "no_events", "zero_se"}; !slices.Equal(internal, want) {
 		t.Errorf("internal measures %q, want %q", internal, want)
 	}
 	var names []string

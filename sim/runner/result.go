@@ -8,6 +8,7 @@ import (
 	"strconv"
 	"strings"
 
+	"deltaprobe/sim/family"
 	"deltaprobe/sim/study"
 )
 
@@ -51,24 +52,69 @@ type Cell struct {
 // add exactly, in any order.
 type Counts struct {
 	Replicates  int64 `json:"replicates"`
-	Undefined   int64 `json:"undefined"`    // τ̂ or its standard error not finite, or no fit
-	FitFailures int64 `json:"fit_failures"` // of which: the estimator had no value
-	ZeroSE      int64 `json:"zero_se"`      // defined, but the plug-in standard error was 0
-	Covered     int64 `json:"covered"`
-	MissBelow   int64 `json:"miss_below"`         // interval wholly below the truth
-	MissAbove   int64 `json:"miss_above"`         // interval wholly above the truth
-	Rejected    int64 `json:"rejected,omitempty"` // interval excludes the transform's null
+	Undefined   int64 `json:"undefined"`           // τ̂ or its standard error not finite, or no fit
+	FitFailures int64 `json:"fit_failures"`        // of which: the estimator had no value
+	NoEvents    int64 `json:"no_events,omitempty"` // of which: an arm's lifetimes had too few events
+	// Of the fit failures, those whose cause the fitter named (the rest
+	// did not converge); left out of result.json when 0, as for families
+	// whose fits cannot fail.
+	Separation     int64 `json:"separation,omitempty"`
+	ZeroCounts     int64 `json:"zero_counts,omitempty"`
+	SingularDesign int64 `json:"singular_design,omitempty"`
+	// Events and Lifetimes count, over the replicates and the lifetime
+	// arms the transform reads, the observations that were events and
+	// all observations: summary.csv's events is their ratio.
+	Events    int64 `json:"events,omitempty"`
+	Lifetimes int64 `json:"lifetimes,omitempty"`
+	ZeroSE    int64 `json:"zero_se"` // defined, but the plug-in standard error was 0
+	Covered   int64 `json:"covered"`
+	MissBelow int64 `json:"miss_below"`         // interval wholly below the truth
+	MissAbove int64 `json:"miss_above"`         // interval wholly above the truth
+	Rejected  int64 `json:"rejected,omitempty"` // interval excludes the transform's null
 }
 
 func (c *Counts) add(o Counts) {
 	c.Replicates += o.Replicates
 	c.Undefined += o.Undefined
 	c.FitFailures += o.FitFailures
+	c.Separation += o.Separation
+	c.ZeroCounts += o.ZeroCounts
+	c.SingularDesign += o.SingularDesign
+	c.NoEvents += o.NoEvents
+	c.Events += o.Events
+	c.Lifetimes += o.Lifetimes
 	c.ZeroSE += o.ZeroSE
 	c.Covered += o.Covered
 	c.MissBelow += o.MissBelow
 	c.MissAbove += o.MissAbove
 	c.Rejected += o.Rejected
+}
+
+// Failed is the number of fit failures with cause f.
+func (c *Counts) Failed(f family.Failure) int64 {
+	switch f {
+	case family.Separation:
+		return c.Separation
+	case family.ZeroCounts:
+		return c.ZeroCounts
+	case family.Singular:
+		return c.SingularDesign
+	}
+	return c.FitFailures - c.Separation - c.ZeroCounts - c.SingularDesign
+}
+
+// failed counts one fit failure with cause f.
+func (c *Counts) failed(f family.Failure) {
+	c.Undefined++
+	c.FitFailures++
+	switch f {
+	case family.Separation:
+		c.Separation++
+	case family.ZeroCounts:
+		c.ZeroCounts++
+	case family.Singular:
+		c.SingularDesign++
+	}
 }
 
 // Merged is a cell's floating-point state folded over its nodes.

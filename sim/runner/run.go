@@ -316,10 +316,13 @@ type worker struct {
 	sized   []float64 // θ̂ then the sizes (study.SizeNames): what se expressions read
 	armN    []float64 // per arm: the observations its covariance is divided by
 	grad    []float64
-	covs    [][]float64     // per arm: the plug-in covariance of its θ̂
-	samples []family.Sample // per arm: the latest draw, read by its fitter
-	fitters []family.Fitter // per arm: this worker's own, with any buffers its fit keeps
-	dims    []int           // parameters per arm
+	covs    [][]float64              // per arm: the plug-in covariance of its θ̂
+	samples []family.Sample          // per arm: the latest draw, read by its fitter
+	fitters []family.Fitter          // per arm: this worker's own, with any buffers its fit keeps
+	causes  []family.FailureReporter // per arm: the fitter, when it names its failures; else nil
+	counter []family.EventCounter    // per arm: nil unless it draws lifetimes
+	events  []int                    // per arm: the latest draw's events
+	dims    []int                    // parameters per arm
 	sizes   []int
 	evals   []*expr.Evaluator
 	seEvals []*expr.Evaluator      // per transform: the analyst's se, or nil
@@ -385,6 +388,8 @@ func newWorker(s *study.Study, res *Result) *worker {
 		}
 		f := a.Model.Estimator.NewFitter(maxN)
 		w.fitters = append(w.fitters, f)
+		r, _ := f.(family.FailureReporter)
+		w.causes = append(w.causes, r)
 		// The other variance, beside the one the intervals use, wherever
 		// the fit offers both (the fits that take variance = "robust").
 		ov, _ := f.(family.OtherVariance)
@@ -393,6 +398,8 @@ func newWorker(s *study.Study, res *Result) *worker {
 		}
 		w.others = append(w.others, ov)
 		floats += k * k
+		counter, _ := a.Model.Sampler.(family.EventCounter)
+		w.counter = append(w.counter, counter)
 		hc, _ := a.Model.Estimator.(family.HalfCorrector)
 		w.halves = append(w.halves, hc)
 		floats += k*k + sampleLens[ai]
@@ -412,6 +419,7 @@ func newWorker(s *study.Study, res *Result) *worker {
 	}
 	w.otherOK = padded[bool](len(s.Arms))
 	w.samples = padded[family.Sample](len(s.Arms))
+	w.events = padded[int](len(s.Arms))
 	w.failed = padded[bool](len(s.Arms))
 	for ai, l := range sampleLens {
 		w.samples[ai].Data = buf[:l:l]
@@ -522,6 +530,11 @@ func (w *worker) replicate() {
 			anyFailed = anyFailed || w.failed[a]
 		}
 	}
+	for a := range s.Arms {
+		if w.counter[a] != nil {
+			w.events[a] = w.counter[a].Events(&w.samples[a])
+		}
+	}
 	for a, ov := range w.others {
 		if ov != nil {
 			w.otherOK[a] = !w.failed[a] && ov.OtherCov(w.otherCovs[a])
@@ -531,11 +544,21 @@ func (w *worker) replicate() {
 		acc := &w.accs[t]
 		w.stage = len(s.Arms) + t
 		use := w.useArm[t]
+		for a := range s.Arms {
+			if use[a] && w.counter[a] != nil {
+				acc.Events += int64(w.events[a])
+				acc.Lifetimes += int64(w.sizes[a])
+			}
+		}
 		if anyFailed && w.readsFailed(use) {
 			// A transform is undefined when an arm it reads has no fit;
 			// arms it does not read leave it alone.
-			acc.Undefined++
-			acc.FitFailures++
+			if w.noEvents(use) {
+				acc.Undefined++
+				acc.NoEvents++
+			} else {
+				acc.failed(w.causeOf(use))
+			}
 			continue
 		}
 		v := w.evals[t].ValueGrad(w.theta, w.grad)
@@ -608,6 +631,32 @@ func (w *worker) drawAndFitHalf() (anyFailed bool) {
 		anyFailed = anyFailed || w.failed[a]
 	}
 	return anyFailed
+}
+
+// causeOf is why the first arm a transform reads whose fit failed in
+// this replicate had no estimate: what its fitter names, else
+// not_converged.
+func (w *worker) causeOf(use []bool) family.Failure {
+	for a, f := range w.failed {
+		if f && use[a] && w.causes[a] != nil {
+			return w.causes[a].LastFailure()
+		}
+		if f && use[a] {
+			return family.NotConverged
+		}
+	}
+	return family.NotConverged
+}
+
+// noEvents reports whether an arm in use whose fit failed had fewer
+// events than its fit needs: the reason the replicate is undefined.
+func (w *worker) noEvents(use []bool) bool {
+	for a, f := range w.failed {
+		if f && use[a] && w.counter[a] != nil && w.events[a] < w.counter[a].MinEvents() {
+			return true
+		}
+	}
+	return false
 }
 
 // readsFailed reports whether a transform reading the arms in use reads

@@ -342,7 +342,12 @@ func BenchmarkMisfitReplicate(b *testing.B) {
 // change once handed over. The last run's result is the same bits as a
 // run without checkpoints.
 func TestCheckpointsAreCopies(t *testing.T) {
-	s := studytest.Parse(t, strings.Replace(twoArmStudy, "replicates = 2500", "replicates = 9000", 1))
+	// Drawing every observation makes blocks slow enough for several
+	// checkpoints; how many there are depends on timing, so the test asks
+	// for one at least and checks the order of whatever number it gets.
+	src := strings.Replace(twoArmStudy, "replicates = 2500", "replicates = 9000", 1)
+	src = strings.ReplaceAll(src, "family = \"normal\"", "family = \"normal\"\ndraws = \"each\"")
+	s := studytest.Parse(t, src)
 	var saved []*Result
 	var encoded [][]byte
 	opt := Options{Workers: 2, CheckpointEvery: 0, Checkpoint: func(r *Result) error {
@@ -357,9 +362,10 @@ func TestCheckpointsAreCopies(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(saved) < 2 {
-		t.Fatalf("%d checkpoints for %d blocks", len(saved), 2*Blocks(9000))
+	if len(saved) == 0 {
+		t.Fatalf("no checkpoint for %d blocks", 2*Blocks(9000))
 	}
+	t.Logf("%d checkpoints for %d blocks", len(saved), 2*Blocks(9000))
 	held := -1
 	for i, r := range saved {
 		if again, _ := json.Marshal(r); !bytes.Equal(again, encoded[i]) {
@@ -386,5 +392,46 @@ func TestCheckpointsAreCopies(t *testing.T) {
 				t.Errorf("transform %d, n index %d: checkpointed run differs from a plain one", tr, ni)
 			}
 		}
+	}
+}
+
+// A replicate of censored arms (exponential and Weibull, model and
+// robust variances, entry, end and dropout) allocates nothing either.
+func TestCensoredReplicateAllocatesNothing(t *testing.T) {
+	s := studytest.Parse(t, `seed = 1
+replicates = 1000
+sample_sizes = [50]
+[[arm]]
+name = "a"
+family = "exponential"
+rate = 0.3
+[arm.censoring]
+entry = 2
+end = 5
+dropout_rate = 0.05
+[[arm]]
+name = "b"
+family = "exponential"
+rate = 0.3
+variance = "robust"
+[arm.censoring]
+end = 4
+[[arm]]
+name = "c"
+family = "weibull"
+shape = 1.5
+scale = 4
+variance = "robust"
+[arm.censoring]
+entry = 2
+end = 6
+[[transform]]
+name = "t"
+expr = "log(a.rate / b.rate) + c.shape"
+`)
+	w := newWorker(s, NewResult(s))
+	w.runBlock(job{ni: 0, block: 0, count: 10})
+	if allocs := testing.AllocsPerRun(200, w.replicate); allocs != 0 {
+		t.Errorf("a replicate allocates %v times, want 0", allocs)
 	}
 }

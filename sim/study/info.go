@@ -37,6 +37,9 @@ type ArmInfo struct {
 	Family     string             `json:"family"`
 	Values     map[string]float64 `json:"values"`
 	Allocation float64            `json:"allocation"`
+	// Design describes a regression model's covariates and equations in
+	// words; empty for the other families.
+	Design string `json:"design,omitempty"`
 	// Fit is the fitted family when it is not Family; Variance is
 	// "robust" when the file asks for it. Both are left out otherwise, so
 	// a study without them records what it did before the keys existed.
@@ -45,6 +48,10 @@ type ArmInfo struct {
 	// PseudoTrue is θ*, the fitted family's parameters closest to the
 	// data law, by name; only when Fit differs from Family.
 	PseudoTrue map[string]float64 `json:"pseudo_true,omitempty"`
+	// Censoring and EventShare (the expected share of events at the
+	// truth) are set for an arm with censored lifetimes.
+	Censoring  *family.Censoring `json:"censoring,omitempty"`
+	EventShare float64           `json:"event_share,omitempty"`
 }
 
 // FitFamily is the family the arm fits.
@@ -98,6 +105,9 @@ func (s *Study) Info() Info {
 	}
 	for _, a := range s.Arms {
 		ai := ArmInfo{Name: a.Name, Family: a.Family, Values: a.Values, Allocation: a.Allocation, Fit: a.Fit}
+		if a.Regression != nil {
+			ai.Design = a.Regression.Describe()
+		}
 		if a.Variance == family.RobustVariance {
 			ai.Variance = "robust"
 		}
@@ -106,6 +116,10 @@ func (s *Study) Info() Info {
 			for i, name := range a.Estimates() {
 				ai.PseudoTrue[name] = a.Model.Truth[i]
 			}
+		}
+		if a.Censoring != nil {
+			c := *a.Censoring
+			ai.Censoring, ai.EventShare = &c, a.Model.EventShare
 		}
 		info.Arms = append(info.Arms, ai)
 	}
@@ -160,6 +174,9 @@ func (i Info) PerArm() bool {
 // Discrete reports whether any arm draws discrete data (counts).
 func (s *Study) Discrete() bool {
 	for _, a := range s.Arms {
+		if a.Regression != nil && a.Regression.Design.Discrete() {
+			return true
+		}
 		if f, ok := family.Lookup(a.Family); ok && f.Discrete {
 			return true
 		}

@@ -44,6 +44,10 @@ func scanKeyLines(src []byte) keyLines {
 			continue
 		case strings.HasPrefix(text, "["):
 			table = headerName(text, "[", "]")
+			// [arm.censoring] belongs to the latest [[arm]].
+			if head, rest, dotted := strings.Cut(table, "."); dotted && counts[head] > 0 {
+				table = fmt.Sprintf("%s[%d].%s", head, counts[head]-1, rest)
+			}
 			lines[table] = n
 			continue
 		}

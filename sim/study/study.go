@@ -17,6 +17,7 @@ import (
 
 	"deltaprobe/sim/expr"
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/regress"
 )
 
 // Limits on what a study may ask for; beyond them a typo is more likely
@@ -105,8 +106,15 @@ type Arm struct {
 	Fit        string
 	Variance   family.Variance // the plug-in variance: model-based unless variance = "robust"
 	Allocation float64         // arm size = ceil(n × Allocation)
-	Model      family.Model    // the family at Values with its estimator
-	Offset     int             // index of the arm's first parameter in θ
+	// Censoring is the arm's [model.censoring] or [arm.censoring] table;
+	// nil when lifetimes are seen whole.
+	Censoring *family.Censoring
+	Model     family.Model // the family at Values with its estimator
+	Offset    int          // index of the arm's first parameter in θ
+	// Regression is the design of a regression [model], nil otherwise;
+	// Names are then its parameters' names (Values holds their truth).
+	Regression *regress.Model
+	Names      []string
 	// Draws is how a replicate's sample is drawn: DrawsStatistics (the
 	// default) draws the sufficient statistics from their exact joint
 	// law where the family can, DrawsEach every observation.
@@ -215,6 +223,9 @@ func (s *Study) ParamNames() []string {
 // Estimates names the arm's estimated parameters, in the order of its
 // part of θ: its fitted family's Estimates.
 func (a *Arm) Estimates() []string {
+	if a.Regression != nil {
+		return a.Names
+	}
 	f, ok := family.Lookup(a.FitFamily())
 	if !ok {
 		panic("study: an arm fitting the unregistered family " + a.FitFamily())
@@ -540,7 +551,12 @@ func (d *decoder) arms(raw map[string]any, s *Study) {
 			d.fail("model", "model must be a table ([model]), got %s", typeName(modelRaw))
 			return
 		}
-		if a, ok := d.arm("model", m, false); ok {
+		if isRegression(m) {
+			a := Arm{Allocation: 1, Values: map[string]float64{}}
+			if d.regression("model", m, &a) {
+				s.Arms = []Arm{a}
+			}
+		} else if a, ok := d.arm("model", m, false, smallestN(s)); ok {
 			s.Arms = []Arm{a}
 		}
 	default:
@@ -556,7 +572,7 @@ func (d *decoder) arms(raw map[string]any, s *Study) {
 		seen := map[string]bool{}
 		for i, m := range list {
 			table := fmt.Sprintf("arm[%d]", i)
-			a, ok := d.arm(table, m, true)
+			a, ok := d.arm(table, m, true, smallestN(s))
 			if !ok {
 				continue
 			}
@@ -578,7 +594,19 @@ func (d *decoder) arms(raw map[string]any, s *Study) {
 	}
 }
 
-func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
+// smallestN is the smallest n the study will draw at: the grid's first,
+// else the plan's n_min; 0 when neither is known (already an error).
+func smallestN(s *Study) int {
+	switch {
+	case len(s.SampleSizes) > 0:
+		return s.SampleSizes[0]
+	case s.Plan != nil:
+		return s.Plan.NMin
+	}
+	return 0
+}
+
+func (d *decoder) arm(table string, m map[string]any, named bool, smallest int) (Arm, bool) {
 	a := Arm{Allocation: 1, Values: map[string]float64{}}
 	ok := true
 	label := "[model]"
@@ -605,9 +633,13 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 			}
 		}
 	}
+	if named && isRegression(m) {
+		d.fail(table, "regression models (%s, [[model.equation]]) go in [model], not in [[arm]] tables", strings.Join(regress.Names(), ", "))
+		return a, false
+	}
 	famRaw, given := m["family"]
 	if !given {
-		d.fail(table, "%s has no family: add family = \"...\"; accepted: %s", label, strings.Join(family.Names(), ", "))
+		d.fail(table, "%s has no family: add family = \"...\"; accepted: %s", label, strings.Join(append(family.Names(), regress.Names()...), ", "))
 		return a, false
 	}
 	famName, isStr := famRaw.(string)
@@ -617,7 +649,7 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 	}
 	fam, known := family.Lookup(famName)
 	if !known {
-		d.fail(join(table, "family"), "unknown family %q%s", famName, didYouMean(famName, family.Names()))
+		d.fail(join(table, "family"), "unknown family %q%s", famName, didYouMean(famName, append(family.Names(), regress.Names()...)))
 		return a, false
 	}
 	a.Family = famName
@@ -637,7 +669,19 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 		paramNames = append(paramNames, p.Name)
 	}
 	accepted = append(accepted, paramNames...)
+	if _, given := m["censoring"]; given || fam.Censor != nil {
+		accepted = append(accepted, "censoring")
+	}
 	d.unknownKeysAt(table, "for the "+fam.Name+" family", m, accepted)
+	if _, given := m["censoring"]; given && fam.Censor == nil {
+		d.fail(join(table, "censoring"), "censoring is for lifetimes: the %s family has none; families with censoring: %s", fam.Name, strings.Join(censorableFamilies(), ", "))
+		ok = false
+	}
+	if raw, given := m["censoring"]; given && fam.Censor != nil {
+		c, good := d.censoring(table, label, raw)
+		ok = ok && good
+		a.Censoring = c
+	}
 	for _, p := range fam.Params {
 		if _, present := m[p.Name]; !present {
 			d.fail(table, "%s family %s needs %s (%s); its parameters are %s", label, fam.Name, p.Name, p.Accepts, strings.Join(paramNames, ", "))
@@ -663,7 +707,17 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 		a.Fit = fit.Name
 	}
 	a.Variance = variance
-	model, err := family.Build(fam, a.Values, fit, variance)
+	var model family.Model
+	var err error
+	switch {
+	case a.Censoring != nil && fit != fam:
+		d.fail(join(table, "fit"), "%s: fit = %q with censoring is not offered: censored lifetimes are fitted by their own family's censored likelihood; leave fit out (or give fit = %q)", label, fit.Name, fam.Name)
+		return a, false
+	case a.Censoring != nil:
+		model, err = fam.Censor(a.Values, *a.Censoring, variance)
+	default:
+		model, err = family.Build(fam, a.Values, fit, variance)
+	}
 	if err != nil {
 		path := table
 		if _, given := m["fit"]; given {
@@ -678,7 +732,98 @@ func (d *decoder) arm(table string, m map[string]any, named bool) (Arm, bool) {
 		model.Sampler = family.Statistics(model.Sampler)
 	}
 	a.Model = model
+	if a.Censoring != nil && smallest > 0 {
+		size := armSize(a.Allocation, smallest)
+		need := 1
+		if c, ok := model.Sampler.(family.EventCounter); ok {
+			need = c.MinEvents()
+		}
+		if expected := float64(size) * model.EventShare; expected < float64(need) {
+			who := "the sample"
+			if a.Name != "" {
+				who = "arm " + a.Name
+			}
+			d.fail(join(table, "censoring"), "[%s.censoring]: at the smallest n, %d, %s draws %d observations and expects %d × %.3g = %.3g events (%.3g the probability of an event at the truth, with %s); an estimate needs at least %s: give a later end, less dropout or larger sample sizes",
+				strings.Trim(label, "[]"), smallest, who, size, size, model.EventShare, expected, model.EventShare, a.Censoring.Words(), map[bool]string{true: "one", false: "two"}[need == 1])
+			return a, false
+		}
+	}
 	return a, true
+}
+
+// censorableFamilies names the families whose lifetimes can be censored.
+func censorableFamilies() []string {
+	var names []string
+	for _, f := range family.All() {
+		if f.Censor != nil {
+			names = append(names, f.Name)
+		}
+	}
+	return names
+}
+
+var censoringKeys = []string{"entry", "end", "dropout_rate"}
+
+// censoring reads an arm's censoring sub-table: each number positive,
+// at least one of end and dropout_rate, entry only with an end and
+// before it.
+func (d *decoder) censoring(table, label string, raw any) (*family.Censoring, bool) {
+	path := join(table, "censoring")
+	sub := strings.Trim(label, "[]") + ".censoring"
+	m, isTable := raw.(map[string]any)
+	if !isTable {
+		d.fail(path, "censoring must be a table ([%s]) with entry, end and dropout_rate, got %s", sub, typeName(raw))
+		return nil, false
+	}
+	d.unknownKeysAt(path, "in ["+sub+"]", m, censoringKeys)
+	c := &family.Censoring{}
+	ok := true
+	for _, k := range censoringKeys {
+		v, given := d.number(m, path, k)
+		if !given {
+			if _, present := m[k]; present {
+				ok = false
+			}
+			continue
+		}
+		if !(v > 0) {
+			d.fail(join(path, k), "%s = %v is out of range: %s", k, v, censoringAccepts[k])
+			ok = false
+			continue
+		}
+		switch k {
+		case "entry":
+			c.Entry = v
+		case "end":
+			c.End = v
+		case "dropout_rate":
+			c.DropoutRate = v
+		}
+	}
+	if !ok {
+		return nil, false
+	}
+	_, hasEnd := m["end"]
+	_, hasDropout := m["dropout_rate"]
+	_, hasEntry := m["entry"]
+	switch {
+	case !hasEnd && !hasDropout:
+		d.fail(path, "[%s] censors nothing: give end (the calendar time the study ends) or dropout_rate (the rate of loss to follow-up), or both", sub)
+		return nil, false
+	case hasEntry && !hasEnd:
+		d.fail(join(path, "entry"), "entry = %v needs end: staggered entry censors only when the study ends at a fixed calendar time", c.Entry)
+		return nil, false
+	case hasEntry && !(c.Entry < c.End):
+		d.fail(join(path, "entry"), "entry = %v must be less than end = %v: a unit entering at the end would be followed for no time", c.Entry, c.End)
+		return nil, false
+	}
+	return c, true
+}
+
+var censoringAccepts = map[string]string{
+	"entry":        "the length of the entry period must be > 0 (leave it out when every unit enters at time 0)",
+	"end":          "the calendar time the study ends must be > 0",
+	"dropout_rate": "the rate of loss to follow-up must be > 0 (leave it out for none)",
 }
 
 // variantText shows a value given for a word key: quoted when it is a
