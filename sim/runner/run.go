@@ -203,6 +203,11 @@ func RunBlocks(ctx context.Context, s *study.Study, res *Result, want func(ni, b
 	if firstErr != nil {
 		return firstErr
 	}
+	if res.Complete {
+		// Every block finished: a cancellation that came after the last
+		// one changes nothing, and the run is not reported interrupted.
+		return nil
+	}
 	return ctx.Err()
 }
 
