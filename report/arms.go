@@ -98,10 +98,19 @@ func censoredMisfit(st study.Info) bool {
 // another family the sandwich at θ* with expectations under the data law
 // and the censoring.
 func censoredPredictionWords(st study.Info) string {
-	if censoredMisfit(st) {
-		return "the expected information under this censoring (for a fit of another family, the sandwich at θ* with expectations under the data law and this censoring)"
+	own := false
+	for _, arm := range st.Arms {
+		if arm.Censoring != nil && (arm.Fit == "" || arm.Fit == arm.Family) {
+			own = true
+		}
 	}
-	return "the expected information under this censoring"
+	switch {
+	case !censoredMisfit(st):
+		return "the expected information under this censoring"
+	case !own:
+		return "the sandwich at θ* with expectations under the data law and this censoring"
+	}
+	return "the expected information under this censoring (for a fit of another family, the sandwich at θ* with expectations under the data law and this censoring)"
 }
 
 // censoringNote is censoringText as a sentence for notes and subtitles.

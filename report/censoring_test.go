@@ -79,7 +79,11 @@ func TestCensoredMisfitWords(t *testing.T) {
 	if got := censoredPredictionWords(own); got != "the expected information under this censoring" {
 		t.Errorf("own fit: %q", got)
 	}
-	if got := censoredPredictionWords(other); !strings.Contains(got, "the sandwich at θ* with expectations under the data law and this censoring") {
+	if got := censoredPredictionWords(other); got != "the sandwich at θ* with expectations under the data law and this censoring" {
 		t.Errorf("other family's fit: %q", got)
+	}
+	both := study.Info{Arms: append(append([]study.ArmInfo(nil), own.Arms...), other.Arms...)}
+	if got := censoredPredictionWords(both); !strings.HasPrefix(got, "the expected information under this censoring (for a fit of another family, the sandwich at θ*") {
+		t.Errorf("both kinds of arm: %q", got)
 	}
 }
