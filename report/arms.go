@@ -82,6 +82,37 @@ func censoringText(st study.Info) string {
 	return strings.Join(parts, ". ")
 }
 
+// censoredMisfit reports whether an arm with censored lifetimes fits
+// another family than its data's.
+func censoredMisfit(st study.Info) bool {
+	for _, arm := range st.Arms {
+		if arm.Censoring != nil && arm.Fit != "" && arm.Fit != arm.Family {
+			return true
+		}
+	}
+	return false
+}
+
+// censoredPredictionWords says what the predictions of censored arms
+// use: the expected information under the censoring, and for a fit of
+// another family the sandwich at θ* with expectations under the data law
+// and the censoring.
+func censoredPredictionWords(st study.Info) string {
+	own := false
+	for _, arm := range st.Arms {
+		if arm.Censoring != nil && (arm.Fit == "" || arm.Fit == arm.Family) {
+			own = true
+		}
+	}
+	switch {
+	case !censoredMisfit(st):
+		return "the expected information under this censoring"
+	case !own:
+		return "the sandwich at θ* with expectations under the data law and this censoring"
+	}
+	return "the expected information under this censoring (for a fit of another family, the sandwich at θ* with expectations under the data law and this censoring)"
+}
+
 // censoringNote is censoringText as a sentence for notes and subtitles.
 func censoringNote(st study.Info) string {
 	if t := censoringText(st); t != "" {

@@ -5,7 +5,9 @@ import (
 	"strings"
 	"testing"
 
+	"deltaprobe/sim/family"
 	"deltaprobe/sim/measure"
+	"deltaprobe/sim/study"
 )
 
 // A study of censored lifetimes says how each arm is censored and the
@@ -60,5 +62,28 @@ func TestCensoringInWords(t *testing.T) {
 		if e := row.Get(measure.Events); !(e > 0.3 && e < 0.7) {
 			t.Errorf("n=%d: events %v, not near the arms' expected shares (0.36 to 0.55)", row.N, e)
 		}
+	}
+}
+
+// A censored arm fitted by another family is described as such: the
+// predictions use the sandwich at θ*, not the expected information alone;
+// a censored arm of its own fit keeps the words it had.
+func TestCensoredMisfitWords(t *testing.T) {
+	c := &family.Censoring{End: 3}
+	own := study.Info{Arms: []study.ArmInfo{{Family: "weibull", Censoring: c, EventShare: 0.5}}}
+	other := study.Info{Arms: []study.ArmInfo{{Family: "weibull", Fit: "exponential", Censoring: c, EventShare: 0.5}}}
+	uncensored := study.Info{Arms: []study.ArmInfo{{Family: "weibull", Fit: "exponential"}}}
+	if censoredMisfit(own) || censoredMisfit(uncensored) || !censoredMisfit(other) {
+		t.Errorf("censoredMisfit: own %v, uncensored %v, other %v; want false, false, true", censoredMisfit(own), censoredMisfit(uncensored), censoredMisfit(other))
+	}
+	if got := censoredPredictionWords(own); got != "the expected information under this censoring" {
+		t.Errorf("own fit: %q", got)
+	}
+	if got := censoredPredictionWords(other); got != "the sandwich at θ* with expectations under the data law and this censoring" {
+		t.Errorf("other family's fit: %q", got)
+	}
+	both := study.Info{Arms: append(append([]study.ArmInfo(nil), own.Arms...), other.Arms...)}
+	if got := censoredPredictionWords(both); !strings.HasPrefix(got, "the expected information under this censoring (for a fit of another family, the sandwich at θ*") {
+		t.Errorf("both kinds of arm: %q", got)
 	}
 }

@@ -187,7 +187,11 @@ func newStudyPage(st study.Info, tool string, build runner.Build, replicates boo
 	}
 	p.Glance = []keyValue{{"Model", describeModel(st.Arms)}}
 	if c := censoringText(st); c != "" {
-		p.Glance = append(p.Glance, keyValue{"Censoring", c + ". The fit is the MLE under non-informative censoring, its variance the inverse observed information (the sandwich where variance = \"robust\"); the predictions use the expected information under this censoring."})
+		fitWords := "The fit is the MLE"
+		if censoredMisfit(st) {
+			fitWords = "The fit is the fitted family's MLE"
+		}
+		p.Glance = append(p.Glance, keyValue{"Censoring", c + ". " + fitWords + " under non-informative censoring, its variance the inverse observed information (the sandwich where variance = \"robust\"); the predictions use " + censoredPredictionWords(st) + "."})
 	}
 	p.Glance = append(p.Glance, glance...)
 	if note := fitNote(st); note != "" {

@@ -204,7 +204,7 @@ func PredictTable(w io.Writer, r *runner.Result) {
 		wrap(w, "", "bias_2nd empty: not available, the O(1/n) bias of an estimate the transform reads is not derived for this fit.")
 	}
 	if note := censoringNote(st); note != "" {
-		wrap(w, "", note+" delta_var uses the expected information under this censoring.")
+		wrap(w, "", note+" delta_var uses "+censoredPredictionWords(st)+".")
 	}
 }
 

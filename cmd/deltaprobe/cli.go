@@ -553,6 +553,7 @@ func cmdFamilies(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stdout, "    censoring: [model.censoring] or [arm.censoring]: entry (uniform entry over [0, entry]),\n")
 			fmt.Fprintf(stdout, "               end (calendar end of study), dropout_rate (exponential loss to follow-up)\n")
 			fmt.Fprintf(stdout, "               %s\n", f.CensoredEstimator)
+			fmt.Fprintf(stdout, "               censored %s lifetimes can be fitted by %s\n", f.Name, strings.Join(family.CensoredFitsFor(f), " or "))
 		}
 		fmt.Fprintln(stdout)
 	}

@@ -157,19 +157,27 @@ func (*censoredExponential) MinEvents() int { return 1 }
 
 func (m *censoredExponential) NewFitter(int) Fitter { return m }
 
-// Fit writes λ̂ = D/T and the plug-in covariance from the observed
-// information: the log-likelihood D log λ − λT has −∂² = D/λ², so
-// Var λ̂ ≈ λ̂²/D, per observation n·λ̂²/D. With no event the MLE is 0 on
-// the boundary and its variance is not defined: Fit reports false (the
-// runner counts the reason, see Events).
+// Fit writes λ̂ = D/T and its plug-in covariance (censoredRateFit).
 func (m *censoredExponential) Fit(s *Sample, theta, cov []float64) bool {
+	return censoredRateFit(s, theta, cov, m.robust)
+}
+
+// censoredRateFit writes λ̂ = D/T and the plug-in covariance from the
+// observed information: the log-likelihood D log λ − λT has −∂² = D/λ²,
+// so Var λ̂ ≈ λ̂²/D, per observation n·λ̂²/D; robust, the sandwich, which
+// reads Σdᵢxᵢ and Σxᵢ² from Data[2] and Data[3]. With no event the MLE
+// is 0 on the boundary and its variance is not defined: it reports false
+// (the runner counts the reason, see Events). The same formulas hold
+// whatever law the lifetimes follow, so the exponential fit of censored
+// Weibull lifetimes uses them too (censored_misfit.go).
+func censoredRateFit(s *Sample, theta, cov []float64, robust bool) bool {
 	d := s.Data[0]
 	if d == 0 {
 		return false
 	}
 	r := d / s.Data[1]
 	theta[0] = r
-	if m.robust {
+	if robust {
 		// Per observation, A = D/(nλ̂²) (the mean negative Hessian) and
 		// B = Σ(dᵢ/λ̂ − xᵢ)²/n (the mean squared score; dᵢ² = dᵢ), so the
 		// sandwich A⁻¹BA⁻¹ (Huber 1967; White 1982) is n·B'/A'² with the

@@ -49,20 +49,37 @@ type censoredWeibull struct {
 // them, in pieces of unit length, from s = −60 (the integrand is below
 // e^(−60)·60²) to the end or to s = log 60 (e^(−60) of survival left).
 func (m *censoredWeibull) expectedInfo(k, lam float64) (info [4]float64, p float64) {
+	var kk, kl, ll, pe float64
+	censoredWeibullQuadrature(k, lam, m.c, -60, func(s, w float64) {
+		f := w * math.Exp(s-math.Exp(s)) * m.c.survivalOf(lam*math.Exp(s/k))
+		pe += f
+		kk += f * (1 + s) * (1 + s) / (k * k)
+		kl -= f * (1 + s) / lam
+		ll += f * k * k / (lam * lam)
+	})
+	return [4]float64{kk, kl, kl, ll}, pe
+}
+
+// censoredWeibullQuadrature visits the Gauss–Legendre nodes s and
+// weights w (gonum, 32 points a piece) that integrate a function of
+// s = log z, z = (t/λ)^k, from lower to the end of study or to s = log 60
+// (e^(−60) of the Weibull survival left), in pieces of unit length cut
+// at the kinks of the censoring survival G (where an entry period starts
+// and the study ends), so each piece holds a smooth stretch.
+func censoredWeibullQuadrature(k, lam float64, c Censoring, lower float64, visit func(s, w float64)) {
 	toS := func(t float64) float64 { return k * math.Log(t/lam) }
-	cuts := []float64{-60}
+	cuts := []float64{lower}
 	upper := math.Log(60)
-	if m.c.End > 0 {
-		if m.c.Entry > 0 {
-			cuts = append(cuts, toS(m.c.End-m.c.Entry))
+	if c.End > 0 {
+		if c.Entry > 0 {
+			cuts = append(cuts, toS(c.End-c.Entry))
 		}
-		upper = math.Min(upper, toS(m.c.End))
+		upper = math.Min(upper, toS(c.End))
 	}
 	cuts = append(cuts, upper)
-	var kk, kl, ll, pe float64
 	xs, ws := make([]float64, 32), make([]float64, 32)
 	for i := 0; i+1 < len(cuts); i++ {
-		a, b := cuts[i], cuts[i+1]
+		a, b := max(cuts[i], lower), cuts[i+1]
 		if !(b > a) {
 			continue
 		}
@@ -71,15 +88,10 @@ func (m *censoredWeibull) expectedInfo(k, lam float64) (info [4]float64, p float
 		for j := range pieces {
 			quad.Legendre{}.FixedLocations(xs, ws, a+float64(j)*h, a+float64(j+1)*h)
 			for q, s := range xs {
-				f := ws[q] * math.Exp(s-math.Exp(s)) * m.c.survivalOf(lam*math.Exp(s/k))
-				pe += f
-				kk += f * (1 + s) * (1 + s) / (k * k)
-				kl -= f * (1 + s) / lam
-				ll += f * k * k / (lam * lam)
+				visit(s, ws[q])
 			}
 		}
 	}
-	return [4]float64{kk, kl, kl, ll}, pe
 }
 
 // SampleLen is 2n: the sample is the observed times x₁…xₙ followed by

@@ -22,10 +22,18 @@ func TestOtherVarianceIsTheOtherRunsPluginVariance(t *testing.T) {
 		"family = \"student_t\"\nlocation = 1.0\nscale = 1.0\ndf = 6.0\nfit = \"normal\"",
 		"family = \"negative_binomial\"\nmean = 3.0\ndispersion = 0.4",
 		"family = \"weibull\"\nshape = 1.5\nscale = 2.0",
+		// Censored lifetimes fitted by the other lifetime family.
+		"family = \"weibull\"\nshape = 1.5\nscale = 2.0\nfit = \"exponential\"\n[model.censoring]\nentry = 1.0\nend = 3.0\ndropout_rate = 0.1",
+		"family = \"exponential\"\nrate = 0.5\nfit = \"weibull\"\n[model.censoring]\nend = 4.0",
 	}
 	for _, arm := range arms {
 		name := strings.Split(arm, "\n")[0]
 		t.Run(name, func(t *testing.T) {
+			// A censoring table follows the arm's keys.
+			head, censoring, _ := strings.Cut(arm, "\n[model.censoring]")
+			if censoring != "" {
+				censoring = "[model.censoring]" + censoring
+			}
 			src := func(variance string) string {
 				return fmt.Sprintf(`seed = 17
 replicates = 2000
@@ -33,10 +41,11 @@ sample_sizes = [15, 60]
 [model]
 %s
 variance = %q
+%s
 [[transform]]
 name = "first"
 expr = "log(%s)"
-`, arm, variance, firstParam(arm))
+`, head, variance, censoring, firstParam(arm))
 			}
 			run := func(variance string) *Result {
 				res, err := Run(context.Background(), studytest.Parse(t, src(variance)), Options{Workers: 2})

@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"deltaprobe/sim/family"
 	"deltaprobe/sim/study"
 )
 
@@ -114,5 +115,69 @@ expr = "dispersion"
 	}
 	if got := s.Predict(1, 20).Bias2nd; !math.IsNaN(got) {
 		t.Errorf("dispersion bias_2nd = %v, want NaN (not available)", got)
+	}
+}
+
+// Censored lifetimes fitted by the other lifetime family: a study
+// accepts the pairs family.BuildCensored offers, names θ by the fitted
+// family, keeps the censoring and the expected share of events, and
+// predicts from the censored misfit's θ* and sandwich (the same numbers
+// family.BuildCensored gives; their derivations are tested in
+// sim/family/censored_misfit_test.go).
+func TestCensoredFitOfOtherFamily(t *testing.T) {
+	src := `seed = 1
+sample_sizes = [40]
+[[arm]]
+name = "w"
+family = "weibull"
+shape = 1.5
+scale = 4.0
+fit = "exponential"
+variance = "robust"
+[arm.censoring]
+entry = 1.0
+end = 3.0
+[[arm]]
+name = "e"
+family = "exponential"
+rate = 0.3
+fit = "weibull"
+[arm.censoring]
+dropout_rate = 0.1
+[[transform]]
+name = "w_rate"
+expr = "w.rate"
+`
+	s, err := study.Parse("censored_fit.toml", []byte(src))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := s.ParamNames(), []string{"w.rate", "e.shape", "e.scale"}; !slices.Equal(got, want) {
+		t.Errorf("ParamNames() = %v, want %v", got, want)
+	}
+	info := s.Info()
+	w, e := info.Arms[0], info.Arms[1]
+	if w.Fit != "exponential" || w.Censoring == nil || w.Censoring.End != 3 || !(w.EventShare > 0 && w.EventShare < 1) {
+		t.Errorf("arm w recorded as %+v", w)
+	}
+	// P(event) = λ/(λ + δ) = 0.75 for the exponential under dropout only
+	// (derived: competing exponentials).
+	if e.Fit != "weibull" || math.Abs(e.EventShare-0.75) > 1e-9 {
+		t.Errorf("arm e recorded as %+v, want fit weibull, event share 0.75", e)
+	}
+	weibull, _ := family.Lookup("weibull")
+	exponential, _ := family.Lookup("exponential")
+	m, err := family.BuildCensored(weibull, map[string]float64{"shape": 1.5, "scale": 4}, family.Censoring{Entry: 1, End: 3}, exponential, family.RobustVariance)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cov := []float64{0}
+	m.Asymptotics.Cov(m.Truth, cov)
+	p := s.Predict(0, 40)
+	if p.Truth != m.Truth[0] || math.Abs(p.DeltaVar-cov[0]/40) > 1e-15*p.DeltaVar {
+		t.Errorf("prediction %+v, want truth %v and delta_var %v", p, m.Truth[0], cov[0]/40)
+	}
+	if truth := s.Truth(); truth[1] != 1 || math.Abs(truth[2]-1/0.3) > 1e-15 {
+		t.Errorf("θ* of the weibull fit of exponential lifetimes = %v, want (1, 1/0.3)", truth[1:])
 	}
 }

@@ -710,11 +710,8 @@ func (d *decoder) arm(table string, m map[string]any, named bool, smallest int) 
 	var model family.Model
 	var err error
 	switch {
-	case a.Censoring != nil && fit != fam:
-		d.fail(join(table, "fit"), "%s: fit = %q with censoring is not offered: censored lifetimes are fitted by their own family's censored likelihood; leave fit out (or give fit = %q)", label, fit.Name, fam.Name)
-		return a, false
 	case a.Censoring != nil:
-		model, err = fam.Censor(a.Values, *a.Censoring, variance)
+		model, err = family.BuildCensored(fam, a.Values, *a.Censoring, fit, variance)
 	default:
 		model, err = family.Build(fam, a.Values, fit, variance)
 	}
