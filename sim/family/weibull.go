@@ -107,6 +107,13 @@ func (m *weibullFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
 	}
 }
 
+// Events is n: every uncensored lifetime is an event (summary.csv's
+// events is then 1, as for the uncensored exponential).
+func (*weibullFitModel) Events(s *Sample) int { return s.N }
+
+// MinEvents is 2: the fit needs two distinct lifetimes.
+func (*weibullFitModel) MinEvents() int { return 2 }
+
 // Cov is the inverse expected information at the truth when the data are
 // Weibull, the sandwich at θ* otherwise; theta is not read.
 func (m *weibullFitModel) Cov(_, cov []float64) { copy(cov, m.cov) }
