@@ -41,13 +41,17 @@ type Model struct {
 
 // eqn is an equation as the sampler and fitter use it.
 type eqn struct {
-	kind Kind
+	kind Kind      // the family the outcome is drawn from
+	fit  Kind      // the family fitted to it (kind unless refitted)
 	cols []int     // the row's columns its terms multiply, in order
 	out  int       // the row's column of its outcome
 	beta []float64 // the true intercept, then the terms
 	sd   float64   // Linear
-	off  int       // its first entry in θ
-	dim  int       // its entries in θ: len(beta), plus sd when Linear
+	// start is where Newton starts: beta, or for a misfit the
+	// pseudo-true coefficients (misfit.go).
+	start []float64
+	off   int // its first entry in θ
+	dim   int // its entries in θ: len(beta), plus sd when fitted Linear
 	// grouped: a logistic or Poisson equation on covariates only, in a
 	// model with patterns; patMean is then each pattern's true mean of
 	// the outcome, patZ its design vector (pattern-major, p each).
@@ -83,7 +87,7 @@ func New(d *Design) (*Model, error) {
 	}
 	off := 0
 	for ei, e := range d.Equations {
-		q := eqn{kind: e.Kind, out: m.ncov + ei, sd: e.SD, off: off}
+		q := eqn{kind: e.Kind, fit: e.Fitted(), out: m.ncov + ei, sd: e.SD, off: off}
 		q.beta = append(q.beta, e.Intercept)
 		for _, t := range e.Terms {
 			col, ok := column[t.Name]
@@ -93,18 +97,31 @@ func New(d *Design) (*Model, error) {
 			q.cols = append(q.cols, col)
 			q.beta = append(q.beta, t.Value)
 		}
+		q.start = q.beta
 		q.dim = len(q.beta)
-		if e.Kind == Linear {
+		if q.fit == Linear {
 			q.dim++
+		}
+		if q.fit != q.kind && d.Chain {
+			return nil, fmt.Errorf("equation %s: a fit other than the data's family is offered for a model of one equation only", e.Outcome)
 		}
 		off += q.dim
 		m.eqs = append(m.eqs, q)
 		column[e.Outcome] = m.ncov + ei
 	}
 	m.truth = d.Truth()
+	for _, q := range m.eqs {
+		if q.fit != q.kind {
+			// Room for the fitted layout; misfit fills it with θ*.
+			m.truth = make([]float64, off)
+		}
+	}
 	m.stride = m.cols
 	m.setPatterns()
 	if err := m.expectations(); err != nil {
+		return nil, err
+	}
+	if err := m.misfits(); err != nil {
 		return nil, err
 	}
 	return m, nil
@@ -295,6 +312,9 @@ func (m *Model) Describe() string {
 		s += fmt.Sprintf("; expected information by Gauss–Hermite/Legendre product rules with %d nodes per continuous dimension (agreeing with half as many to 1e-11)", m.Nodes)
 	} else {
 		s += "; expected information exact (averages over the levels and binary values)"
+	}
+	if m.Design.Misfit() {
+		s += "; the pseudo-true θ* of the fit and the sandwich at θ* under the data law by the same averages (y's moments given the covariates exactly)"
 	}
 	return s
 }
