@@ -40,10 +40,10 @@ var Families = []Family{
 		Estimator: "MLE by Newton/IRLS; no finite MLE under complete or quasi-complete separation (counted, by cause); O(1/n) bias by Cox & Snell (1968)"},
 	{Name: "poisson_regression", Kind: Poisson,
 		Summary:   "y ~ Poisson(exp(η)), η = intercept + Σ coefficient·covariate (log link)",
-		Estimator: "MLE by Newton/IRLS; no finite MLE when the counts are zero on every row or on a face of the design (counted, by cause); O(1/n) bias by Cox & Snell (1968)"},
+		Estimator: "MLE by Newton/IRLS; no finite MLE when the counts are zero on every row or on a face of the design (counted, by cause); O(1/n) bias by Cox & Snell (1968); fit = \"poisson_regression\" also fits logistic_regression data (a log-linear fit of binary outcomes, for risk ratios) at the pseudo-true θ*"},
 	{Name: "linear_regression", Kind: Linear,
 		Summary:   "y ~ Normal(η, sd²), η = intercept + Σ coefficient·covariate",
-		Estimator: "MLE: least squares (unbiased) and sd = sqrt(RSS/n) (bias ≈ −sd·(2p+1)/(4n), p coefficients)"},
+		Estimator: "MLE: least squares (unbiased) and sd = sqrt(RSS/n) (bias ≈ −sd·(2p+1)/(4n), p coefficients); fit = \"linear_regression\" also fits logistic_regression and poisson_regression data (the linear probability model, a linear fit of counts) at the pseudo-true θ*: population least squares and the rms residual"},
 }
 
 // Lookup returns the regression family with the given name.
