@@ -428,8 +428,14 @@ func TestMisfitReplicateAllocatesNothing(t *testing.T) {
 }
 
 // BenchmarkMisfitReplicate is one replicate's draw and fit of a misfit
-// at n = 100, robust.
+// at n = 100 on the levels-and-bernoulli design, model-based and robust.
 func BenchmarkMisfitReplicate(b *testing.B) {
-	b.Run("linear_fit_of_logistic3_n100", func(b *testing.B) { benchFit(b, refit(logistic3(), Linear), 100, true) })
-	b.Run("poisson_fit_of_logistic3_n100", func(b *testing.B) { benchFit(b, refit(riskLevels(), Poisson), 100, true) })
+	for _, robust := range []bool{false, true} {
+		v := "model"
+		if robust {
+			v = "robust"
+		}
+		b.Run("linear_fit_of_logistic_n100_"+v, func(b *testing.B) { benchFit(b, refit(logistic3(), Linear), 100, robust) })
+		b.Run("poisson_fit_of_logistic_n100_"+v, func(b *testing.B) { benchFit(b, refit(riskLevels(), Poisson), 100, robust) })
+	}
 }
