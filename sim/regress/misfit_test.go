@@ -3,6 +3,7 @@ package regress
 import (
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"deltaprobe/sim/family"
@@ -437,5 +438,22 @@ func BenchmarkMisfitReplicate(b *testing.B) {
 		}
 		b.Run("linear_fit_of_logistic_n100_"+v, func(b *testing.B) { benchFit(b, refit(logistic3(), Linear), 100, robust) })
 		b.Run("poisson_fit_of_logistic_n100_"+v, func(b *testing.B) { benchFit(b, refit(riskLevels(), Poisson), 100, robust) })
+	}
+}
+
+// New refuses a pair of families FitsData does not list, and a misfit in
+// a chain, rather than computing a θ* it has no formula for.
+func TestMisfitRefused(t *testing.T) {
+	lin := &Design{
+		Covariates: []Covariate{{Name: "x", Dist: Levels, Values: []float64{0, 1}}},
+		Equations:  []Equation{{Outcome: "y", Kind: Linear, Intercept: 1, Terms: []Term{{"x", 0.5}}, SD: 1}},
+	}
+	if _, err := New(refit(lin, Poisson)); err == nil || !strings.Contains(err.Error(), "not offered") {
+		t.Errorf("a Poisson fit of linear data: error %v", err)
+	}
+	c := chain()
+	c.Equations[1].Refit, c.Equations[1].Fit = true, Linear
+	if _, err := New(c); err == nil || !strings.Contains(err.Error(), "one equation only") {
+		t.Errorf("a misfit in a chain: error %v", err)
 	}
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 
 	"deltaprobe/sim/expr"
 	"deltaprobe/sim/family"
@@ -101,6 +102,9 @@ func New(d *Design) (*Model, error) {
 		q.dim = len(q.beta)
 		if q.fit == Linear {
 			q.dim++
+		}
+		if !slices.Contains(FitsData(q.fit), q.kind) {
+			return nil, fmt.Errorf("equation %s: a %s fit of %s data is not offered", e.Outcome, q.fit, q.kind)
 		}
 		if q.fit != q.kind && d.Chain {
 			return nil, fmt.Errorf("equation %s: a fit other than the data's family is offered for a model of one equation only", e.Outcome)
