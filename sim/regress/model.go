@@ -281,7 +281,9 @@ func drawPoisson(rng *rand.Rand, mu float64) float64 {
 // scores' covariance) equals A, the information, equation by equation,
 // and between equations E[s_y s_mᵀ] = E[E(s_y | x, m) s_mᵀ] = 0 because a
 // later equation's score has mean zero given the earlier outcomes it
-// conditions on (derived).
+// conditions on (derived). An equation fitted by another family than
+// its data's (Refit) has instead the sandwich A⁻¹BA⁻¹ at θ* under the
+// data law as its block (misfit.go), and theta must then be θ*.
 func (m *Model) Cov(theta, cov []float64) {
 	m.checkTruth(theta)
 	copy(cov, m.cov)
@@ -294,7 +296,8 @@ func (m *Model) Cov(theta, cov []float64) {
 // cumulant function (κ”' = p(1−p)(1−2p), resp. exp(η)); for a linear
 // equation the coefficients are unbiased and sd = sqrt(RSS/n) has bias
 // −sd(2p+1)/4, from E sqrt(χ²ₖ) = sqrt(k)(1 − 1/(4k)) + O(k^(−3/2)) with
-// k = n − p (derived).
+// k = n − p (derived). A refitted equation's entries are NaN: its
+// O(1/n) bias is not derived.
 func (m *Model) Bias(theta, bias []float64) {
 	m.checkTruth(theta)
 	copy(bias, m.bias)
