@@ -60,7 +60,7 @@ func (m *Model) NewFitter(maxN int) family.Fitter {
 	lpCols := 0
 	for _, q := range m.eqs {
 		pmax = max(pmax, q.p())
-		switch q.kind {
+		switch q.fit {
 		case Logistic:
 			lpCols = max(lpCols, maxN)
 		case Poisson:
@@ -106,7 +106,7 @@ func (f *fitter) Fit(s *family.Sample, theta, cov []float64) bool {
 	for e := range f.m.eqs {
 		q := &f.m.eqs[e]
 		var ok bool
-		if q.kind == Linear {
+		if q.fit == Linear {
 			ok = f.fitLinear(q, s)
 		} else {
 			ok = f.fitGLM(q, s)
@@ -121,7 +121,7 @@ func (f *fitter) Fit(s *family.Sample, theta, cov []float64) bool {
 				cov[(q.off+a)*d+q.off+b] = f.inv[a*p+b]
 			}
 		}
-		if q.kind == Linear {
+		if q.fit == Linear {
 			theta[q.off+p] = f.step[0] // fitLinear leaves σ̂ there
 			cov[(q.off+p)*d+q.off+p] = f.step[0] * f.step[0] / 2
 		}
@@ -262,7 +262,7 @@ func (f *fitter) evaluate(q *eqn, s *family.Sample, beta []float64) {
 			eta += beta[j] * z[j]
 		}
 		var mu, w float64
-		if q.kind == Logistic {
+		if q.fit == Logistic {
 			mu = expit(eta)
 			w = mu * (1 - mu)
 		} else {
@@ -283,7 +283,7 @@ func (f *fitter) logLik(q *eqn, s *family.Sample, beta []float64) float64 {
 		for j := range z {
 			eta += beta[j] * z[j]
 		}
-		if q.kind == Logistic {
+		if q.fit == Logistic {
 			// log(1 + e^η) = max(η, 0) + log1p(e^(−|η|)).
 			ll += y*eta - count*(math.Max(eta, 0)+math.Log1p(math.Exp(-math.Abs(eta))))
 		} else {
@@ -324,7 +324,7 @@ func (f *fitter) evaluateGrouped(q *eqn, beta []float64) {
 			eta += beta[j] * z[j]
 		}
 		var mu, w float64
-		if q.kind == Logistic {
+		if q.fit == Logistic {
 			mu = expit(eta)
 			w = mu * (1 - mu)
 		} else {
@@ -372,17 +372,18 @@ func (f *fitter) fitGLM(q *eqn, s *family.Sample) bool {
 	beta := f.beta[:p]
 	clear(beta)
 	switch {
-	case q.kind == Poisson && ybar == 0:
+	case q.fit == Poisson && ybar == 0:
 		f.last = family.ZeroCounts
 		return false
-	case q.kind == Logistic && (ybar == 0 || ybar == 1):
+	case q.fit == Logistic && (ybar == 0 || ybar == 1):
 		f.last = family.Separation // every outcome alike: the intercept runs off
 		return false
 	}
-	// Start at the true coefficients: the log-likelihood is concave, so
-	// the MLE, where it exists, is the same from any start, and from the
-	// truth, O(1/√n) away, Newton needs the fewest steps.
-	copy(beta, q.beta)
+	// Start at the true coefficients (θ* for a misfit): the
+	// log-likelihood is concave, so the MLE, where it exists, is the same
+	// from any start, and from the truth, O(1/√n) away, Newton needs the
+	// fewest steps.
+	copy(beta, q.start)
 	f.evaluate(q, s, beta)
 	checked := false // the linear program has shown that the MLE exists
 	step, trial := f.step[:p], f.trial[:p]
@@ -501,7 +502,7 @@ func (f *fitter) classify(q *eqn, s *family.Sample, mle existence) bool {
 	case !cholesky(h2, p):
 		f.last = family.Singular
 	case mle == mleMissing || (mle == mleUnknown && !f.exists(q, s)):
-		if q.kind == Logistic {
+		if q.fit == Logistic {
 			f.last = family.Separation
 		} else {
 			f.last = family.ZeroCounts

@@ -72,7 +72,7 @@ func negLogLik(m *Model, q *eqn, s *family.Sample, beta []float64) float64 {
 			eta += beta[j+1] * row[c]
 		}
 		y := row[q.out]
-		if q.kind == Logistic {
+		if q.fit == Logistic {
 			pr := 1 / (1 + math.Exp(-eta))
 			ll += y*math.Log(pr) + (1-y)*math.Log(1-pr)
 		} else {
@@ -96,7 +96,7 @@ func negScore(m *Model, q *eqn, s *family.Sample, beta, g []float64) {
 			eta += beta[j] * z[j]
 		}
 		mu := math.Exp(eta)
-		if q.kind == Logistic {
+		if q.fit == Logistic {
 			mu = 1 / (1 + math.Exp(-eta))
 		}
 		for j := range z {
@@ -110,7 +110,8 @@ func negScore(m *Model, q *eqn, s *family.Sample, beta, g []float64) {
 // on fixed samples; and the plug-in covariance against the inverse of
 // gonum's finite-difference Hessian of the log-likelihood at the MLE.
 func TestFitAgainstGonumOptimize(t *testing.T) {
-	for name, d := range map[string]*Design{"logistic levels": logistic3(), "logistic normal": logisticNormal(), "poisson derived": poissonNormal()} {
+	for name, d := range map[string]*Design{"logistic levels": logistic3(), "logistic normal": logisticNormal(), "poisson derived": poissonNormal(),
+		"poisson fit of logistic data": refit(logisticNormal(), Poisson)} {
 		m := mustNew(t, d)
 		q := &m.eqs[0]
 		p := q.p()

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 
 	"deltaprobe/sim/expr"
 	"deltaprobe/sim/family"
@@ -41,13 +42,17 @@ type Model struct {
 
 // eqn is an equation as the sampler and fitter use it.
 type eqn struct {
-	kind Kind
+	kind Kind      // the family the outcome is drawn from
+	fit  Kind      // the family fitted to it (kind unless refitted)
 	cols []int     // the row's columns its terms multiply, in order
 	out  int       // the row's column of its outcome
 	beta []float64 // the true intercept, then the terms
 	sd   float64   // Linear
-	off  int       // its first entry in θ
-	dim  int       // its entries in θ: len(beta), plus sd when Linear
+	// start is where Newton starts: beta, or for a misfit the
+	// pseudo-true coefficients (misfit.go).
+	start []float64
+	off   int // its first entry in θ
+	dim   int // its entries in θ: len(beta), plus sd when fitted Linear
 	// grouped: a logistic or Poisson equation on covariates only, in a
 	// model with patterns; patMean is then each pattern's true mean of
 	// the outcome, patZ its design vector (pattern-major, p each).
@@ -83,7 +88,7 @@ func New(d *Design) (*Model, error) {
 	}
 	off := 0
 	for ei, e := range d.Equations {
-		q := eqn{kind: e.Kind, out: m.ncov + ei, sd: e.SD, off: off}
+		q := eqn{kind: e.Kind, fit: e.Fitted(), out: m.ncov + ei, sd: e.SD, off: off}
 		q.beta = append(q.beta, e.Intercept)
 		for _, t := range e.Terms {
 			col, ok := column[t.Name]
@@ -93,18 +98,34 @@ func New(d *Design) (*Model, error) {
 			q.cols = append(q.cols, col)
 			q.beta = append(q.beta, t.Value)
 		}
+		q.start = q.beta
 		q.dim = len(q.beta)
-		if e.Kind == Linear {
+		if q.fit == Linear {
 			q.dim++
+		}
+		if !slices.Contains(FitsData(q.fit), q.kind) {
+			return nil, fmt.Errorf("equation %s: a %s fit of %s data is not offered", e.Outcome, q.fit, q.kind)
+		}
+		if q.fit != q.kind && d.Chain {
+			return nil, fmt.Errorf("equation %s: a fit other than the data's family is offered for a model of one equation only", e.Outcome)
 		}
 		off += q.dim
 		m.eqs = append(m.eqs, q)
 		column[e.Outcome] = m.ncov + ei
 	}
 	m.truth = d.Truth()
+	for _, q := range m.eqs {
+		if q.fit != q.kind {
+			// Room for the fitted layout; misfit fills it with θ*.
+			m.truth = make([]float64, off)
+		}
+	}
 	m.stride = m.cols
 	m.setPatterns()
 	if err := m.expectations(); err != nil {
+		return nil, err
+	}
+	if err := m.misfits(); err != nil {
 		return nil, err
 	}
 	return m, nil
@@ -260,7 +281,9 @@ func drawPoisson(rng *rand.Rand, mu float64) float64 {
 // scores' covariance) equals A, the information, equation by equation,
 // and between equations E[s_y s_mᵀ] = E[E(s_y | x, m) s_mᵀ] = 0 because a
 // later equation's score has mean zero given the earlier outcomes it
-// conditions on (derived).
+// conditions on (derived). An equation fitted by another family than
+// its data's (Refit) has instead the sandwich A⁻¹BA⁻¹ at θ* under the
+// data law as its block (misfit.go), and theta must then be θ*.
 func (m *Model) Cov(theta, cov []float64) {
 	m.checkTruth(theta)
 	copy(cov, m.cov)
@@ -273,7 +296,8 @@ func (m *Model) Cov(theta, cov []float64) {
 // cumulant function (κ”' = p(1−p)(1−2p), resp. exp(η)); for a linear
 // equation the coefficients are unbiased and sd = sqrt(RSS/n) has bias
 // −sd(2p+1)/4, from E sqrt(χ²ₖ) = sqrt(k)(1 − 1/(4k)) + O(k^(−3/2)) with
-// k = n − p (derived).
+// k = n − p (derived). A refitted equation's entries are NaN: its
+// O(1/n) bias is not derived.
 func (m *Model) Bias(theta, bias []float64) {
 	m.checkTruth(theta)
 	copy(bias, m.bias)
@@ -295,6 +319,9 @@ func (m *Model) Describe() string {
 		s += fmt.Sprintf("; expected information by Gauss–Hermite/Legendre product rules with %d nodes per continuous dimension (agreeing with half as many to 1e-11)", m.Nodes)
 	} else {
 		s += "; expected information exact (averages over the levels and binary values)"
+	}
+	if m.Design.Misfit() {
+		s += "; the pseudo-true θ* of the fit and the sandwich at θ* under the data law by the same averages (y's moments given the covariates exactly)"
 	}
 	return s
 }

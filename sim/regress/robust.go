@@ -41,7 +41,7 @@ func (f *fitter) sandwich(s *family.Sample, theta, cov []float64) {
 				eta += beta[j] * z[j]
 			}
 			y := row[q.out]
-			switch q.kind {
+			switch q.fit {
 			case Logistic:
 				r := y - expit(eta)
 				for j := range z {

@@ -23,7 +23,7 @@ func rowLogLik(m *Model, row, theta []float64) float64 {
 			eta += theta[q.off+j+1] * row[c]
 		}
 		y := row[q.out]
-		switch q.kind {
+		switch q.fit {
 		case Logistic:
 			pr := 1 / (1 + math.Exp(-eta))
 			ll += y*math.Log(pr) + (1-y)*math.Log(1-pr)
@@ -44,7 +44,9 @@ func rowLogLik(m *Model, row, theta []float64) float64 {
 // both by gonum's diff/fd at the fitted θ̂, on fixed samples. The chain's
 // cross-equation blocks are checked too.
 func TestRobustAgainstFiniteDifferences(t *testing.T) {
-	for name, d := range map[string]*Design{"chain": chain(), "poisson derived": poissonNormal(), "logistic levels": logistic3()} {
+	for name, d := range map[string]*Design{"chain": chain(), "poisson derived": poissonNormal(), "logistic levels": logistic3(),
+		"linear fit of logistic data": refit(logistic3(), Linear), "linear fit of poisson data": refit(poissonNormal(), Linear),
+		"poisson fit of logistic data": refit(logisticNormal(), Poisson)} {
 		m := mustNew(t, d)
 		m.Robust = true
 		const n = 150
@@ -64,7 +66,7 @@ func TestRobustAgainstFiniteDifferences(t *testing.T) {
 			return -ll
 		}
 		var h mat.SymDense
-		fd.Hessian(&h, total, theta, &fd.Settings{Formula: fd.Central})
+		fd.Hessian(&h, total, theta, &fd.Settings{Formula: fd.Central, Step: 1e-4})
 		var ainv mat.Dense
 		if err := ainv.Inverse(&h); err != nil {
 			t.Fatal(err)

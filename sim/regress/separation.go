@@ -38,7 +38,7 @@ func (f *fitter) exists(q *eqn, s *family.Sample) bool {
 			}
 			z, y := q.patZ[k*p:(k+1)*p], f.ysum[k]
 			switch {
-			case q.kind == Logistic:
+			case q.fit == Logistic:
 				if y > 0 {
 					lp.add(z, 1)
 				}
@@ -60,9 +60,9 @@ func (f *fitter) exists(q *eqn, s *family.Sample) bool {
 		z := f.z[:p]
 		y := row[q.out]
 		switch {
-		case q.kind == Logistic && y == 1:
+		case q.fit == Logistic && y == 1:
 			lp.add(z, 1)
-		case q.kind == Logistic:
+		case q.fit == Logistic:
 			lp.add(z, -1)
 		case y > 0:
 			lp.add(z, 1)

@@ -3,6 +3,7 @@ package regress
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -39,10 +40,10 @@ var Families = []Family{
 		Estimator: "MLE by Newton/IRLS; no finite MLE under complete or quasi-complete separation (counted, by cause); O(1/n) bias by Cox & Snell (1968)"},
 	{Name: "poisson_regression", Kind: Poisson,
 		Summary:   "y ~ Poisson(exp(η)), η = intercept + Σ coefficient·covariate (log link)",
-		Estimator: "MLE by Newton/IRLS; no finite MLE when the counts are zero on every row or on a face of the design (counted, by cause); O(1/n) bias by Cox & Snell (1968)"},
+		Estimator: "MLE by Newton/IRLS; no finite MLE when the counts are zero on every row or on a face of the design (counted, by cause); O(1/n) bias by Cox & Snell (1968); fit = \"poisson_regression\" also fits logistic_regression data (a log-linear fit of binary outcomes, for risk ratios) at the pseudo-true θ*"},
 	{Name: "linear_regression", Kind: Linear,
 		Summary:   "y ~ Normal(η, sd²), η = intercept + Σ coefficient·covariate",
-		Estimator: "MLE: least squares (unbiased) and sd = sqrt(RSS/n) (bias ≈ −sd·(2p+1)/(4n), p coefficients)"},
+		Estimator: "MLE: least squares (unbiased) and sd = sqrt(RSS/n) (bias ≈ −sd·(2p+1)/(4n), p coefficients); fit = \"linear_regression\" also fits logistic_regression and poisson_regression data (the linear probability model, a linear fit of counts) at the pseudo-true θ*: population least squares and the rms residual"},
 }
 
 // Lookup returns the regression family with the given name.
@@ -109,6 +110,45 @@ type Equation struct {
 	Terms     []Term
 	Intercept float64
 	SD        float64 // Linear only
+	// Refit says the analysis fits the family Fit rather than Kind, the
+	// family the outcome is drawn from (a misfit: θ then holds Fit's
+	// parameters at their pseudo-true values). Offered for one equation
+	// only; FitsData lists the pairs.
+	Refit bool
+	Fit   Kind
+}
+
+// Fitted is the family the analysis fits to the equation's outcome.
+func (e *Equation) Fitted() Kind {
+	if e.Refit {
+		return e.Fit
+	}
+	return e.Kind
+}
+
+// FitsData names the data families a fit of kind k accepts: its own,
+// and for a linear fit (the linear probability model, or a linear fit
+// of counts) logistic and Poisson outcomes, for a Poisson fit (a
+// log-linear fit of binary outcomes, for risk ratios) logistic ones.
+func FitsData(k Kind) []Kind {
+	switch k {
+	case Linear:
+		return []Kind{Linear, Logistic, Poisson}
+	case Poisson:
+		return []Kind{Poisson, Logistic}
+	}
+	return []Kind{Logistic}
+}
+
+// FitsFor names the fits offered for data of kind k, its own first.
+func FitsFor(k Kind) []Kind {
+	fits := []Kind{k}
+	for _, f := range Families {
+		if f.Kind != k && slices.Contains(FitsData(f.Kind), k) {
+			fits = append(fits, f.Kind)
+		}
+	}
+	return fits
 }
 
 // Term is one coefficient and the column it multiplies.
@@ -139,6 +179,38 @@ func (d *Design) ParamNames() []string {
 		for _, t := range e.Terms {
 			names = append(names, prefix+t.Name)
 		}
+		if e.Fitted() == Linear {
+			names = append(names, prefix+"sd")
+		}
+	}
+	return names
+}
+
+// Misfit reports whether some equation is fitted by another family
+// than its data's.
+func (d *Design) Misfit() bool {
+	for _, e := range d.Equations {
+		if e.Refit && e.Fit != e.Kind {
+			return true
+		}
+	}
+	return false
+}
+
+// DataNames names the data model's parameters (ParamNames when no
+// equation is refitted): per equation, the intercept, the terms, and sd
+// for linear data.
+func (d *Design) DataNames() []string {
+	var names []string
+	for _, e := range d.Equations {
+		prefix := ""
+		if d.Chain {
+			prefix = e.Outcome + "."
+		}
+		names = append(names, prefix+"intercept")
+		for _, t := range e.Terms {
+			names = append(names, prefix+t.Name)
+		}
 		if e.Kind == Linear {
 			names = append(names, prefix+"sd")
 		}
@@ -146,7 +218,7 @@ func (d *Design) ParamNames() []string {
 	return names
 }
 
-// Truth is θ0 in the order of ParamNames.
+// Truth is the data model's θ0 in the order of DataNames.
 func (d *Design) Truth() []float64 {
 	var theta []float64
 	for _, e := range d.Equations {
@@ -219,13 +291,19 @@ func (e *Equation) describe() string {
 		}
 		eta += sign + num(v) + "·" + t.Name
 	}
+	var s string
 	switch e.Kind {
 	case Logistic:
-		return fmt.Sprintf("%s ~ bernoulli(expit(%s))", e.Outcome, eta)
+		s = fmt.Sprintf("%s ~ bernoulli(expit(%s))", e.Outcome, eta)
 	case Poisson:
-		return fmt.Sprintf("%s ~ poisson(exp(%s))", e.Outcome, eta)
+		s = fmt.Sprintf("%s ~ poisson(exp(%s))", e.Outcome, eta)
+	default:
+		s = fmt.Sprintf("%s ~ normal(%s, sd = %s)", e.Outcome, eta, num(e.SD))
 	}
-	return fmt.Sprintf("%s ~ normal(%s, sd = %s)", e.Outcome, eta, num(e.SD))
+	if e.Fitted() != e.Kind {
+		s += ", fitted as " + e.Fitted().String()
+	}
+	return s
 }
 
 func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }

@@ -47,6 +47,9 @@ func (d *decoder) regression(table string, m map[string]any, a *Arm) bool {
 	design := &regress.Design{Chain: chain}
 	if chain {
 		accepted = append(accepted, "equation")
+		if _, given := m["fit"]; given {
+			d.fail(join(table, "fit"), "fit in [model] is for a regression of one equation (a linear fit of logistic_regression or poisson_regression data, a poisson_regression fit of logistic_regression data); a chain's equations are each fitted by their own family")
+		}
 		for _, k := range []string{"family", "coefficients", "sd"} {
 			if _, given := m[k]; given {
 				d.fail(join(table, k), "%s in [model] is for a model of one equation; with [[model.equation]] tables each equation gives its own family, coefficients (and sd)", k)
@@ -55,7 +58,7 @@ func (d *decoder) regression(table string, m map[string]any, a *Arm) bool {
 	} else {
 		accepted = append(accepted, "family", "coefficients", "sd")
 	}
-	d.unknownKeysAt(table, "in a regression [model]", m, append(accepted, "family", "coefficients", "sd", "variance"))
+	d.unknownKeysAt(table, "in a regression [model]", m, append(accepted, "family", "coefficients", "sd", "variance", "fit"))
 	robust := false
 	if raw, given := m["variance"]; given {
 		switch raw {
@@ -108,6 +111,9 @@ func (d *decoder) regression(table string, m map[string]any, a *Arm) bool {
 	} else {
 		e, good := d.equation(table, m, "y", columns, nil, "")
 		ok = ok && good
+		if good {
+			ok = d.regressionFit(table, m, &e) && ok
+		}
 		design.Equations = []regress.Equation{e}
 	}
 	if !ok {
@@ -152,8 +158,11 @@ func (d *decoder) regression(table string, m map[string]any, a *Arm) bool {
 	a.Regression = model
 	a.Names = design.ParamNames()
 	truth := design.Truth()
-	for i, name := range a.Names {
+	for i, name := range design.DataNames() {
 		a.Values[name] = truth[i]
+	}
+	if e := design.Equations[0]; !chain && e.Fitted() != e.Kind {
+		a.Fit = e.Fitted().String()
 	}
 	a.Model = model.Model()
 	return true
@@ -441,4 +450,35 @@ func laterOutcomes(list []map[string]any) []string {
 		}
 	}
 	return names
+}
+
+// regressionFit reads a one-equation regression's fit key into e: the
+// family the analysis fits, when it differs from the data's.
+func (d *decoder) regressionFit(table string, m map[string]any, e *regress.Equation) bool {
+	raw, given := m["fit"]
+	if !given {
+		return true
+	}
+	var accepted []string
+	for _, k := range regress.FitsFor(e.Kind) {
+		accepted = append(accepted, k.String())
+	}
+	name, isStr := raw.(string)
+	if !isStr {
+		d.fail(join(table, "fit"), "fit must be a string naming the fitted regression family, got %s; accepted for %s data: %s", typeName(raw), e.Kind, strings.Join(accepted, ", "))
+		return false
+	}
+	fam, known := regress.Lookup(name)
+	if !known {
+		d.fail(join(table, "fit"), "unknown fit family %q for %s data%s", name, e.Kind, didYouMean(name, accepted))
+		return false
+	}
+	if !slices.Contains(accepted, name) {
+		d.fail(join(table, "fit"), "fit = %q is not offered for %s data: accepted for %s data: %s (linear_regression fits logistic_regression and poisson_regression data, poisson_regression fits logistic_regression data)", name, e.Kind, e.Kind, strings.Join(accepted, ", "))
+		return false
+	}
+	if fam.Kind != e.Kind {
+		e.Refit, e.Fit = true, fam.Kind
+	}
+	return true
 }
