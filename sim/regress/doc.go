@@ -11,8 +11,14 @@
 // covariates and by Gauss–Hermite and Gauss–Legendre product rules over
 // continuous ones.
 //
-// What it refuses to do: it fits no model other than the one that drew
-// the data (the variance is the model's), and a replicate whose MLE does
-// not exist (separation, Poisson counts all zero, a singular design) is
-// reported as such, never replaced by a penalised or capped estimate.
+// The plug-in variance is the inverse observed information or, with
+// variance = "robust", the HC0 sandwich (for a chain, the sandwich of the
+// stacked estimating equations), and a one-equation model may be fitted
+// by another family than the one that drew its rows (misfit.go: the
+// pseudo-true θ* and the sandwich at it under the data law).
+//
+// What it refuses to do: a replicate whose MLE does not exist
+// (separation, Poisson counts all zero, a singular design) is reported as
+// such, never replaced by a penalised or capped estimate; and it offers
+// no fit of another family inside a chain of equations.
 package regress
