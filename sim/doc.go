@@ -10,7 +10,11 @@
 // The packages, each with one job:
 //
 //   - [deltaprobe/sim/family]: the data-generating families and their
-//     estimators (drawing, fitting, Fisher information, O(1/n) bias).
+//     estimators (drawing, fitting, Fisher information, O(1/n) bias),
+//     fits of another family's data (pseudo-true θ*, sandwich) and
+//     censored lifetimes.
+//   - [deltaprobe/sim/regress]: logistic, Poisson and linear regressions
+//     on a declared covariate design, and chains of equations.
 //   - [deltaprobe/sim/expr]: the transform language, with exact derivatives.
 //   - [deltaprobe/sim/study]: the study file: decoding, validation, errors,
 //     and the delta-method predictions at the truth.
@@ -23,9 +27,11 @@
 //
 // The engine is opinionated. Estimates are maximum likelihood (unless a
 // family says otherwise), standard errors are the plug-in delta method
-// with the inverse expected Fisher information, intervals are Wald
-// intervals, and Monte Carlo errors follow Morris, White & Crowther (2019)
-// with a kurtosis-aware variance MCSE. It offers no bootstrap, no profile
-// intervals and no higher-order corrections: it checks the first-order
-// approximation people actually report, and says plainly when that fails.
+// with the inverse observed information or the sandwich (or the
+// analyst's own stated standard error), intervals are Wald intervals
+// with a normal or t quantile, and Monte Carlo errors follow Morris,
+// White & Crowther (2019) with a kurtosis-aware variance MCSE. It offers
+// no bootstrap, no profile intervals and no higher-order corrections: it
+// checks the first-order approximation people actually report, and says
+// plainly when that fails.
 package sim
