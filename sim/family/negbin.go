@@ -200,10 +200,10 @@ const nbMaxIter = 200
 // = 1/k̂ solves the profile score g(r) = 0. The MLE is finite only when
 // the sample variance (divisor n) exceeds ȳ (Levin & Reeds 1977, from
 // memory: then g < 0 for large r, while g → +∞ as r → 0); otherwise, or
-// when ȳ = 0 or the search fails, Fit reports false. The search brackets
-// the root by doubling from the moment estimate ȳ²/(s² − ȳ) and then
-// takes Newton steps in log r, bisecting whenever a step leaves the
-// bracket, to a relative change of 1e-13.
+// when ȳ = 0 or the search fails, Fit reports false. The search
+// (logNewtonRoot) brackets the root by doubling from the moment estimate
+// ȳ²/(s² − ȳ) and then takes Newton steps in log r, bisecting whenever a
+// step leaves the bracket, to a relative change of 1e-13.
 func (f *nbFitter) Fit(s *Sample, theta, cov []float64) bool {
 	n := s.N
 	fn := float64(n)
@@ -230,49 +230,7 @@ func (f *nbFitter) Fit(s *Sample, theta, cov []float64) bool {
 	if !(ybar > 0) || !(m2 > ybar*(1+1e-12)) {
 		return false
 	}
-	r := ybar * ybar / (m2 - ybar)
-	lo, hi := r, r
-	g, dg := f.profile(r, ybar, fn)
-	for i := 0; g > 0; i++ {
-		if i == 200 {
-			return false
-		}
-		lo, r = r, r*2
-		g, dg = f.profile(r, ybar, fn)
-		hi = r
-	}
-	for i := 0; g < 0 && r == lo; i++ {
-		if i == 200 {
-			return false
-		}
-		hi, r = r, r/2
-		g, dg = f.profile(r, ybar, fn)
-		lo = r
-	}
-	// Now g(lo) ≥ 0 ≥ g(hi) with r at one end; Newton in x = log r.
-	ok := false
-	for range nbMaxIter {
-		if g == 0 {
-			ok = true
-			break
-		}
-		if g > 0 {
-			lo = r
-		} else {
-			hi = r
-		}
-		next := r * math.Exp(-g/(dg*r))
-		if !(next > lo && next < hi) || dg >= 0 {
-			next = math.Sqrt(lo * hi)
-		}
-		if math.Abs(next-r) <= 1e-13*r || hi-lo <= 1e-14*hi {
-			r = next
-			ok = true
-			break
-		}
-		r = next
-		g, dg = f.profile(r, ybar, fn)
-	}
+	r, ok := logNewtonRoot(ybar*ybar/(m2-ybar), nbMaxIter, func(r float64) (float64, float64) { return f.profile(r, ybar, fn) })
 	if !ok || !(r > 0) || math.IsInf(r, 0) {
 		return false
 	}
@@ -281,7 +239,7 @@ func (f *nbFitter) Fit(s *Sample, theta, cov []float64) bool {
 	// Observed information per observation at the MLE, in (m, r): A_mm =
 	// r/(ȳ(r+ȳ)), A_mr = 0, A_rr = −mean[ψ1(y+r) − ψ1(r)] − 1/r + 1/(r+ȳ);
 	// in k, A_kk = r⁴·A_rr.
-	_, dg = f.profile(r, ybar, fn)
+	_, dg := f.profile(r, ybar, fn)
 	amm := r / (ybar * (r + ybar))
 	akk := -dg * r * r * r * r
 	if !(akk > 0) {

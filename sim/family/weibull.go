@@ -185,48 +185,7 @@ func (f *weibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	if !(uu > 0) {
 		return false
 	}
-	k := math.Pi / math.Sqrt(6*uu/fn)
-	h, dh := f.profile(k, ubar, n)
-	lo, hi := k, k
-	for i := 0; h > 0; i++ {
-		if i == 200 {
-			return false
-		}
-		lo, k = k, k*2
-		h, dh = f.profile(k, ubar, n)
-		hi = k
-	}
-	for i := 0; h < 0 && k == lo; i++ {
-		if i == 200 {
-			return false
-		}
-		hi, k = k, k/2
-		h, dh = f.profile(k, ubar, n)
-		lo = k
-	}
-	ok := false
-	for range weibullMaxIter {
-		if h == 0 {
-			ok = true
-			break
-		}
-		if h > 0 {
-			lo = k
-		} else {
-			hi = k
-		}
-		next := k * math.Exp(-h/(dh*k))
-		if !(next > lo && next < hi) {
-			next = math.Sqrt(lo * hi)
-		}
-		if math.Abs(next-k) <= 1e-13*k || hi-lo <= 1e-14*hi {
-			k = next
-			ok = true
-			break
-		}
-		k = next
-		h, dh = f.profile(k, ubar, n)
-	}
+	k, ok := logNewtonRoot(math.Pi/math.Sqrt(6*uu/fn), weibullMaxIter, func(k float64) (float64, float64) { return f.profile(k, ubar, n) })
 	if !ok || !(k > 0) || math.IsInf(k, 0) {
 		return false
 	}

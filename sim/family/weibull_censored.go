@@ -232,47 +232,8 @@ func (f *censoredWeibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 		}
 	}
 	ubarD /= events
-	// Bracket the root: double k while h > 0, halve it while h < 0.
-	k := 1.0
-	h, dh := f.profile(k, ubarD, n)
-	lo, hi := k, k
-	for i := 0; h > 0; i++ {
-		if i == 200 {
-			return false
-		}
-		lo, k = k, 2*k
-		h, dh = f.profile(k, ubarD, n)
-		hi = k
-	}
-	for i := 0; h < 0 && k <= lo; i++ {
-		if i == 200 {
-			return false
-		}
-		hi, k = k, k/2
-		h, dh = f.profile(k, ubarD, n)
-		lo = k
-	}
-	ok := h == 0
-	for it := 0; !ok && it < censoredWeibullMaxIter; it++ {
-		if h > 0 {
-			lo = k
-		} else {
-			hi = k
-		}
-		// Newton in log k: Δlog k = −h/(k·h').
-		next := k * math.Exp(-h/(dh*k))
-		if !(next > lo && next < hi) {
-			next = math.Sqrt(lo * hi)
-		}
-		if math.Abs(next-k) <= 1e-13*k || hi-lo <= 1e-14*hi {
-			k = next
-			ok = true
-			break
-		}
-		k = next
-		h, dh = f.profile(k, ubarD, n)
-		ok = h == 0
-	}
+	// The root of the profile score in the shape, from k = 1.
+	k, ok := logNewtonRoot(1, censoredWeibullMaxIter, func(k float64) (float64, float64) { return f.profile(k, ubarD, n) })
 	if !ok || !(k > 0) || math.IsInf(k, 0) {
 		return false
 	}
