@@ -176,19 +176,6 @@ func gammaInverseA(a, b float64, k []float64) {
 	k[0], k[1], k[2], k[3] = a/e, b/e, b/e, b*b*trigamma(a)/e
 }
 
-// sandwich2 writes K·B·K for a symmetric 2×2 K (row-major) and
-// B = [b11, b12; b12, b22].
-func sandwich2(k []float64, b11, b12, b22 float64, out []float64) {
-	r00 := k[0]*b11 + k[1]*b12
-	r01 := k[0]*b12 + k[1]*b22
-	r10 := k[2]*b11 + k[3]*b12
-	r11 := k[2]*b12 + k[3]*b22
-	out[0] = r00*k[0] + r01*k[2]
-	out[1] = r00*k[1] + r01*k[3]
-	out[2] = r10*k[0] + r11*k[2]
-	out[3] = r10*k[1] + r11*k[3]
-}
-
 // gammaBias writes ½A⁻¹T[Σ] (see newGammaMisfit) with k = A⁻¹ and sig = Σ.
 func gammaBias(a, b float64, k, sig, bias []float64) {
 	r1 := -sig[0]*tetragamma(a) - sig[3]/(b*b)
@@ -227,13 +214,14 @@ func (m *gammaFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
 
 // NewFitter returns a fitter of the worker's own, which keeps the other
 // variance of its latest fit (OtherVariance).
-func (m *gammaFitModel) NewFitter(int) Fitter { return &gammaFitter{m: m} }
+func (m *gammaFitModel) NewFitter(int) Fitter {
+	return &gammaFitter{m: m, twoVariances: twoVariances{robust: m.robust}}
+}
 
 // gammaFitter fits for one worker.
 type gammaFitter struct {
-	m     *gammaFitModel
-	both  bool
-	other [4]float64
+	m *gammaFitModel
+	twoVariances
 }
 
 // Fit solves log α − ψ(α) = log ȳ − mean(log y) for α̂ (gammaShapeMLE),
@@ -266,7 +254,7 @@ func (f *gammaFitter) Fit(s *Sample, theta, cov []float64) bool {
 	theta[0], theta[1] = a, b
 	var k [4]float64
 	gammaInverseA(a, b, k[:])
-	if !m.robust && !f.both {
+	if !f.robust && !f.both {
 		copy(cov, k[:])
 		return true
 	}
@@ -275,21 +263,8 @@ func (f *gammaFitter) Fit(s *Sample, theta, cov []float64) bool {
 	mel := s.Data[4]/fn - eb*lb
 	var sand [4]float64
 	sandwich2(k[:], mll, -mel, mee, sand[:])
-	if m.robust {
-		copy(cov, sand[:])
-		f.other = k
-	} else {
-		copy(cov, k[:])
-		f.other = sand
-	}
+	f.keep(cov, k, sand)
 	return true
-}
-
-func (f *gammaFitter) EnableOther() { f.both = true }
-
-func (f *gammaFitter) OtherCov(cov []float64) bool {
-	copy(cov, f.other[:])
-	return f.both
 }
 
 // Cov writes the sandwich at θ* under the law; theta is not read.

@@ -146,15 +146,13 @@ func nbInverseInfo(l *nbLaw, cov []float64) {
 }
 
 func (m *nbFitModel) NewFitter(maxN int) Fitter {
-	return &nbFitter{robust: m.robust, sorted: make([]float64, maxN), vals: make([]float64, maxN), counts: make([]float64, maxN)}
+	return &nbFitter{twoVariances: twoVariances{robust: m.robust}, sorted: make([]float64, maxN), vals: make([]float64, maxN), counts: make([]float64, maxN)}
 }
 
 // nbFitter holds one worker's buffers: the sorted sample and its distinct
 // values with their counts.
 type nbFitter struct {
-	robust bool
-	both   bool       // also compute the other variance (OtherVariance)
-	other  [4]float64 // the other variance of the latest fit
+	twoVariances
 	sorted []float64
 	vals   []float64
 	counts []float64
@@ -265,19 +263,6 @@ func (f *nbFitter) Fit(s *Sample, theta, cov []float64) bool {
 	}
 	bmm, bmk, bkk = bmm/fn, bmk/fn, bkk/fn
 	sand := [4]float64{bmm / (amm * amm), bmk / (amm * akk), bmk / (amm * akk), bkk / (akk * akk)}
-	if f.robust {
-		copy(cov, sand[:])
-		f.other = model
-	} else {
-		copy(cov, model[:])
-		f.other = sand
-	}
+	f.keep(cov, model, sand)
 	return true
-}
-
-func (f *nbFitter) EnableOther() { f.both = true }
-
-func (f *nbFitter) OtherCov(cov []float64) bool {
-	copy(cov, f.other[:])
-	return f.both
 }

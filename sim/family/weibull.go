@@ -122,15 +122,13 @@ func (m *weibullFitModel) Cov(_, cov []float64) { copy(cov, m.cov) }
 func (*weibullFitModel) Bias(_, bias []float64) { bias[0], bias[1] = math.NaN(), math.NaN() }
 
 func (m *weibullFitModel) NewFitter(maxN int) Fitter {
-	return &weibullFitter{robust: m.robust, u: make([]float64, maxN), z: make([]float64, maxN)}
+	return &weibullFitter{twoVariances: twoVariances{robust: m.robust}, u: make([]float64, maxN), z: make([]float64, maxN)}
 }
 
 // weibullFitter holds one worker's buffers: u = log(y/max y) and z = e^(k·u).
 type weibullFitter struct {
-	robust bool
-	both   bool       // also compute the other variance (OtherVariance)
-	other  [4]float64 // the other variance of the latest fit
-	u, z   []float64
+	twoVariances
+	u, z []float64
 }
 
 // weibullMaxIter bounds the search for the shape.
@@ -230,26 +228,10 @@ func (f *weibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	}
 	bkk, bkl, bll = bkk/fn, bkl/fn, bll/fn
 	// A⁻¹ B A⁻¹ with A⁻¹ = [ikk ikl; ikl ill].
-	r00 := ikk*bkk + ikl*bkl
-	r01 := ikk*bkl + ikl*bll
-	r10 := ikl*bkk + ill*bkl
-	r11 := ikl*bkl + ill*bll
-	sand := [4]float64{r00*ikk + r01*ikl, r00*ikl + r01*ill, r10*ikk + r11*ikl, r10*ikl + r11*ill}
-	if f.robust {
-		copy(cov, sand[:])
-		f.other = model
-	} else {
-		copy(cov, model[:])
-		f.other = sand
-	}
+	var sand [4]float64
+	sandwich2(model[:], bkk, bkl, bll, sand[:])
+	f.keep(cov, model, sand)
 	return true
-}
-
-func (f *weibullFitter) EnableOther() { f.both = true }
-
-func (f *weibullFitter) OtherCov(cov []float64) bool {
-	copy(cov, f.other[:])
-	return f.both
 }
 
 // log y = log scale + (log E)/shape.

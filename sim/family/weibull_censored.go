@@ -151,22 +151,13 @@ func (m *censoredWeibull) Cov(_, cov []float64) { copy(cov, m.cov) }
 func (*censoredWeibull) Bias(_, bias []float64) { bias[0], bias[1] = math.NaN(), math.NaN() }
 
 func (m *censoredWeibull) NewFitter(maxN int) Fitter {
-	return &censoredWeibullFitter{u: make([]float64, maxN), robust: m.robust}
+	return &censoredWeibullFitter{u: make([]float64, maxN), twoVariances: twoVariances{robust: m.robust}}
 }
 
 // censoredWeibullFitter holds one worker's buffer u = log(x/max x).
 type censoredWeibullFitter struct {
-	u      []float64
-	robust bool
-	both   bool       // also compute the other variance (OtherVariance)
-	other  [4]float64 // the other variance of the latest fit
-}
-
-func (f *censoredWeibullFitter) EnableOther() { f.both = true }
-
-func (f *censoredWeibullFitter) OtherCov(cov []float64) bool {
-	copy(cov, f.other[:])
-	return f.both
+	u []float64
+	twoVariances
 }
 
 // profile returns h(k) = 1/k + ū_D − Σzu/Σz and its derivative
@@ -278,17 +269,11 @@ func (f *censoredWeibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 	}
 	// The sandwich A⁻¹BA⁻¹ of the sums (Huber 1967; White 1982), times n
 	// per observation.
-	r00 := ikk*bkk + ikl*bkl
-	r01 := ikk*bkl + ikl*bll
-	r10 := ikl*bkk + ill*bkl
-	r11 := ikl*bkl + ill*bll
-	sand := [4]float64{fn * (r00*ikk + r01*ikl), fn * (r00*ikl + r01*ill), fn * (r10*ikk + r11*ikl), fn * (r10*ikl + r11*ill)}
-	if f.robust {
-		copy(cov, sand[:])
-		f.other = model
-	} else {
-		copy(cov, model[:])
-		f.other = sand
+	var sand [4]float64
+	sandwich2([]float64{ikk, ikl, ikl, ill}, bkk, bkl, bll, sand[:])
+	for i := range sand {
+		sand[i] *= fn
 	}
+	f.keep(cov, model, sand)
 	return true
 }
