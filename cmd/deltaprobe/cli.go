@@ -287,7 +287,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	report.VerdictTable(stdout, res)
 	// Elapsed is the simulation's wall-clock time, summed over resumed
 	// sessions; writing the report is not in it.
-	fmt.Fprintf(stderr, "simulated in %.1fs; wrote %s (summary.csv, verdicts.csv, result.json, figures, index.html)\n", res.Elapsed, dir)
+	fmt.Fprintf(stderr, "simulated in %s; wrote %s (summary.csv, verdicts.csv, result.json, figures, index.html)\n", seconds(res.Elapsed), dir)
 	return exitOK
 }
 
@@ -964,4 +964,13 @@ func addFiguresFlag(fs *flag.FlagSet) *figuresFlag {
 	f := figuresFlag(report.DefaultFormats)
 	fs.Var(&f, "figures", "figure formats: a comma-separated subset of "+report.FormatList(report.Formats))
 	return &f
+}
+
+// seconds writes a duration in seconds to a tenth, or to two significant
+// digits below a second ("0.043s"), so a fast run does not read "0.0s".
+func seconds(s float64) string {
+	if s >= 1 {
+		return fmt.Sprintf("%.1fs", s)
+	}
+	return strconv.FormatFloat(s, 'g', 2, 64) + "s"
 }

@@ -335,3 +335,14 @@ func TestDocListsEveryCommand(t *testing.T) {
 		}
 	}
 }
+
+func TestSecondsReadsAtAnySpeed(t *testing.T) {
+	for _, tc := range []struct {
+		in   float64
+		want string
+	}{{0.0134, "0.013s"}, {0.5, "0.5s"}, {1, "1.0s"}, {710.26, "710.3s"}} {
+		if got := seconds(tc.in); got != tc.want {
+			t.Errorf("seconds(%v) = %q, want %q", tc.in, got, tc.want)
+		}
+	}
+}
