@@ -109,7 +109,7 @@ func TestRunGolden(t *testing.T) {
 	}
 	golden(t, "testdata/run.stdout", []byte(stdout))
 	// The time is the simulation's, named as such, not the writing's.
-	if want := regexp.MustCompile(`^simulated in [0-9]+\.[0-9]s; wrote ` + regexp.QuoteMeta(out) + ` \(summary\.csv, `); !want.MatchString(stderr) {
+	if want := regexp.MustCompile(`^simulated in [0-9]+\.[0-9]+s; wrote ` + regexp.QuoteMeta(out) + ` \(summary\.csv, `); !want.MatchString(stderr) {
 		t.Errorf("stderr %q does not match %s", stderr, want)
 	}
 	for _, name := range []string{"summary.csv", "verdicts.csv"} {
