@@ -1,6 +1,6 @@
 package family
 
-import "math/rand/v2"
+import "deltaprobe/sim/stream"
 
 func init() {
 	register(&Family{
@@ -32,7 +32,7 @@ func (*bernoulliModel) SampleLen(int) int { return 1 }
 // Draw draws each observation from one uniform, 1 when U < p. It reads p
 // into a local once; read through m, it is reloaded after every draw's
 // call (see sumStdNormals).
-func (m *bernoulliModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *bernoulliModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	count, p := 0, m.p
 	for range n {
 		if rng.Float64() < p {

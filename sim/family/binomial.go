@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 )
 
 func init() {
@@ -79,7 +79,7 @@ func (*binomialModel) SampleLen(int) int { return 1 }
 // Draw draws n binomial counts by table inversion and keeps their total.
 // (The total is Binomial(n·size, p), but the design draws each
 // observation.)
-func (m *binomialModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *binomialModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	var sum float64
 	for range n {
 		sum += float64(m.table.draw(rng))

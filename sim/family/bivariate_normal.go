@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 func init() {
@@ -39,7 +39,7 @@ type bivariateNormalModel struct {
 
 // pair returns one draw in standard units: x = mean_x + sd_x·z,
 // y = mean_y + sd_y·w, with z, w standard normal and corr(z, w) = ρ.
-func (m *bivariateNormalModel) pair(rng *rand.Rand) (z, w float64) {
+func (m *bivariateNormalModel) pair(rng *stream.PCG) (z, w float64) {
 	z = rng.NormFloat64()
 	return z, m.rho*z + m.c*rng.NormFloat64()
 }
@@ -50,7 +50,7 @@ func (*bivariateNormalModel) SampleLen(int) int { return 5 }
 
 // Draw accumulates the standard-unit draws, whose sums are centred at the
 // true means (no cancellation).
-func (m *bivariateNormalModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *bivariateNormalModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	var sz, sw, szz, sww, szw float64
 	for range n {
 		z, w := m.pair(rng)

@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"strings"
 )
 
@@ -148,13 +148,13 @@ func (*censoredExponentialOfWeibull) SampleLen(int) int { return 4 }
 // Draw draws each unit as the censored Weibull's sampler does (the
 // lifetime λE^(1/k), the entry, end-of-study and dropout times) and keeps
 // the four sums.
-func (m *censoredExponentialOfWeibull) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *censoredExponentialOfWeibull) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	drawCensoredWeibullSums(rng, n, m.invShape, m.scale, m.c, s.Data[:4])
 }
 
 //go:noinline
-func drawCensoredWeibullSums(rng *rand.Rand, n int, invShape, scale float64, c Censoring, sums []float64) {
+func drawCensoredWeibullSums(rng *stream.PCG, n int, invShape, scale float64, c Censoring, sums []float64) {
 	end := c.End
 	if end == 0 {
 		end = math.Inf(1)

@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 // The data-only families: drawn from, never fitted. A study names the
@@ -57,7 +57,7 @@ type studentTLaw struct {
 	gen            gammaGen
 }
 
-func (l *studentTLaw) one(rng *rand.Rand) float64 {
+func (l *studentTLaw) one(rng *stream.PCG) float64 {
 	z := rng.NormFloat64()
 	v := 2 * l.gen.std(rng)
 	return l.loc + l.scale*z/math.Sqrt(v/l.df)
@@ -77,7 +77,7 @@ type zipLaw struct {
 	zero float64
 }
 
-func (l *zipLaw) one(rng *rand.Rand) float64 {
+func (l *zipLaw) one(rng *stream.PCG) float64 {
 	if rng.Float64() < l.zero {
 		return 0
 	}

@@ -1,6 +1,6 @@
 package family
 
-import "math/rand/v2"
+import "deltaprobe/sim/stream"
 
 func init() {
 	register(&Family{
@@ -34,7 +34,7 @@ type exponentialModel struct{ rate float64 }
 func (*exponentialModel) SampleLen(int) int { return 1 }
 
 // Draw keeps the sum of n standard exponential draws.
-func (*exponentialModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (*exponentialModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	var sum float64
 	for range n {
 		sum += rng.ExpFloat64()

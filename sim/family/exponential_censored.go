@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 )
 
 // newCensoredExponential is the exponential family's Censor: lifetimes of
@@ -47,7 +47,7 @@ func (m *censoredExponential) SampleLen(int) int {
 // one exponential draw per unit, and one 64-bit word when entry or
 // dropout needs a uniform (its two 32-bit halves serve the entry time and
 // the kind of ending).
-func (m *censoredExponential) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *censoredExponential) Draw(rng *stream.PCG, n int, s *Sample) {
 	mu := m.rate + m.c.DropoutRate
 	if m.robust {
 		drawCensoredSums(rng, n, mu, m.c, m.rate/mu, s.Data[:4])
@@ -77,7 +77,7 @@ func (m *censoredExponential) Draw(rng *rand.Rand, n int, s *Sample) {
 // gives the comparison as a mask.
 //
 //go:noinline
-func drawEndOnly(rng *rand.Rand, n int, rate, end float64) (events, time float64) {
+func drawEndOnly(rng *stream.PCG, n int, rate, end float64) (events, time float64) {
 	// Compare in standard units, so the division is per sample, not per draw.
 	limit := end * rate
 	lb := math.Float64bits(limit)
@@ -99,7 +99,7 @@ func drawEndOnly(rng *rand.Rand, n int, rate, end float64) (events, time float64
 // as drawEndOnly is.
 //
 //go:noinline
-func drawEntryDropout(rng *rand.Rand, n int, mu, end, entry, pLife float64) (events, time float64) {
+func drawEntryDropout(rng *stream.PCG, n int, mu, end, entry, pLife float64) (events, time float64) {
 	// In standard units (times μ), so the division is per sample: the
 	// censoring time μ(end − entry·U) is endMu − step·(U's 32 bits).
 	endMu, step := end*mu, entry*mu*0x1p-32
@@ -124,7 +124,7 @@ func drawEntryDropout(rng *rand.Rand, n int, mu, end, entry, pLife float64) (eve
 // sums the sandwich needs: D, T = Σxᵢ, Σdᵢxᵢ and Σxᵢ².
 //
 //go:noinline
-func drawCensoredSums(rng *rand.Rand, n int, mu float64, c Censoring, pLife float64, sums []float64) {
+func drawCensoredSums(rng *stream.PCG, n int, mu float64, c Censoring, pLife float64, sums []float64) {
 	end := c.End
 	if end == 0 {
 		end = math.Inf(1)

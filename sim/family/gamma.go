@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 func init() {
@@ -58,7 +58,7 @@ func (*gammaModel) SampleLen(int) int { return 2 }
 // that underflow to w = 0 (shapes near 0) still carry their exact log w.
 // Below gammaMinN observations Draw draws nothing: no estimate exists
 // there, so the replicate is undefined whatever it would draw.
-func (m *gammaModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *gammaModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	if n < gammaMinN {
 		return

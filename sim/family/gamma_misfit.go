@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 )
 
 // The gamma fit of data from a law of positive values that is not
@@ -97,7 +97,7 @@ func (l *gammaLaw) varY() float64       { return l.shape / (l.rate * l.rate) }
 
 // log y = log(d/β) + log w with d·w ~ Gamma(α, 1) (gammaGen), so draws
 // whose y would underflow keep their exact log y.
-func (l *gammaLaw) logOne(rng *rand.Rand) float64 {
+func (l *gammaLaw) logOne(rng *stream.PCG) float64 {
 	_, lw := l.gen.draw(rng)
 	return l.logScale + lw
 }
@@ -193,7 +193,7 @@ func (*gammaFitModel) SampleLen(int) int { return 5 }
 // Draw draws log y through the law (y = exp(log y)) and keeps the centred
 // sums. Below gammaMinN observations it draws nothing, as the gamma
 // family's own sampler: the likelihood has no maximum there.
-func (m *gammaFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *gammaFitModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	if n < gammaMinN {
 		return

@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 	"slices"
 	"testing"
 
@@ -11,8 +11,8 @@ import (
 
 // testRand returns a generator with a fixed seed, so every Monte Carlo
 // check below sees the same draws on every run.
-func testRand(seed uint64) *rand.Rand {
-	return rand.New(rand.NewPCG(seed, 0x9e3779b97f4a7c15))
+func testRand(seed uint64) *stream.PCG {
+	return stream.New(seed, 0x9e3779b97f4a7c15)
 }
 
 // mustModel builds a family's model or fails the test.
@@ -51,7 +51,7 @@ func newTrial(m Model, maxN int) *trial {
 
 // fit draws a sample of n observations with rng and fits it, writing θ̂
 // into theta; it reports what Fit reports.
-func (tr *trial) fit(rng *rand.Rand, n int, theta []float64) bool {
+func (tr *trial) fit(rng *stream.PCG, n int, theta []float64) bool {
 	tr.m.Sampler.Draw(rng, n, &tr.sample)
 	return tr.fitter.Fit(&tr.sample, theta, tr.cov)
 }

@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 // Support is the set of values one observation of a data family takes;
@@ -39,7 +39,7 @@ func (s Support) String() string {
 // every worker and must not change its state.
 type law interface {
 	// one draws one observation.
-	one(rng *rand.Rand) float64
+	one(rng *stream.PCG) float64
 	// moments are the exact mean and the second, third and fourth central
 	// moments of one observation.
 	moments() lawMoments
@@ -68,7 +68,7 @@ func centralFromRaw(r1, r2, r3, r4 float64) lawMoments {
 // normalLaw is Normal(mean, sd²).
 type normalLaw struct{ mean, sd float64 }
 
-func (l *normalLaw) one(rng *rand.Rand) float64 { return l.mean + l.sd*rng.NormFloat64() }
+func (l *normalLaw) one(rng *stream.PCG) float64 { return l.mean + l.sd*rng.NormFloat64() }
 func (l *normalLaw) moments() lawMoments {
 	v := l.sd * l.sd
 	return lawMoments{l.mean, v, 0, 3 * v * v}
@@ -78,7 +78,7 @@ func (l *normalLaw) moments() lawMoments {
 // r²·sdlog²/2) (Johnson, Kotz & Balakrishnan 1994, ch. 14, from memory).
 type lognormalLaw struct{ meanlog, sdlog float64 }
 
-func (l *lognormalLaw) one(rng *rand.Rand) float64 {
+func (l *lognormalLaw) one(rng *stream.PCG) float64 {
 	return math.Exp(l.meanlog + l.sdlog*rng.NormFloat64())
 }
 func (l *lognormalLaw) moments() lawMoments {
@@ -90,7 +90,7 @@ func (l *lognormalLaw) moments() lawMoments {
 // μ4 = 9/λ⁴ (the gamma's with shape 1).
 type exponentialLaw struct{ rate float64 }
 
-func (l *exponentialLaw) one(rng *rand.Rand) float64 { return rng.ExpFloat64() / l.rate }
+func (l *exponentialLaw) one(rng *stream.PCG) float64 { return rng.ExpFloat64() / l.rate }
 func (l *exponentialLaw) moments() lawMoments {
 	s := 1 / l.rate
 	return lawMoments{s, s * s, 2 * s * s * s, 9 * s * s * s * s}
@@ -110,7 +110,7 @@ func newGammaLaw(shape, rate float64) *gammaLaw {
 	return &gammaLaw{shape: shape, rate: rate, gen: g, logScale: math.Log(g.d) - math.Log(rate)}
 }
 
-func (l *gammaLaw) one(rng *rand.Rand) float64 { return l.gen.std(rng) / l.rate }
+func (l *gammaLaw) one(rng *stream.PCG) float64 { return l.gen.std(rng) / l.rate }
 func (l *gammaLaw) moments() lawMoments {
 	a, b := l.shape, l.rate
 	return lawMoments{a / b, a / (b * b), 2 * a / (b * b * b), (3*a*a + 6*a) / (b * b * b * b)}
@@ -120,7 +120,7 @@ func (l *gammaLaw) moments() lawMoments {
 // μ4 = μ + 3μ².
 type poissonLaw struct{ m *poissonModel }
 
-func (l *poissonLaw) one(rng *rand.Rand) float64 { return l.m.draw(rng) }
+func (l *poissonLaw) one(rng *stream.PCG) float64 { return l.m.draw(rng) }
 func (l *poissonLaw) moments() lawMoments {
 	mu := l.m.mean
 	return lawMoments{mu, mu, mu, mu + 3*mu*mu}
@@ -130,7 +130,7 @@ func (l *poissonLaw) moments() lawMoments {
 // μ4 = pq(1 − 3pq) with q = 1 − p.
 type bernoulliLaw struct{ p float64 }
 
-func (l *bernoulliLaw) one(rng *rand.Rand) float64 {
+func (l *bernoulliLaw) one(rng *stream.PCG) float64 {
 	if rng.Float64() < l.p {
 		return 1
 	}
@@ -146,7 +146,7 @@ func (l *bernoulliLaw) moments() lawMoments {
 // checked against the pmf in the tests).
 type binomialLaw struct{ m *binomialModel }
 
-func (l *binomialLaw) one(rng *rand.Rand) float64 { return float64(l.m.table.draw(rng)) }
+func (l *binomialLaw) one(rng *stream.PCG) float64 { return float64(l.m.table.draw(rng)) }
 func (l *binomialLaw) moments() lawMoments {
 	n, p := l.m.size, l.m.p
 	q := 1 - p
@@ -158,7 +158,7 @@ func (l *binomialLaw) moments() lawMoments {
 type logLaw interface {
 	law
 	// logOne draws log y directly (no overflow or underflow of y).
-	logOne(rng *rand.Rand) float64
+	logOne(rng *stream.PCG) float64
 	// logMoments are the mean and central moments 2–4 of log y.
 	logMoments() lawMoments
 }
@@ -167,8 +167,8 @@ type logLaw interface {
 // fit of log y.
 type logOf struct{ l logLaw }
 
-func (o logOf) one(rng *rand.Rand) float64 { return o.l.logOne(rng) }
-func (o logOf) moments() lawMoments        { return o.l.logMoments() }
+func (o logOf) one(rng *stream.PCG) float64 { return o.l.logOne(rng) }
+func (o logOf) moments() lawMoments         { return o.l.logMoments() }
 
 // Cumulants of log E for E ~ Exp(1): ψ⁽ʲ⁻¹⁾(1), that is −γ, π²/6,
 // −2ζ(3) and π⁴/15 (DLMF 5.4.12, 5.15.2; ζ(3) = 1.2020569031595942854,
@@ -188,13 +188,13 @@ func logExpMoments(a, k float64) lawMoments {
 }
 
 // log y = log(1/rate) + log E.
-func (l *exponentialLaw) logOne(rng *rand.Rand) float64 {
+func (l *exponentialLaw) logOne(rng *stream.PCG) float64 {
 	return math.Log(rng.ExpFloat64()) - math.Log(l.rate)
 }
 func (l *exponentialLaw) logMoments() lawMoments { return logExpMoments(-math.Log(l.rate), 1) }
 
 // log y = meanlog + sdlog·Z.
-func (l *lognormalLaw) logOne(rng *rand.Rand) float64 { return l.meanlog + l.sdlog*rng.NormFloat64() }
+func (l *lognormalLaw) logOne(rng *stream.PCG) float64 { return l.meanlog + l.sdlog*rng.NormFloat64() }
 func (l *lognormalLaw) logMoments() lawMoments {
 	v := l.sdlog * l.sdlog
 	return lawMoments{l.meanlog, v, 0, 3 * v * v}

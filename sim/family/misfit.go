@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 // The poisson, exponential and normal fits of data from any law whose
@@ -89,7 +89,7 @@ func (*momentFitModel) SampleLen(int) int { return 4 }
 
 // Draw draws n observations through the law and keeps the centred power
 // sums.
-func (m *momentFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *momentFitModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	var s1, s2, s3, s4 float64
 	c := m.center
 	for range n {

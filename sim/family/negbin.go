@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"slices"
 )
 
@@ -60,7 +60,7 @@ func newNBLaw(mean, disp float64) (*nbLaw, error) {
 	return &nbLaw{mean: mean, disp: disp, table: t}, nil
 }
 
-func (l *nbLaw) one(rng *rand.Rand) float64 { return float64(l.table.draw(rng)) }
+func (l *nbLaw) one(rng *stream.PCG) float64 { return float64(l.table.draw(rng)) }
 
 // moments: the cumulants of the negative binomial are κ2 = m(1+km),
 // κ3 = m(1+km)(1+2km), κ4 = m(1+km)(1+6km+6k²m²) (from the cumulants
@@ -92,7 +92,7 @@ func newNBFit(l *nbLaw, robust bool) Model {
 // SampleLen is n: the sample is the counts themselves, as float64.
 func (*nbFitModel) SampleLen(n int) int { return n }
 
-func (m *nbFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *nbFitModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	t := m.law.table
 	for i := range n {

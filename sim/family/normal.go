@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 func init() {
@@ -44,7 +44,7 @@ func (*normalModel) SampleLen(int) int { return 2 }
 // Draw keeps the sums of standard normal draws: shifting by the true mean
 // keeps the sum of squares free of cancellation, and scaling once (in
 // Fit) saves a multiply a draw.
-func (*normalModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (*normalModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	s.Data[0], s.Data[1] = sumStdNormals(rng, n)
 }
@@ -57,7 +57,7 @@ func (*normalModel) Draw(rng *rand.Rand, n int, s *Sample) {
 // 4–5% slower per draw).
 //
 //go:noinline
-func sumStdNormals(rng *rand.Rand, n int) (s1, s2 float64) {
+func sumStdNormals(rng *stream.PCG, n int) (s1, s2 float64) {
 	for i := 0; i < n; i++ {
 		z := rng.NormFloat64()
 		s1 += z

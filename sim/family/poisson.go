@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 )
 
 func init() {
@@ -76,7 +76,7 @@ func newPoissonModel(mean float64) (*poissonModel, error) {
 func (*poissonModel) SampleLen(int) int { return 1 }
 
 // draw returns one observation.
-func (m *poissonModel) draw(rng *rand.Rand) float64 {
+func (m *poissonModel) draw(rng *stream.PCG) float64 {
 	if m.table != nil {
 		return float64(m.table.draw(rng))
 	}
@@ -86,7 +86,7 @@ func (m *poissonModel) draw(rng *rand.Rand) float64 {
 // Draw draws n counts and keeps their sum as a float64, exact while it
 // stays below 2⁵³. (The sum is itself Poisson(nμ), but the design draws
 // each observation.)
-func (m *poissonModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *poissonModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	var sum float64
 	for range n {
 		sum += m.draw(rng)

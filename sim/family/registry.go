@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
-	"math/rand/v2"
 	"sort"
 	"strings"
 )
@@ -36,7 +36,7 @@ type Sampler interface {
 	SampleLen(n int) int
 	// Draw draws n observations with rng into s, setting s.N to n. It
 	// allocates nothing.
-	Draw(rng *rand.Rand, n int, s *Sample)
+	Draw(rng *stream.PCG, n int, s *Sample)
 }
 
 // Estimator makes the fitters of one estimator. It is shared by every

@@ -1,10 +1,10 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"errors"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"slices"
 	"strings"
 	"sync"
@@ -215,7 +215,7 @@ func TestFamilyFitConcurrent(t *testing.T) {
 		m := c.m
 		p := len(m.Truth)
 		run := func(seed uint64, out []float64) {
-			rng := rand.New(rand.NewPCG(seed, 7))
+			rng := stream.New(seed, 7)
 			tr := newTrial(m, n)
 			for k := range reps {
 				if !tr.fit(rng, n, out[k*p:(k+1)*p]) {

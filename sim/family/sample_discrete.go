@@ -1,10 +1,10 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
 	"math/bits"
-	"math/rand/v2"
 )
 
 // maxTableLen bounds an inversion table; 2²⁰ entries take 12 MiB with the
@@ -116,7 +116,7 @@ func newTableUpBound(mode, kmin, kmax int, up, down func(k int) float64, upBound
 
 // draw returns one variate; cdf's last entry is 1 > U, so the search ends
 // inside the table.
-func (t *cdfTable) draw(rng *rand.Rand) int {
+func (t *cdfTable) draw(rng *stream.PCG) int {
 	u := rng.Float64()
 	k := int(t.guide[int(u*t.m)])
 	for t.cdf[k] <= u {
@@ -154,7 +154,7 @@ func newPTRSPoisson(mu float64) ptrsPoisson {
 }
 
 // draw returns one variate (as a float64: integers up to 2⁵³ are exact).
-func (p *ptrsPoisson) draw(rng *rand.Rand) float64 {
+func (p *ptrsPoisson) draw(rng *stream.PCG) float64 {
 	for {
 		u := rng.Float64() - 0.5
 		v := rng.Float64()

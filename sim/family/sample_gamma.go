@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 // gammaGen draws Gamma(shape, 1) variates by the squeeze-and-reject method
@@ -34,7 +34,7 @@ func newGammaGen(shape float64) gammaGen {
 }
 
 // draw returns w and log w such that g.d·w ~ Gamma(shape, 1).
-func (g *gammaGen) draw(rng *rand.Rand) (w, logw float64) {
+func (g *gammaGen) draw(rng *stream.PCG) (w, logw float64) {
 	for {
 		z := rng.NormFloat64()
 		t := g.c * z
@@ -61,7 +61,7 @@ func (g *gammaGen) draw(rng *rand.Rand) (w, logw float64) {
 }
 
 // std returns one Gamma(shape, 1) variate.
-func (g *gammaGen) std(rng *rand.Rand) float64 {
+func (g *gammaGen) std(rng *stream.PCG) float64 {
 	w, _ := g.draw(rng)
 	return g.d * w
 }

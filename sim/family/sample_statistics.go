@@ -1,8 +1,8 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"math"
-	"math/rand/v2"
 )
 
 // StatisticsSampler is a Sampler whose sample is a set of sufficient
@@ -12,7 +12,7 @@ import (
 // draws give samples of the same distribution, not the same numbers.
 type StatisticsSampler interface {
 	Sampler
-	DrawStatistics(rng *rand.Rand, n int, s *Sample)
+	DrawStatistics(rng *stream.PCG, n int, s *Sample)
 }
 
 // Statistics returns a Sampler that draws s's sufficient statistics
@@ -48,7 +48,7 @@ type statisticsDraws struct{ s StatisticsSampler }
 
 func (d statisticsDraws) SampleLen(n int) int { return d.s.SampleLen(n) }
 
-func (d statisticsDraws) Draw(rng *rand.Rand, n int, s *Sample) { d.s.DrawStatistics(rng, n, s) }
+func (d statisticsDraws) Draw(rng *stream.PCG, n int, s *Sample) { d.s.DrawStatistics(rng, n, s) }
 
 // countedStatisticsDraws keeps a lifetime sampler's EventCounter (the
 // uncensored exponential: every observation an event) when its
@@ -61,13 +61,13 @@ type countedStatisticsDraws struct {
 
 // stdGamma draws one Gamma(shape, 1) variate, shape > 0, by Marsaglia &
 // Tsang (gammaGen), its constants set up for this shape.
-func stdGamma(rng *rand.Rand, shape float64) float64 {
+func stdGamma(rng *stream.PCG, shape float64) float64 {
 	g := newGammaGen(shape)
 	return g.std(rng)
 }
 
 // chiSquare draws one χ²_k variate: 2·Gamma(k/2, 1); χ²_0 is 0.
-func chiSquare(rng *rand.Rand, k int) float64 {
+func chiSquare(rng *stream.PCG, k int) float64 {
 	if k <= 0 {
 		return 0
 	}
@@ -77,7 +77,7 @@ func chiSquare(rng *rand.Rand, k int) float64 {
 // poissonVariate draws one Poisson(mu) variate exactly: by sequential
 // inversion (the least k whose cumulative probability exceeds a uniform)
 // for mu < 10, by PTRS (Hörmann 1993, see ptrsPoisson) from 10 on.
-func poissonVariate(rng *rand.Rand, mu float64) float64 {
+func poissonVariate(rng *stream.PCG, mu float64) float64 {
 	if mu >= 10 {
 		p := newPTRSPoisson(mu)
 		return p.draw(rng)
@@ -104,7 +104,7 @@ func poissonVariate(rng *rand.Rand, mu float64) float64 {
 // Statistical Computation and Simulation 46:101–110 (constants from
 // memory; TestStatisticsSamplersMatchTheirLaws checks the output against
 // gonum's binomial pmf).
-func binomialVariate(rng *rand.Rand, trials, p float64) float64 {
+func binomialVariate(rng *stream.PCG, trials, p float64) float64 {
 	if p > 0.5 {
 		return trials - binomialVariate(rng, trials, 1-p)
 	}
@@ -149,7 +149,7 @@ func newBTRS(n, p float64) btrs {
 	return t
 }
 
-func (t *btrs) draw(rng *rand.Rand) float64 {
+func (t *btrs) draw(rng *stream.PCG) float64 {
 	for {
 		u := rng.Float64() - 0.5
 		v := rng.Float64()
@@ -200,29 +200,29 @@ func (t *btrs) logPMF(k float64) float64 {
 // Σz = √n·Z with Z ~ N(0, 1), and, independent of it, the sum of squares
 // about the mean Σ(z − z̄)² ~ χ²ₙ₋₁, so Σz² = χ²ₙ₋₁ + (Σz)²/n (Cochran's
 // theorem; Casella & Berger 2002, Theorem 5.3.1, from memory).
-func (*normalModel) DrawStatistics(rng *rand.Rand, n int, s *Sample) {
+func (*normalModel) DrawStatistics(rng *stream.PCG, n int, s *Sample) {
 	s1 := math.Sqrt(float64(n)) * rng.NormFloat64()
 	s.N = n
 	s.Data[0], s.Data[1] = s1, chiSquare(rng, n-1)+s1*s1/float64(n)
 }
 
 // DrawStatistics draws the sum of n standard exponentials, Gamma(n, 1).
-func (*exponentialModel) DrawStatistics(rng *rand.Rand, n int, s *Sample) {
+func (*exponentialModel) DrawStatistics(rng *stream.PCG, n int, s *Sample) {
 	s.N, s.Data[0] = n, stdGamma(rng, float64(n))
 }
 
 // DrawStatistics draws the total count, Poisson(n·mean).
-func (m *poissonModel) DrawStatistics(rng *rand.Rand, n int, s *Sample) {
+func (m *poissonModel) DrawStatistics(rng *stream.PCG, n int, s *Sample) {
 	s.N, s.Data[0] = n, poissonVariate(rng, float64(n)*m.mean)
 }
 
 // DrawStatistics draws the number of ones, Binomial(n, p).
-func (m *bernoulliModel) DrawStatistics(rng *rand.Rand, n int, s *Sample) {
+func (m *bernoulliModel) DrawStatistics(rng *stream.PCG, n int, s *Sample) {
 	s.N, s.Data[0] = n, binomialVariate(rng, float64(n), m.p)
 }
 
 // DrawStatistics draws the total successes, Binomial(n·size, p).
-func (m *binomialModel) DrawStatistics(rng *rand.Rand, n int, s *Sample) {
+func (m *binomialModel) DrawStatistics(rng *stream.PCG, n int, s *Sample) {
 	s.N, s.Data[0] = n, binomialVariate(rng, float64(n)*m.size, m.p)
 }
 
@@ -234,7 +234,7 @@ func (m *binomialModel) DrawStatistics(rng *rand.Rand, n int, s *Sample) {
 // Cholesky factor of R, [1 0; ρ c], and A lower triangular with
 // a₁₁² ~ χ²ₙ₋₁, a₂₂² ~ χ²ₙ₋₂, a₂₁ ~ N(0, 1), independent, the scatter is
 // (LA)(LA)ᵀ. The raw sums of squares and products add back n·mean·meanᵀ.
-func (m *bivariateNormalModel) DrawStatistics(rng *rand.Rand, n int, s *Sample) {
+func (m *bivariateNormalModel) DrawStatistics(rng *stream.PCG, n int, s *Sample) {
 	rn := math.Sqrt(float64(n))
 	z1, z2 := rng.NormFloat64(), rng.NormFloat64()
 	sz := rn * z1

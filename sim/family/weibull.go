@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 )
 
 func init() {
@@ -52,7 +52,7 @@ func init() {
 // check them by quadrature of gonum's density).
 type weibullLaw struct{ shape, scale float64 }
 
-func (l *weibullLaw) one(rng *rand.Rand) float64 {
+func (l *weibullLaw) one(rng *stream.PCG) float64 {
 	return l.scale * math.Pow(rng.ExpFloat64(), 1/l.shape)
 }
 
@@ -100,7 +100,7 @@ func weibullInverseInfo(k, lam float64, cov []float64) {
 // SampleLen is n: the sample is the observations themselves.
 func (*weibullFitModel) SampleLen(n int) int { return n }
 
-func (m *weibullFitModel) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *weibullFitModel) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	for i := range n {
 		s.Data[i] = m.law.one(rng)
@@ -235,7 +235,7 @@ func (f *weibullFitter) Fit(s *Sample, theta, cov []float64) bool {
 }
 
 // log y = log scale + (log E)/shape.
-func (l *weibullLaw) logOne(rng *rand.Rand) float64 {
+func (l *weibullLaw) logOne(rng *stream.PCG) float64 {
 	return math.Log(l.scale) + math.Log(rng.ExpFloat64())/l.shape
 }
 func (l *weibullLaw) logMoments() lawMoments { return logExpMoments(math.Log(l.scale), l.shape) }

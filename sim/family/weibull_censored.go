@@ -1,9 +1,9 @@
 package family
 
 import (
+	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
-	"math/rand/v2"
 
 	"gonum.org/v1/gonum/integrate/quad"
 )
@@ -100,13 +100,13 @@ func (*censoredWeibull) SampleLen(n int) int { return 2 * n }
 
 // Draw draws each unit's lifetime λE^(1/k) (E standard exponential), its
 // entry, end-of-study and dropout times, and keeps what is observed.
-func (m *censoredWeibull) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *censoredWeibull) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	drawCensoredWeibull(rng, s.Data[:n], s.Data[n:2*n], 1/m.shape, m.scale, m.c)
 }
 
 //go:noinline
-func drawCensoredWeibull(rng *rand.Rand, x, d []float64, invShape, scale float64, c Censoring) {
+func drawCensoredWeibull(rng *stream.PCG, x, d []float64, invShape, scale float64, c Censoring) {
 	end := c.End
 	if end == 0 {
 		end = math.Inf(1)

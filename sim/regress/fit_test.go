@@ -2,10 +2,10 @@ package regress
 
 import (
 	"math"
-	"math/rand/v2"
 	"testing"
 
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/stream"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
@@ -118,7 +118,7 @@ func TestFitAgainstGonumOptimize(t *testing.T) {
 		for seed := uint64(1); seed <= 3; seed++ {
 			n := 200
 			s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
-			m.Draw(rand.New(rand.NewPCG(seed, 99)), n, s)
+			m.Draw(stream.New(seed, 99), n, s)
 			f := m.NewFitter(n).(*fitter)
 			theta := make([]float64, m.Dim())
 			cov := make([]float64, m.Dim()*m.Dim())
@@ -244,7 +244,7 @@ func TestDrawAndFitAllocateNothing(t *testing.T) {
 		for _, n := range []int{12, 100} {
 			s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
 			f := m.NewFitter(n)
-			rng := rand.New(rand.NewPCG(5, 6))
+			rng := stream.New(5, 6)
 			theta := make([]float64, m.Dim())
 			cov := make([]float64, m.Dim()*m.Dim())
 			allocs := testing.AllocsPerRun(200, func() {
@@ -263,7 +263,7 @@ func benchFit(b *testing.B, d *Design, n int, robust bool) {
 	m.Robust = robust
 	s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
 	f := m.NewFitter(n)
-	rng := rand.New(rand.NewPCG(1, 2))
+	rng := stream.New(1, 2)
 	theta := make([]float64, m.Dim())
 	cov := make([]float64, m.Dim()*m.Dim())
 	b.ReportAllocs()

@@ -2,11 +2,11 @@ package regress
 
 import (
 	"math"
-	"math/rand/v2"
 	"strings"
 	"testing"
 
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/stream"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/integrate/quad"
@@ -332,7 +332,7 @@ func TestMisfitMonteCarlo(t *testing.T) {
 		f := m.NewFitter(c.n)
 		ov := f.(family.OtherVariance)
 		ov.EnableOther()
-		rng := rand.New(rand.NewPCG(uint64(ci)+40, 41))
+		rng := stream.New(uint64(ci)+40, 41)
 		theta, cov, other := make([]float64, dim), make([]float64, dim*dim), make([]float64, dim*dim)
 		est := make([][]float64, dim)
 		robust := make([][]float64, dim)
@@ -414,7 +414,7 @@ func TestMisfitReplicateAllocatesNothing(t *testing.T) {
 			s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
 			f := m.NewFitter(n)
 			f.(family.OtherVariance).EnableOther()
-			rng := rand.New(rand.NewPCG(5, 6))
+			rng := stream.New(5, 6)
 			theta := make([]float64, m.Dim())
 			cov := make([]float64, m.Dim()*m.Dim())
 			allocs := testing.AllocsPerRun(200, func() {

@@ -3,11 +3,11 @@ package regress
 import (
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"slices"
 
 	"deltaprobe/sim/expr"
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/stream"
 )
 
 // Model is a design at its true coefficients: the sampler, the estimator
@@ -149,7 +149,7 @@ func (m *Model) SampleLen(n int) int { return n*m.stride + m.slots }
 // factorial design: row i takes the first levels covariate's value
 // i mod k₁, the second's (i div k₁) mod k₂, and so on, so that each
 // combination appears n/(k₁k₂…) times when n is a multiple of that.
-func (m *Model) Draw(rng *rand.Rand, n int, s *Sample) {
+func (m *Model) Draw(rng *stream.PCG, n int, s *Sample) {
 	s.N = n
 	stride := m.stride
 	data := s.Data[:n*stride]
@@ -239,7 +239,7 @@ func expit(x float64) float64 {
 // drawPoisson draws a Poisson count of mean mu: by summing exponential
 // waiting times below mean 10, and by Hörmann's (1993) transformed
 // rejection (PTRS, Insurance: Mathematics and Economics 12:39–45) above.
-func drawPoisson(rng *rand.Rand, mu float64) float64 {
+func drawPoisson(rng *stream.PCG, mu float64) float64 {
 	if mu < 10 {
 		k, t := 0.0, rng.ExpFloat64()
 		for t < mu {

@@ -2,10 +2,10 @@ package regress
 
 import (
 	"math"
-	"math/rand/v2"
 	"testing"
 
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/stream"
 
 	"gonum.org/v1/gonum/diff/fd"
 	"gonum.org/v1/gonum/mat"
@@ -51,7 +51,7 @@ func TestRobustAgainstFiniteDifferences(t *testing.T) {
 		m.Robust = true
 		const n = 150
 		s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
-		m.Draw(rand.New(rand.NewPCG(11, 12)), n, s)
+		m.Draw(stream.New(11, 12), n, s)
 		f := m.NewFitter(n)
 		dim := m.Dim()
 		theta, cov := make([]float64, dim), make([]float64, dim*dim)
@@ -106,7 +106,7 @@ func TestRobustLinearHC0(t *testing.T) {
 	m.Robust = true
 	const n = 60
 	s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
-	m.Draw(rand.New(rand.NewPCG(3, 4)), n, s)
+	m.Draw(stream.New(3, 4), n, s)
 	theta, cov := make([]float64, 4), make([]float64, 16)
 	if !m.NewFitter(n).Fit(s, theta, cov) {
 		t.Fatal("the fit failed")
@@ -147,7 +147,7 @@ func TestOtherVariance(t *testing.T) {
 	for _, robust := range []bool{false, true} {
 		m := mustNew(t, chain())
 		s := &family.Sample{Data: make([]float64, m.SampleLen(n))}
-		m.Draw(rand.New(rand.NewPCG(21, 22)), n, s)
+		m.Draw(stream.New(21, 22), n, s)
 		dim := m.Dim()
 		m.Robust = robust
 		f := m.NewFitter(n)

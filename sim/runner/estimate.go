@@ -116,7 +116,7 @@ func calibrateReplicate(s *study.Study, n, workers int, d time.Duration) float64
 	for range workers {
 		w := newWorker(&one, res)
 		// The calibration's numbers are thrown away; any stream will do.
-		w.pcg.Seed(rand.Uint64(), rand.Uint64())
+		w.rng.Seed(rand.Uint64(), rand.Uint64())
 		for a := range s.Arms {
 			w.sizes[a] = s.ArmSize(a, n)
 		}

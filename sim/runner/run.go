@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"runtime"
 	"runtime/debug"
 	"slices"
@@ -15,6 +14,7 @@ import (
 
 	"deltaprobe/sim/expr"
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/stream"
 	"deltaprobe/sim/study"
 )
 
@@ -311,8 +311,7 @@ func padded[T any](n int) []T {
 // padding (see pad).
 type worker struct {
 	_       [pad]byte
-	pcg     rand.PCG  // by value: its state is written on every draw
-	rng     rand.Rand // draws from pcg
+	rng     stream.PCG // by value: its state is written on every draw
 	s       *study.Study
 	res     *Result
 	q       float64   // the interval's quantile at the block's n
@@ -369,7 +368,6 @@ type cellAcc struct {
 
 func newWorker(s *study.Study, res *Result) *worker {
 	w := &worker{s: s, res: res}
-	w.rng = *rand.New(&w.pcg)
 	for _, n := range s.SampleSizes {
 		w.qs = append(w.qs, s.Quantile(n))
 	}
@@ -490,7 +488,7 @@ func (w *worker) runBlock(j job) {
 	s := w.s
 	n := s.SampleSizes[j.ni]
 	s1, s2 := blockSeeds(s.Seed, n, j.block)
-	w.pcg.Seed(s1, s2)
+	w.rng.Seed(s1, s2)
 	for a := range s.Arms {
 		w.sizes[a] = s.ArmSize(a, n)
 		w.armN[a] = float64(w.sizes[a])

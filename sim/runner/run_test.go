@@ -7,12 +7,12 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/rand/v2"
 	"strings"
 	"sync/atomic"
 	"testing"
 
 	"deltaprobe/sim/family"
+	"deltaprobe/sim/stream"
 	"deltaprobe/sim/study"
 	"deltaprobe/sim/study/studytest"
 )
@@ -60,7 +60,7 @@ type normalObservations struct{ mean, sd float64 }
 
 func (normalObservations) SampleLen(n int) int { return n }
 
-func (m normalObservations) Draw(rng *rand.Rand, n int, s *family.Sample) {
+func (m normalObservations) Draw(rng *stream.PCG, n int, s *family.Sample) {
 	s.N = n
 	for i := range n {
 		s.Data[i] = m.mean + m.sd*rng.NormFloat64()
