@@ -33,23 +33,30 @@ func newGammaGen(shape float64) gammaGen {
 	return gammaGen{d: d, c: 1 / math.Sqrt(9*d), invShape: 1 / shape, boost: boost}
 }
 
-// draw returns w and log w such that g.d·w ~ Gamma(shape, 1).
-func (g *gammaGen) draw(rng *stream.PCG) (w, logw float64) {
+// accept runs Marsaglia and Tsang's loop to its first accepted candidate
+// and returns v = (1 + t)³ and t = c·z. The logarithm log V = 3·log1p(t)
+// is taken only when the squeeze fails (a few percent of candidates), so
+// std, which does not need log w, skips it on most draws.
+func (g *gammaGen) accept(rng *stream.PCG) (v, t float64) {
 	for {
 		z := rng.NormFloat64()
-		t := g.c * z
+		t = g.c * z
 		if t <= -1 {
 			continue
 		}
-		v := (1 + t) * (1 + t) * (1 + t)
-		logv := 3 * math.Log1p(t)
+		v = (1 + t) * (1 + t) * (1 + t)
 		u := rng.Float64()
 		z2 := z * z
-		if u < 1-0.0331*z2*z2 || math.Log(u) < z2/2+g.d*(1-v+logv) {
-			w, logw = v, logv
-			break
+		if u < 1-0.0331*z2*z2 || math.Log(u) < z2/2+g.d*(1-v+3*math.Log1p(t)) {
+			return v, t
 		}
 	}
+}
+
+// draw returns w and log w such that g.d·w ~ Gamma(shape, 1).
+func (g *gammaGen) draw(rng *stream.PCG) (w, logw float64) {
+	v, t := g.accept(rng)
+	w, logw = v, 3*math.Log1p(t)
 	if g.boost {
 		// log U for U ~ U(0,1) is −E with E ~ Exp(1): the ziggurat draw is
 		// cheaper than a uniform and a logarithm, and always finite.
@@ -60,9 +67,13 @@ func (g *gammaGen) draw(rng *stream.PCG) (w, logw float64) {
 	return w, logw
 }
 
-// std returns one Gamma(shape, 1) variate.
+// std returns one Gamma(shape, 1) variate: draw's value without its
+// logarithm (the same number from the same state).
 func (g *gammaGen) std(rng *stream.PCG) float64 {
-	w, _ := g.draw(rng)
+	w, _ := g.accept(rng)
+	if g.boost {
+		w *= math.Exp(-rng.ExpFloat64() * g.invShape)
+	}
 	return g.d * w
 }
 

@@ -50,23 +50,37 @@ func (p *PCG) Uint64() uint64 {
 func (p *PCG) Float64() float64 { return float64(p.Uint64()<<11>>11) / (1 << 53) }
 
 // NormFloat64 returns a standard normal value by the ziggurat method, the
-// same value rand.Rand's NormFloat64 returns from the same state. The
-// fast path (one draw, a compare) inlines; the rest is normSlow.
+// same value rand.Rand's NormFloat64 returns from the same state.
 func (p *PCG) NormFloat64() float64 {
 	u := p.Uint64()
-	j := int32(u)
-	i := u >> 32 & 0x7F
-	if absInt32(j) < kn[i] {
-		return float64(j) * float64(wn[i])
+	if z, ok := NormFast(u); ok {
+		return z
 	}
-	return p.normSlow(u)
+	return p.NormFrom(u)
 }
 
-// normSlow finishes the ziggurat's draw whose first 64 bits u missed the
-// fast path: the base strip's tail, the wedge test, and further tries.
+// NormFast is the normal ziggurat's fast path: for 64 random bits u it
+// returns the normal value and true when u falls inside its layer's
+// rectangle (about 97% of draws), else false. It inlines, so a hot
+// loop can keep the generator's state in locals:
 //
-//go:noinline
-func (p *PCG) normSlow(u uint64) float64 {
+//	u := q.Uint64()
+//	z, ok := stream.NormFast(u)
+//	if !ok {
+//		z = q.NormFrom(u)
+//	}
+//
+// draws exactly what q.NormFloat64() draws.
+func NormFast(u uint64) (float64, bool) {
+	j := int32(u)
+	i := u >> 32 & 0x7F
+	return float64(j) * float64(wn[i]), absInt32(j) < kn[i]
+}
+
+// NormFrom finishes the normal draw whose first 64 bits u missed the fast
+// path (NormFast returned false): the base strip's tail, the wedge test,
+// and further tries, drawing more from p as they need.
+func (p *PCG) NormFrom(u uint64) float64 {
 	const rn = 3.442619855899 // the base strip's right edge
 	for {
 		j := int32(u)
@@ -97,22 +111,27 @@ func (p *PCG) normSlow(u uint64) float64 {
 
 // ExpFloat64 returns a standard exponential value (rate 1) by the
 // ziggurat method, the same value rand.Rand's ExpFloat64 returns from the
-// same state. The fast path inlines; the rest is expSlow.
+// same state.
 func (p *PCG) ExpFloat64() float64 {
 	u := p.Uint64()
-	j := uint32(u)
-	i := uint8(u >> 32)
-	if j < ke[i] {
-		return float64(j) * float64(we[i])
+	if x, ok := ExpFast(u); ok {
+		return x
 	}
-	return p.expSlow(u)
+	return p.ExpFrom(u)
 }
 
-// expSlow finishes the exponential draw whose first 64 bits u missed the
-// fast path.
-//
-//go:noinline
-func (p *PCG) expSlow(u uint64) float64 {
+// ExpFast is the exponential ziggurat's fast path, as NormFast is the
+// normal's: the value and true when the 64 bits u fall inside their
+// layer's rectangle (about 98% of draws), else false.
+func ExpFast(u uint64) (float64, bool) {
+	j := uint32(u)
+	i := uint8(u >> 32)
+	return float64(j) * float64(we[i]), j < ke[i]
+}
+
+// ExpFrom finishes the exponential draw whose first 64 bits u missed the
+// fast path (ExpFast returned false).
+func (p *PCG) ExpFrom(u uint64) float64 {
 	const re = 7.69711747013104972 // the base strip's right edge
 	for {
 		j := uint32(u)

@@ -7,23 +7,24 @@ import (
 
 // Every method agrees with math/rand/v2's Rand over a *rand.PCG, draw for
 // draw, for several seeds and an interleaving of methods chosen at
-// random (so each method also leaves the state where the library's
-// leaves it). 4·10⁶ draws a seed reach the ziggurats' slow paths (about
-// 1.2% of normal and 1.0% of exponential draws) tens of thousands of
-// times, the base strips' tails hundreds of times.
+// random, the fast-path-and-finish form of the hot loops included (so
+// each method also leaves the state where the library's leaves it). With
+// 4·10⁶ draws a seed the split forms alone reach the ziggurats' slow
+// paths tens of thousands of times (counted below).
 func TestSameDrawsAsTheLibrary(t *testing.T) {
 	draws := 4_000_000
 	if testing.Short() {
 		draws = 200_000
 	}
 	seeds := [][2]uint64{{0, 0}, {1, 2}, {6060, 17}, {^uint64(0), 12345}, {0x9e3779b97f4a7c15, 0xbf58476d1ce4e5b9}}
+	normSlow, expSlow := 0, 0 // split-form draws that took the slow path
 	for _, seed := range seeds {
 		lib := rand.New(rand.NewPCG(seed[0], seed[1]))
 		mine := New(seed[0], seed[1])
 		pick := rand.New(rand.NewPCG(seed[1], 99))
 		for i := range draws {
 			var got, want float64
-			m := pick.IntN(4)
+			m := pick.IntN(6)
 			switch m {
 			case 0:
 				got, want = float64(mine.Uint64()>>11), float64(lib.Uint64()>>11)
@@ -33,6 +34,22 @@ func TestSameDrawsAsTheLibrary(t *testing.T) {
 				got, want = mine.NormFloat64(), lib.NormFloat64()
 			case 3:
 				got, want = mine.ExpFloat64(), lib.ExpFloat64()
+			case 4: // the split form of the hot loops
+				u := mine.Uint64()
+				z, ok := NormFast(u)
+				if !ok {
+					z = mine.NormFrom(u)
+					normSlow++
+				}
+				got, want = z, lib.NormFloat64()
+			case 5:
+				u := mine.Uint64()
+				x, ok := ExpFast(u)
+				if !ok {
+					x = mine.ExpFrom(u)
+					expSlow++
+				}
+				got, want = x, lib.ExpFloat64()
 			}
 			if got != want {
 				t.Fatalf("seed %v, draw %d (method %d): %v, want %v", seed, i, m, got, want)
@@ -44,6 +61,12 @@ func TestSameDrawsAsTheLibrary(t *testing.T) {
 				t.Fatalf("seed %v, final draw %d: %#x, want %#x", seed, i, a, b)
 			}
 		}
+	}
+	// The slow paths were reached often (a fast path that accepted
+	// everything would fail the comparison, but say so plainly).
+	t.Logf("slow paths of the split form: normal %d, exponential %d", normSlow, expSlow)
+	if !testing.Short() && (normSlow < 10000 || expSlow < 10000) {
+		t.Errorf("slow paths reached %d (normal) and %d (exponential) times, want at least 10000 each", normSlow, expSlow)
 	}
 }
 
@@ -96,7 +119,53 @@ func BenchmarkDraws(b *testing.B) {
 			}
 			sink = s
 		})
+		if c.name == "Float64" {
+			continue
+		}
+		b.Run(c.name+"/PCG_fast_path_in_locals", func(b *testing.B) {
+			p := New(1, 2)
+			var s float64
+			for b.Loop() {
+				s += localSum(p, n, c.name)
+			}
+			sink = s
+		})
 	}
+}
+
+// localSum draws as the hottest samplers do: the generator's state in a
+// local (so it can live in registers), the ziggurat's fast path inlined,
+// the state written back around the rare slow path.
+//
+//go:noinline
+func localSum(p *PCG, n int, method string) (s float64) {
+	q := *p
+	switch method {
+	case "NormFloat64":
+		for range n {
+			u := q.Uint64()
+			z, ok := NormFast(u)
+			if !ok {
+				*p = q
+				z = p.NormFrom(u)
+				q = *p
+			}
+			s += z
+		}
+	case "ExpFloat64":
+		for range n {
+			u := q.Uint64()
+			x, ok := ExpFast(u)
+			if !ok {
+				*p = q
+				x = p.ExpFrom(u)
+				q = *p
+			}
+			s += x
+		}
+	}
+	*p = q
+	return s
 }
 
 // libSum and mineSum call the methods directly (not through a func
