@@ -13,6 +13,8 @@
 //     estimators (drawing, fitting, Fisher information, O(1/n) bias),
 //     fits of another family's data (pseudo-true θ*, sandwich) and
 //     censored lifetimes.
+//   - [deltaprobe/sim/stream]: the generator every sampler draws from
+//     (math/rand/v2's PCG and ziggurat, bit for bit, inlinable).
 //   - [deltaprobe/sim/regress]: logistic, Poisson and linear regressions
 //     on a declared covariate design, and chains of equations.
 //   - [deltaprobe/sim/expr]: the transform language, with exact derivatives.

@@ -83,13 +83,20 @@ func drawEndOnly(rng *stream.PCG, n int, rate, end float64) (events, time float6
 	lb := math.Float64bits(limit)
 	var sum float64
 	var censored uint64
+	q := *rng // the generator in a local, so its state stays in registers
 	for range n {
-		eb := math.Float64bits(rng.ExpFloat64())
+		u := q.Uint64()
+		e, ok := stream.ExpFast(u)
+		if !ok {
+			e, q = stream.ExpFrom(q, u)
+		}
+		eb := math.Float64bits(e)
 		over := (lb - eb) >> 63 // 1 when the draw passes the limit
 		mask := -over
 		censored += over
 		sum += math.Float64frombits(eb&^mask | lb&mask)
 	}
+	*rng = q
 	return float64(uint64(n) - censored), sum / rate
 }
 
@@ -107,9 +114,15 @@ func drawEntryDropout(rng *stream.PCG, n int, mu, end, entry, pLife float64) (ev
 	threshold := uint64(math.Ceil(pLife * (1 << 32)))
 	var count uint64
 	var sum float64
+	q := *rng // as in drawEndOnly
 	for range n {
-		yb := math.Float64bits(rng.ExpFloat64())
-		u := rng.Uint64()
+		e := q.Uint64()
+		y, ok := stream.ExpFast(e)
+		if !ok {
+			y, q = stream.ExpFrom(q, e)
+		}
+		yb := math.Float64bits(y)
+		u := q.Uint64()
 		cb := math.Float64bits(endMu - step*float64(u>>32))
 		over := (cb - yb) >> 63 // 1 when censored: y > c
 		life := ((u & 0xffffffff) - threshold) >> 63
@@ -117,6 +130,7 @@ func drawEntryDropout(rng *stream.PCG, n int, mu, end, entry, pLife float64) (ev
 		mask := -over
 		sum += math.Float64frombits(yb&^mask | cb&mask)
 	}
+	*rng = q
 	return float64(count), sum / mu
 }
 

@@ -53,21 +53,23 @@ func (p *PCG) Float64() float64 { return float64(p.Uint64()<<11>>11) / (1 << 53)
 // same value rand.Rand's NormFloat64 returns from the same state.
 func (p *PCG) NormFloat64() float64 {
 	u := p.Uint64()
-	if z, ok := NormFast(u); ok {
-		return z
+	z, ok := NormFast(u)
+	if !ok {
+		z, *p = NormFrom(*p, u)
 	}
-	return p.NormFrom(u)
+	return z
 }
 
 // NormFast is the normal ziggurat's fast path: for 64 random bits u it
 // returns the normal value and true when u falls inside its layer's
 // rectangle (about 97% of draws), else false. It inlines, so a hot
-// loop can keep the generator's state in locals:
+// loop can keep the generator in a local q, whose state then stays in
+// registers:
 //
 //	u := q.Uint64()
 //	z, ok := stream.NormFast(u)
 //	if !ok {
-//		z = q.NormFrom(u)
+//		z, q = stream.NormFrom(q, u)
 //	}
 //
 // draws exactly what q.NormFloat64() draws.
@@ -79,33 +81,35 @@ func NormFast(u uint64) (float64, bool) {
 
 // NormFrom finishes the normal draw whose first 64 bits u missed the fast
 // path (NormFast returned false): the base strip's tail, the wedge test,
-// and further tries, drawing more from p as they need.
-func (p *PCG) NormFrom(u uint64) float64 {
+// and further tries, drawing more from the generator q as they need. It
+// takes and returns the generator by value, so a caller's copy need not
+// live in memory.
+func NormFrom(q PCG, u uint64) (float64, PCG) {
 	const rn = 3.442619855899 // the base strip's right edge
 	for {
 		j := int32(u)
 		i := u >> 32 & 0x7F
 		x := float64(j) * float64(wn[i])
 		if absInt32(j) < kn[i] {
-			return x
+			return x, q
 		}
 		if i == 0 {
 			for {
-				x = -math.Log(p.Float64()) * (1.0 / rn)
-				y := -math.Log(p.Float64())
+				x = -math.Log(q.Float64()) * (1.0 / rn)
+				y := -math.Log(q.Float64())
 				if y+y >= x*x {
 					break
 				}
 			}
 			if j > 0 {
-				return rn + x
+				return rn + x, q
 			}
-			return -rn - x
+			return -rn - x, q
 		}
-		if fn[i]+float32(p.Float64())*(fn[i-1]-fn[i]) < float32(math.Exp(-.5*x*x)) {
-			return x
+		if fn[i]+float32(q.Float64())*(fn[i-1]-fn[i]) < float32(math.Exp(-.5*x*x)) {
+			return x, q
 		}
-		u = p.Uint64()
+		u = q.Uint64()
 	}
 }
 
@@ -114,10 +118,11 @@ func (p *PCG) NormFrom(u uint64) float64 {
 // same state.
 func (p *PCG) ExpFloat64() float64 {
 	u := p.Uint64()
-	if x, ok := ExpFast(u); ok {
-		return x
+	x, ok := ExpFast(u)
+	if !ok {
+		x, *p = ExpFrom(*p, u)
 	}
-	return p.ExpFrom(u)
+	return x
 }
 
 // ExpFast is the exponential ziggurat's fast path, as NormFast is the
@@ -130,23 +135,23 @@ func ExpFast(u uint64) (float64, bool) {
 }
 
 // ExpFrom finishes the exponential draw whose first 64 bits u missed the
-// fast path (ExpFast returned false).
-func (p *PCG) ExpFrom(u uint64) float64 {
+// fast path (ExpFast returned false), as NormFrom does the normal's.
+func ExpFrom(q PCG, u uint64) (float64, PCG) {
 	const re = 7.69711747013104972 // the base strip's right edge
 	for {
 		j := uint32(u)
 		i := uint8(u >> 32)
 		x := float64(j) * float64(we[i])
 		if j < ke[i] {
-			return x
+			return x, q
 		}
 		if i == 0 {
-			return re - math.Log(p.Float64())
+			return re - math.Log(q.Float64()), q
 		}
-		if fe[i]+float32(p.Float64())*(fe[i-1]-fe[i]) < float32(math.Exp(-x)) {
-			return x
+		if fe[i]+float32(q.Float64())*(fe[i-1]-fe[i]) < float32(math.Exp(-x)) {
+			return x, q
 		}
-		u = p.Uint64()
+		u = q.Uint64()
 	}
 }
 
