@@ -35,11 +35,26 @@ func (*exponentialModel) SampleLen(int) int { return 1 }
 
 // Draw keeps the sum of n standard exponential draws.
 func (*exponentialModel) Draw(rng *stream.PCG, n int, s *Sample) {
-	var sum float64
+	s.N, s.Data[0] = n, sumStdExponentials(rng, n)
+}
+
+// sumStdExponentials draws n standard exponentials and returns their sum,
+// as sumStdNormals does the normals: rng.ExpFloat64()'s draws, with the
+// generator in a local and the ziggurat's fast path inlined.
+//
+//go:noinline
+func sumStdExponentials(rng *stream.PCG, n int) (sum float64) {
+	q := *rng
 	for range n {
-		sum += rng.ExpFloat64()
+		u := q.Uint64()
+		e, ok := stream.ExpFast(u)
+		if !ok {
+			e, q = stream.ExpFrom(q, u)
+		}
+		sum += e
 	}
-	s.N, s.Data[0] = n, sum
+	*rng = q
+	return sum
 }
 
 // Events: every lifetime is seen.
