@@ -1,8 +1,9 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 func init() {

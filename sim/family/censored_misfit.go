@@ -1,10 +1,11 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
 	"strings"
+
+	"deltaprobe/sim/stream"
 )
 
 // Fits of censored lifetimes by another lifetime family: the exponential

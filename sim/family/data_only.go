@@ -1,8 +1,9 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 // The data-only families: drawn from, never fitted. A study names the

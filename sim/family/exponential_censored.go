@@ -1,9 +1,10 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 // newCensoredExponential is the exponential family's Censor: lifetimes of

@@ -1,9 +1,10 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 // The gamma fit of data from a law of positive values that is not

@@ -1,12 +1,13 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"math"
 	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"deltaprobe/sim/stream"
 )
 
 // testRand returns a generator with a fixed seed, so every Monte Carlo

@@ -1,8 +1,9 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 // Support is the set of values one observation of a data family takes;

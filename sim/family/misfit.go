@@ -1,8 +1,9 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 // The poisson, exponential and normal fits of data from any law whose

@@ -1,10 +1,11 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
 	"slices"
+
+	"deltaprobe/sim/stream"
 )
 
 func init() {

@@ -1,8 +1,9 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 func init() {
@@ -56,7 +57,8 @@ func (*normalModel) Draw(rng *stream.PCG, n int, s *Sample) {
 // the loop inside the fit, θ's slice, the mean and the sd: measured 4–5%
 // slower per draw). The generator's state is copied to a local, so it
 // stays in registers, and the ziggurat's fast path is inlined
-// (stream.NormFast); the rare slow path takes and returns it by value. The draws are rng.NormFloat64()'s, value for value.
+// (stream.NormFast); the rare slow path takes and returns it by value.
+// The draws are rng.NormFloat64()'s, value for value.
 //
 //go:noinline
 func sumStdNormals(rng *stream.PCG, n int) (s1, s2 float64) {

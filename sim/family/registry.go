@@ -1,10 +1,11 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"sort"
 	"strings"
+
+	"deltaprobe/sim/stream"
 )
 
 // Sample is one replicate's data as a Sampler leaves it for a Fitter: the

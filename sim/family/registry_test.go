@@ -1,7 +1,6 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"errors"
 	"fmt"
 	"math"
@@ -9,6 +8,8 @@ import (
 	"strings"
 	"sync"
 	"testing"
+
+	"deltaprobe/sim/stream"
 )
 
 // contractCase is one family's study-file contract: its name, the

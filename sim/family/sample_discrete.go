@@ -1,10 +1,11 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
 	"math/bits"
+
+	"deltaprobe/sim/stream"
 )
 
 // maxTableLen bounds an inversion table; 2²⁰ entries take 12 MiB with the

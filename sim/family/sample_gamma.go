@@ -1,8 +1,9 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 // gammaGen draws Gamma(shape, 1) variates by the squeeze-and-reject method

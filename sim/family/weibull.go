@@ -1,9 +1,10 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
+
+	"deltaprobe/sim/stream"
 )
 
 func init() {

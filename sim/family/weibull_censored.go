@@ -1,11 +1,12 @@
 package family
 
 import (
-	"deltaprobe/sim/stream"
 	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/integrate/quad"
+
+	"deltaprobe/sim/stream"
 )
 
 // newCensoredWeibull is the Weibull family's Censor: lifetimes with
