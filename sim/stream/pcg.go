@@ -45,7 +45,7 @@ func (p *PCG) Uint64() uint64 {
 	return hi
 }
 
-// Float64 returns a uniform value in [0, 1): the top 53 bits of Uint64
+// Float64 returns a uniform value in [0, 1): the low 53 bits of Uint64
 // over 2⁵³, as rand.Rand's Float64.
 func (p *PCG) Float64() float64 { return float64(p.Uint64()<<11>>11) / (1 << 53) }
 
