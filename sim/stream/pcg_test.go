@@ -165,7 +165,10 @@ func localSum(p *PCG, n int, method string) (s float64) {
 }
 
 // libSum and mineSum call the methods directly (not through a func
-// value), as the samplers do, so the compiler may inline them.
+// value), as the samplers do, so the compiler may inline them. They are
+// two copies on purpose: one generic function would share a single
+// instantiation for both pointer types and call through a dictionary,
+// which is the indirect call this package exists to avoid.
 //
 //go:noinline
 func libSum(r *rand.Rand, n int, method string) (s float64) {
